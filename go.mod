@@ -1,0 +1,16 @@
+module benchtender
+
+go 1.26.8
+
+require (
+	github.com/fsnotify/fsnotify v1.10.1
+	github.com/rs/zerolog v1.35.1
+	gonum.org/v1/gonum v0.17.0
+)
+
+require (
+	github.com/mattn/go-colorable v0.1.14 // indirect
+	github.com/mattn/go-isatty v0.0.20 // indirect
+	golang.org/x/sys v0.30.0 // indirect
+	golang.org/x/tools v0.30.0 // indirect
+)

@@ -1,0 +1,15 @@
+// Package gp is a Gaussian-process regression model: a Matérn 5/2 kernel
+// with one length-scale per input, a signal variance and Gaussian noise,
+// fitted by maximising the log marginal likelihood (plus weak priors) with
+// analytic gradients and L-BFGS from several starts.
+//
+// Inputs are expected in the unit box and the model standardises the
+// response itself. The package does no I/O and keeps no global state; every
+// random choice takes an explicit source. It must never return a NaN as a
+// prediction: a model that cannot be factorised is an error.
+//
+// References: C. E. Rasmussen and C. K. I. Williams (2006), Gaussian
+// Processes for Machine Learning, MIT Press: eq. 4.17 (Matérn class),
+// Algorithm 2.1 (prediction and log marginal likelihood) and eq. 5.9
+// (gradient of the log marginal likelihood).
+package gp

@@ -1,0 +1,90 @@
+package gp
+
+import (
+	"math"
+	"math/rand/v2"
+	"testing"
+)
+
+func randomData(rng *rand.Rand, n, d int, f func([]float64) float64, noise float64) ([][]float64, []float64) {
+	x := make([][]float64, n)
+	y := make([]float64, n)
+	for i := range x {
+		x[i] = make([]float64, d)
+		for k := range x[i] {
+			x[i][k] = rng.Float64()
+		}
+		y[i] = f(x[i]) + noise*rng.NormFloat64()
+	}
+	return x, y
+}
+
+func wave(x []float64) float64 {
+	s := 0.0
+	for k, v := range x {
+		s += math.Sin(3*v+float64(k)) * float64(k+1)
+	}
+	return s
+}
+
+// The analytic gradient of the objective must agree with central finite
+// differences (step 1e-6, tolerance 1e-4 relative to the gradient's size).
+func TestGradientMatchesFiniteDifferences(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	for _, d := range []int{1, 3, 6} {
+		x, y := randomData(rng, 25, d, wave, 0.05)
+		mean, scale := standardise(y)
+		z := make([]float64, len(y))
+		for i := range y {
+			z[i] = (y[i] - mean) / scale
+		}
+		o := newObjective(x, z, 1e-6)
+		for trial := 0; trial < 3; trial++ {
+			th := make([]float64, d+2)
+			for k := range th {
+				th[k] = -1.5 + rng.Float64()
+			}
+			g := make([]float64, d+2)
+			o.eval(th, g)
+			const h = 1e-6
+			for k := range th {
+				tp := append([]float64(nil), th...)
+				tm := append([]float64(nil), th...)
+				tp[k] += h
+				tm[k] -= h
+				fd := (o.eval(tp, nil) - o.eval(tm, nil)) / (2 * h)
+				if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
+					t.Errorf("d=%d θ[%d]: analytic %.8g, finite difference %.8g", d, k, g[k], fd)
+				}
+			}
+		}
+	}
+}
+
+// A fit on smooth data predicts held-out points well and does so with a
+// variance that shrinks at the data.
+func TestFitPredicts(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	x, y := randomData(rng, 40, 2, wave, 0)
+	m, err := Fit(x, y, FitOptions{Starts: 2, Rand: rng})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var se float64
+	for i := 0; i < 200; i++ {
+		p := []float64{rng.Float64(), rng.Float64()}
+		mu, v := m.Predict(p)
+		if math.IsNaN(mu) || v < 0 {
+			t.Fatalf("prediction %v %v", mu, v)
+		}
+		se += (mu - wave(p)) * (mu - wave(p))
+	}
+	rmse := math.Sqrt(se / 200)
+	if rmse > 0.05 {
+		t.Errorf("held-out RMSE %.3g, want below 0.05 (range of the function ≈ 4)", rmse)
+	}
+	_, v := m.Predict(x[0])
+	if v > 1e-3 {
+		t.Errorf("variance at a data point %.3g, want near 0", v)
+	}
+}
