@@ -3,6 +3,7 @@ module benchtender
 go 1.26.8
 
 require (
+	github.com/BurntSushi/toml v1.6.0
 	github.com/fsnotify/fsnotify v1.10.1
 	github.com/rs/zerolog v1.35.1
 	gonum.org/v1/gonum v0.17.0

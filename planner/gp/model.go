@@ -232,4 +232,3 @@ func (m *Model) crossCov(dst []float64, x []float64) {
 		dst[i] = m.p.SignalVar * matern52(scaledDist(xi, x, m.invLen))
 	}
 }
-

@@ -1,0 +1,427 @@
+package agent
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"time"
+
+	"github.com/rs/zerolog"
+
+	"benchtender/campaign"
+	"benchtender/parsers"
+	"benchtender/planner"
+	"benchtender/planner/gp"
+	"benchtender/safety"
+	"benchtender/watch"
+)
+
+// Options are the agent's collaborators; zero values get defaults.
+type Options struct {
+	Logger zerolog.Logger
+	// Registry holds the parser formats (parsers.Default() when nil).
+	Registry *parsers.Registry
+	// Now is the clock (time.Now when nil).
+	Now func() time.Time
+	// Notify, when set, is called with every journal entry after it is
+	// written, from the agent's goroutine; it must not block for long.
+	Notify func(Entry)
+	// Tick is how often the sign-off inbox is read (default 1 s).
+	Tick time.Duration
+}
+
+// Agent runs one campaign.
+type Agent struct {
+	cfg     Config
+	opt     Options
+	log     zerolog.Logger
+	parser  parsers.Parser
+	planner *planner.Planner
+
+	journal *Journal
+	state   *State
+	warm    *gp.Params
+
+	refusals   int       // consecutive gate refusals
+	planAfter  time.Time // earliest next planning attempt after an error
+	planErrs   int
+	writeAfter time.Time // earliest next handoff attempt after an error
+	writeErrs  int
+	budgetSaid bool
+}
+
+// New checks the configuration and builds an agent; it touches no file.
+func New(cfg Config, opt Options) (*Agent, error) {
+	if opt.Registry == nil {
+		opt.Registry = parsers.Default()
+	}
+	if opt.Now == nil {
+		opt.Now = time.Now
+	}
+	if opt.Tick <= 0 {
+		opt.Tick = time.Second
+	}
+	if err := cfg.Validate(opt.Registry).Err(); err != nil {
+		return nil, fmt.Errorf("agent: invalid config: %w", err)
+	}
+	p, err := opt.Registry.New(cfg.Instrument.Parser)
+	if err != nil {
+		return nil, fmt.Errorf("agent: parser: %w", err)
+	}
+	return &Agent{
+		cfg: cfg, opt: opt, parser: p,
+		log:     opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
+		planner: planner.New(cfg.Campaign, cfg.Planner),
+	}, nil
+}
+
+// Run works the campaign until ctx is cancelled (then it returns nil) or
+// the journal can no longer be written (then it returns the error: nothing
+// may go on without a record).
+func (a *Agent) Run(ctx context.Context) error {
+	if err := a.open(); err != nil {
+		return err
+	}
+	defer a.journal.Close()
+
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	w, err := watch.New(a.cfg.Instrument.Watch, a.opt.Logger, a.opt.Now)
+	if err != nil {
+		return fmt.Errorf("agent: %w", err)
+	}
+	files := make(chan watch.File)
+	watchDone := make(chan error, 1)
+	go func() { watchDone <- w.Run(ctx, files) }()
+	defer func() { cancel(); <-watchDone }()
+
+	tick := time.NewTicker(a.opt.Tick)
+	defer tick.Stop()
+	a.log.Info().Int("runs", len(a.state.Order)).Int("handoffs", a.state.Handoffs).
+		Str("export_dir", a.cfg.Instrument.Watch.Dir).Str("handoff_dir", a.cfg.Instrument.HandoffDir).Msg("campaign started")
+	for {
+		if err := a.step(ctx); err != nil {
+			return err
+		}
+		select {
+		case <-ctx.Done():
+			a.log.Info().Msg("stopping")
+			return nil
+		case f := <-files:
+			if err := a.ingest(f.Path); err != nil {
+				return err
+			}
+		case <-tick.C:
+		}
+	}
+}
+
+// open prepares the state folder, replays the journal and sweeps temp
+// files left by a crash.
+func (a *Agent) open() error {
+	sd := a.cfg.Campaign.StateDir
+	if err := os.MkdirAll(sd, 0o755); err != nil {
+		return fmt.Errorf("agent: state folder: %w", err)
+	}
+	if fi, err := os.Stat(a.cfg.Instrument.HandoffDir); err != nil || !fi.IsDir() {
+		return fmt.Errorf("agent: handoff folder %s does not exist or is not a folder", a.cfg.Instrument.HandoffDir)
+	}
+	j, entries, cut, err := OpenJournal(journalPath(sd))
+	if err != nil {
+		return fmt.Errorf("agent: %w", err)
+	}
+	if cut > 0 {
+		a.log.Warn().Int64("bytes", cut).Msg("journal ended in a torn record (a write cut short by a crash); cut it off")
+	}
+	a.journal, a.state = j, Replay(entries)
+	for _, dir := range []string{a.cfg.Instrument.HandoffDir, sd, inboxDir(sd), filepath.Join(sd, "quarantine")} {
+		removed, err := sweepTemp(dir)
+		if err != nil && !errors.Is(err, os.ErrNotExist) {
+			a.log.Warn().Err(err).Str("dir", dir).Msg("cannot sweep temp files")
+		}
+		for _, n := range removed {
+			a.log.Info().Str("file", filepath.Join(dir, n)).Msg("removed a temp file left by an earlier run")
+		}
+	}
+	return nil
+}
+
+// record appends an entry, updates the state and tells Notify.
+func (a *Agent) record(e Entry) error {
+	e.Time = a.opt.Now().UTC()
+	e, err := a.journal.Append(e)
+	if err != nil {
+		a.log.Error().Err(err).Msg("journal write failed; stopping so that nothing happens unrecorded")
+		return fmt.Errorf("agent: %w", err)
+	}
+	a.state.apply(e)
+	if a.opt.Notify != nil {
+		a.opt.Notify(e)
+	}
+	return nil
+}
+
+// step applies sign-offs, hands off cleared runs and plans the next one.
+func (a *Agent) step(ctx context.Context) error {
+	if err := a.applySignoffs(); err != nil {
+		return err
+	}
+	if err := a.handoffReady(); err != nil {
+		return err
+	}
+	return a.plan(ctx)
+}
+
+// ingest reads one settled result file and records it.
+func (a *Agent) ingest(path string) error {
+	log := a.log.With().Str("file", path).Logger()
+	data, err := os.ReadFile(path)
+	if err != nil {
+		// Gone or unreadable now; a later scan will offer it again.
+		log.Warn().Err(err).Msg("cannot read result file")
+		return nil
+	}
+	sum := sha256.Sum256(data)
+	sha := hex.EncodeToString(sum[:])
+	if a.state.Hashes[sha] {
+		log.Debug().Str("sha256", sha).Msg("content already in the journal")
+		return nil
+	}
+	rec, err := a.parser.Parse(path, data)
+	if err != nil {
+		return a.refuseFile(path, sha, data, err.Error())
+	}
+	for _, w := range rec.Warnings {
+		log.Warn().Str("run", rec.RunID).Msg(w)
+	}
+	val := rec.Responses[a.cfg.Campaign.Response.Name]
+	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number}
+	if !campaign.ValidRunID(rec.RunID) {
+		return a.refuseFile(path, sha, data, fmt.Sprintf("run id %q is not usable (letters, digits, '_', '.', '-'; at most 64)", rec.RunID))
+	}
+	r, known := a.state.Runs[rec.RunID]
+	switch {
+	case known && (r.Status == StatusHanded || r.Status == StatusDone || r.Status == StatusFailed):
+		if r.Status != StatusHanded {
+			log.Info().Str("run", r.ID).Msg("new content for a run already ingested; keeping both, the latest counts")
+		}
+	case known:
+		return a.refuseFile(path, sha, data, fmt.Sprintf("run %s was never handed off (it is %s)", rec.RunID, r.Status))
+	default:
+		pt, ok := a.pointFrom(rec)
+		if !ok {
+			return a.refuseFile(path, sha, data, fmt.Sprintf("run %s was not handed off by this campaign and the file gives no value for every factor", rec.RunID))
+		}
+		e.Point = pt
+	}
+	if err := a.record(e); err != nil {
+		return err
+	}
+	log.Info().Str("run", rec.RunID).Float64(a.cfg.Campaign.Response.Name, val.Number).
+		Int("line", val.Line).Int("column", val.Column).Msg("result ingested")
+	return nil
+}
+
+// pointFrom takes a setpoint from the factor columns of a record.
+func (a *Agent) pointFrom(rec parsers.Record) (campaign.Point, bool) {
+	pt := make(campaign.Point, a.cfg.Campaign.Factors.Dim())
+	for i, f := range a.cfg.Campaign.Factors {
+		v, ok := rec.Factors[f.Name]
+		if !ok {
+			return nil, false
+		}
+		pt[i] = v.Number
+	}
+	return pt, pt.Finite()
+}
+
+// refuseFile quarantines a result file and records why.
+func (a *Agent) refuseFile(path, sha string, data []byte, reason string) error {
+	dir := filepath.Join(a.cfg.Campaign.StateDir, "quarantine")
+	cp, err := quarantine(dir, path, sha, data, reason, a.opt.Now())
+	if err != nil {
+		// Not recorded, so a later scan offers the file again.
+		a.log.Error().Err(err).Str("file", path).Msg("cannot quarantine result file")
+		return nil
+	}
+	a.log.Warn().Str("file", path).Str("copy", cp).Str("reason", reason).Msg("result file quarantined")
+	return a.record(Entry{Kind: KindQuarantine, File: path, SHA256: sha, Reason: reason, Copy: cp})
+}
+
+// applySignoffs applies the decisions left in the inbox.
+func (a *Agent) applySignoffs() error {
+	items, err := pendingSignoffs(a.cfg.Campaign.StateDir)
+	if err != nil {
+		a.log.Warn().Err(err).Msg("cannot read the sign-off inbox")
+		return nil
+	}
+	for _, it := range items {
+		log := a.log.With().Str("request", it.path).Logger()
+		switch r, ok := a.state.Runs[it.req.Run]; {
+		case it.err != nil:
+			log.Warn().Err(it.err).Msg("sign-off request is not valid; set aside")
+		case !ok || r.Status != StatusHeld:
+			status := "unknown"
+			if ok {
+				status = r.Status
+			}
+			log.Warn().Str("run", it.req.Run).Str("status", status).Msg("sign-off for a run that is not held; set aside")
+		default:
+			if it.req.Action == ActionApprove {
+				// The gate checks the move again: limits may have
+				// changed since it was held.
+				if d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, campaign.Setpoint{RunID: r.ID, Point: r.Point}); d.Verdict == safety.Refuse {
+					log.Error().Str("run", r.ID).Str("gate", d.Summary()).Msg("approval refused: the move now crosses a hard limit")
+					break
+				}
+			}
+			if err := a.record(Entry{Kind: KindSignoff, Run: it.req.Run, Action: it.req.Action, By: it.req.By, Reason: it.req.Reason}); err != nil {
+				return err
+			}
+			log.Info().Str("run", it.req.Run).Str("action", it.req.Action).Str("by", it.req.By).Str("reason", it.req.Reason).Msg("sign-off applied")
+		}
+		if err := os.Remove(it.path); err != nil {
+			log.Warn().Err(err).Msg("cannot remove sign-off request")
+		}
+	}
+	return nil
+}
+
+// handoffReady writes the setpoint file of every run cleared for handoff.
+func (a *Agent) handoffReady() error {
+	if a.opt.Now().Before(a.writeAfter) {
+		return nil
+	}
+	for _, r := range a.state.Ready() {
+		sp := campaign.Setpoint{RunID: r.ID, Point: r.Point}
+		// Gate once more right before writing: fail closed.
+		if d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, sp); d.Verdict == safety.Refuse {
+			a.log.Error().Str("run", r.ID).Str("gate", d.Summary()).Msg("not handed off: the gate refuses it")
+			continue
+		}
+		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
+		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, a.cfg.Instrument.HandoffFormat)
+		if err == nil {
+			err = writeFileAtomic(a.cfg.Instrument.HandoffDir, name, data, 0o644)
+		}
+		if err != nil {
+			a.writeErrs++
+			a.writeAfter = a.opt.Now().Add(backoff(a.writeErrs))
+			a.log.Error().Err(err).Str("run", r.ID).Dur("retry_in", backoff(a.writeErrs)).Msg("handoff failed; no setpoint written")
+			return nil
+		}
+		a.writeErrs = 0
+		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
+		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point}); err != nil {
+			return err
+		}
+		a.log.Info().Str("run", r.ID).Str("file", path).Interface("setpoint", named(a.cfg.Campaign.Factors, r.Point)).Msg("setpoint handed off")
+	}
+	return nil
+}
+
+// spent counts the runs that use up the budget: every proposal that was
+// not rejected or refused.
+func (a *Agent) spent() int {
+	n := 0
+	for _, r := range a.state.Runs {
+		if r.Status != StatusRejected && r.Status != StatusRefused && !r.External {
+			n++
+		}
+	}
+	return n
+}
+
+// maxRefusals is how many proposals in a row the gate may refuse before
+// the agent stops proposing: the factor box and the limits disagree.
+const maxRefusals = 3
+
+// plan proposes the next run when nothing is in flight, held or ready.
+func (a *Agent) plan(ctx context.Context) error {
+	st := a.state
+	if len(st.InFlight()) > 0 || len(st.Held()) > 0 || len(st.Ready()) > 0 {
+		return nil
+	}
+	if a.spent() >= a.cfg.Campaign.MaxRuns {
+		if !a.budgetSaid {
+			a.budgetSaid = true
+			a.log.Info().Int("max_runs", a.cfg.Campaign.MaxRuns).Msg("budget spent; no more proposals")
+		}
+		return nil
+	}
+	if a.refusals >= maxRefusals || a.opt.Now().Before(a.planAfter) {
+		return nil
+	}
+	start := a.opt.Now()
+	id := fmt.Sprintf("R%04d", st.Proposals+1)
+	res, err := a.propose(ctx, id)
+	if err != nil {
+		if ctx.Err() != nil {
+			return nil
+		}
+		a.planErrs++
+		a.planAfter = a.opt.Now().Add(backoff(a.planErrs))
+		a.log.Error().Err(err).Dur("retry_in", backoff(a.planErrs)).Msg("planning failed; no setpoint written")
+		return nil
+	}
+	a.planErrs = 0
+	if res.Fit != nil {
+		a.warm = res.Fit
+	}
+	prop := res.Proposal
+	prop.Point = roundPoint(prop.Point)
+	d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, prop.Setpoint)
+	if err := a.record(Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d}); err != nil {
+		return err
+	}
+	ev := a.log.Info()
+	switch d.Verdict {
+	case safety.Refuse:
+		a.refusals++
+		ev = a.log.Error()
+		if a.refusals >= maxRefusals {
+			a.log.Error().Int("refusals", a.refusals).Msg("the gate refused several proposals in a row; proposals stopped until restart: check that the factor bounds lie inside the hard limits")
+		}
+	case safety.Hold:
+		a.refusals = 0
+		ev = a.log.Warn()
+	default:
+		a.refusals = 0
+	}
+	ev.Str("run", id).Str("method", prop.Method).Interface("setpoint", named(a.cfg.Campaign.Factors, prop.Point)).
+		Str("gate", d.Summary()).Dur("took", a.opt.Now().Sub(start)).Msg("proposal")
+	return nil
+}
+
+// propose asks the planner, turning a panic into an error: a bug in the
+// planner must not take the daemon down or write a setpoint.
+func (a *Agent) propose(ctx context.Context, id string) (res planner.Result, err error) {
+	defer func() {
+		if p := recover(); p != nil {
+			err = fmt.Errorf("planner panicked: %v", p)
+		}
+	}()
+	return a.planner.Propose(ctx, planner.Request{
+		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Avoid: a.state.Avoid(), Warm: a.warm,
+	})
+}
+
+// backoff is 2^(n-1) seconds, capped at five minutes.
+func backoff(n int) time.Duration {
+	d := time.Second << min(n-1, 9)
+	return min(d, 5*time.Minute)
+}
+
+func named(space campaign.Space, p campaign.Point) map[string]float64 {
+	m := make(map[string]float64, len(p))
+	for i, f := range space {
+		if i < len(p) {
+			m[f.Name] = p[i]
+		}
+	}
+	return m
+}

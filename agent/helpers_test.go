@@ -1,0 +1,174 @@
+package agent
+
+import (
+	"context"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/rs/zerolog"
+)
+
+// testCampaign is a folder with a config, an export folder and a handoff
+// folder, as an instrument PC would have them.
+type testCampaign struct {
+	dir, cfgPath string
+	cfg          Config
+}
+
+// baseConfig is a two-factor campaign read from semicolon files with a
+// preamble and decimal commas; extra is appended (TOML tables).
+const baseConfig = `
+[campaign]
+name = "t"
+state_dir = "state"
+seed = 7
+max_runs = %MAX%
+initial_runs = 3
+
+[[campaign.factor]]
+name = "temp"
+unit = "degC"
+min = 20.0
+max = 80.0
+
+[[campaign.factor]]
+name = "flow"
+unit = "mL/min"
+min = 1.0
+max = 5.0
+
+[campaign.response]
+name = "purity"
+unit = "%"
+goal = "maximise"
+
+[planner]
+candidates = 300
+refine = 2
+
+[instrument]
+name = "bench"
+handoff_dir = "handoff"
+handoff_format = "csv"
+
+[instrument.watch]
+dir = "exports"
+pattern = "*.csv"
+settle = "100ms"
+rescan = "200ms"
+
+[instrument.parser]
+delimiter = ";"
+decimal = ","
+skip_lines = 2
+run_id_source = "filename"
+run_id_pattern = "(R[0-9]+)"
+
+[instrument.parser.responses]
+purity = "Purity"
+
+[log]
+file = ""
+`
+
+const defaultLimits = `
+[safety.limits.temp]
+hard_min = 20.0
+hard_max = 80.0
+review_max = 75.0
+
+[safety.limits.flow]
+hard_min = 1.0
+hard_max = 5.0
+`
+
+func newTestCampaign(t *testing.T, maxRuns string, limits string) *testCampaign {
+	t.Helper()
+	dir := t.TempDir()
+	for _, d := range []string{"exports", "handoff"} {
+		if err := os.Mkdir(filepath.Join(dir, d), 0o755); err != nil {
+			t.Fatal(err)
+		}
+	}
+	text := strings.Replace(baseConfig, "%MAX%", maxRuns, 1) + limits
+	path := filepath.Join(dir, "c.toml")
+	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cfg, err := LoadConfig(path, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return &testCampaign{dir: dir, cfgPath: path, cfg: cfg}
+}
+
+// start runs an agent on the campaign and returns a channel of its journal
+// entries and a stop function that waits for it.
+func (tc *testCampaign) start(t *testing.T) (<-chan Entry, func()) {
+	t.Helper()
+	events := make(chan Entry, 1024)
+	a, err := New(tc.cfg, Options{Logger: zerolog.New(zerolog.NewTestWriter(t)), Tick: 50 * time.Millisecond,
+		Notify: func(e Entry) { events <- e }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- a.Run(ctx) }()
+	var once sync.Once
+	stop := func() {
+		once.Do(func() {
+			cancel()
+			if err := <-done; err != nil {
+				t.Errorf("agent: %v", err)
+			}
+		})
+	}
+	t.Cleanup(stop)
+	return events, stop
+}
+
+// waitFor reads entries until one satisfies ok, failing after 20 s.
+func waitFor(t *testing.T, events <-chan Entry, what string, ok func(Entry) bool) Entry {
+	t.Helper()
+	deadline := time.After(20 * time.Second)
+	for {
+		select {
+		case e := <-events:
+			if ok(e) {
+				return e
+			}
+		case <-deadline:
+			t.Fatalf("timed out waiting for %s", what)
+		}
+	}
+}
+
+func kind(k string) func(Entry) bool { return func(e Entry) bool { return e.Kind == k } }
+
+// writeResult writes a result file the way the test instrument does.
+func (tc *testCampaign) writeResult(t *testing.T, name, body string) string {
+	t.Helper()
+	path := filepath.Join(tc.dir, "exports", name)
+	if err := os.WriteFile(path, []byte(body), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+func resultFile(purity string) string {
+	return "Instrument: test bench\r\nDate: 01.12.2026\r\nSample;Purity;Unit\r\nx;" + purity + ";%\r\n"
+}
+
+func readJournalT(t *testing.T, tc *testCampaign) []Entry {
+	t.Helper()
+	es, err := ReadJournal(journalPath(tc.cfg.Campaign.StateDir))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return es
+}

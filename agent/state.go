@@ -1,0 +1,173 @@
+package agent
+
+import (
+	"time"
+
+	"benchtender/campaign"
+	"benchtender/safety"
+)
+
+// Run statuses.
+const (
+	StatusHeld     = "held"       // waiting for sign-off
+	StatusReady    = "ready"      // passed or approved, not yet handed off
+	StatusRejected = "rejected"   // a person rejected it
+	StatusRefused  = "refused"    // the gate refused it
+	StatusHanded   = "handed off" // setpoint written, result awaited
+	StatusDone     = "done"       // result ingested
+	StatusFailed   = "failed"     // the instrument reported no usable value
+)
+
+// Run is one run as the journal tells it.
+type Run struct {
+	ID       string
+	Point    campaign.Point
+	Method   string
+	Decision safety.Decision
+	Status   string
+	Proposed time.Time
+	// Value is the latest result, valid when Status is StatusDone.
+	Value float64
+	// Failed says why the instrument gave no value.
+	Failed string
+	// Files are the result files ingested for this run, oldest first.
+	Files []string
+	// SignedBy, SignReason record the sign-off, if any.
+	SignedBy, SignReason string
+	// External marks a run that came from a result file alone, not from
+	// a handoff of ours.
+	External bool
+}
+
+// State is the campaign as replayed from its journal.
+type State struct {
+	Runs      map[string]*Run
+	Order     []string        // run ids in the order first seen
+	Hashes    map[string]bool // content hashes already ingested or quarantined
+	Proposals int             // proposals made (the planner's index)
+	Handoffs  int             // setpoint files written
+}
+
+func newState() *State {
+	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}}
+}
+
+// Replay builds the state from journal entries.
+func Replay(entries []Entry) *State {
+	s := newState()
+	for _, e := range entries {
+		s.apply(e)
+	}
+	return s
+}
+
+func (s *State) run(id string) *Run {
+	r, ok := s.Runs[id]
+	if !ok {
+		r = &Run{ID: id}
+		s.Runs[id] = r
+		s.Order = append(s.Order, id)
+	}
+	return r
+}
+
+// apply folds one entry into the state.
+func (s *State) apply(e Entry) {
+	switch e.Kind {
+	case KindProposal:
+		s.Proposals++
+		r := s.run(e.Run)
+		r.Point, r.Method, r.Proposed = e.Point, e.Method, e.Time
+		if e.Decision != nil {
+			r.Decision = *e.Decision
+		}
+		switch r.Decision.Verdict {
+		case safety.Pass:
+			r.Status = StatusReady
+		case safety.Hold:
+			r.Status = StatusHeld
+		default:
+			r.Status = StatusRefused
+		}
+	case KindSignoff:
+		r := s.run(e.Run)
+		r.SignedBy, r.SignReason = e.By, e.Reason
+		if e.Action == ActionApprove {
+			r.Status = StatusReady
+		} else {
+			r.Status = StatusRejected
+		}
+	case KindHandoff:
+		s.Handoffs++
+		s.run(e.Run).Status = StatusHanded
+	case KindIngest:
+		s.Hashes[e.SHA256] = true
+		r := s.run(e.Run)
+		if r.Point == nil && len(e.Point) > 0 {
+			r.Point, r.External = e.Point, true
+		}
+		r.Files = append(r.Files, e.File)
+		if e.Failed != "" {
+			r.Status, r.Failed = StatusFailed, e.Failed
+		} else {
+			r.Status, r.Value, r.Failed = StatusDone, e.Value, ""
+		}
+	case KindQuarantine, KindDuplicate:
+		s.Hashes[e.SHA256] = true
+	}
+}
+
+// InFlight returns the runs handed off and still awaiting a result.
+func (s *State) InFlight() []*Run { return s.withStatus(StatusHanded) }
+
+// Held returns the runs waiting for sign-off.
+func (s *State) Held() []*Run { return s.withStatus(StatusHeld) }
+
+// Ready returns the runs cleared for handoff but not yet handed off.
+func (s *State) Ready() []*Run { return s.withStatus(StatusReady) }
+
+func (s *State) withStatus(st string) []*Run {
+	var out []*Run
+	for _, id := range s.Order {
+		if r := s.Runs[id]; r.Status == st {
+			out = append(out, r)
+		}
+	}
+	return out
+}
+
+// Trials returns the completed runs with a usable value.
+func (s *State) Trials() []campaign.Trial {
+	var out []campaign.Trial
+	for _, id := range s.Order {
+		if r := s.Runs[id]; r.Status == StatusDone && r.Point != nil {
+			out = append(out, campaign.Trial{Point: r.Point, Value: r.Value})
+		}
+	}
+	return out
+}
+
+// Avoid returns points the planner must not propose again: runs in flight,
+// held, ready, rejected, refused or failed.
+func (s *State) Avoid() []campaign.Point {
+	var out []campaign.Point
+	for _, id := range s.Order {
+		r := s.Runs[id]
+		if r.Point != nil && r.Status != StatusDone {
+			out = append(out, r.Point)
+		}
+	}
+	return out
+}
+
+// Best returns the best completed run, or nil.
+func (s *State) Best(resp campaign.Response) *Run {
+	var best *Run
+	for _, id := range s.Order {
+		r := s.Runs[id]
+		if r.Status == StatusDone && (best == nil || resp.Better(r.Value, best.Value)) {
+			best = r
+		}
+	}
+	return best
+}

@@ -1,0 +1,136 @@
+// Command benchtender runs closed-loop experiment campaigns on lab
+// instruments: it watches export folders for result files, fits a
+// surrogate, proposes the next setpoints, gates them and hands them off.
+//
+// Usage:
+//
+//	benchtender check CONFIG            validate a configuration file
+//	benchtender run CONFIG              run the campaign (the daemon)
+//	benchtender holds [--config C]      list moves held for sign-off
+//	benchtender approve RUN --by NAME --reason TEXT [--config C]
+//	benchtender reject RUN --by NAME --reason TEXT [--config C]
+//	benchtender status [--config C]     runs so far and the best one
+//	benchtender demo [--dir DIR]        an invented campaign on a simulated instrument
+package main
+
+import (
+	"context"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"syscall"
+)
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	err := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
+	stop()
+	os.Exit(exitCode(err, os.Stderr))
+}
+
+// usageError marks a mistake in how the command was called.
+type usageError struct{ msg string }
+
+func (e usageError) Error() string { return e.msg }
+
+// configError marks a configuration that did not validate; its problems
+// were already printed.
+type configError struct{ err error }
+
+func (e configError) Error() string { return e.err.Error() }
+func (e configError) Unwrap() error { return e.err }
+
+// exitCode maps an error to the process exit code: 0 for success, 2 for a
+// bad command line or configuration, 1 for everything else.
+func exitCode(err error, stderr io.Writer) int {
+	var ue usageError
+	var ce configError
+	switch {
+	case err == nil:
+		return 0
+	case errors.Is(err, flag.ErrHelp):
+		return 0
+	case errors.As(err, &ue):
+		fmt.Fprintf(stderr, "benchtender: %v\n\n%s", err, usage)
+		return 2
+	case errors.As(err, &ce):
+		fmt.Fprintf(stderr, "benchtender: %v\n", err)
+		return 2
+	default:
+		fmt.Fprintf(stderr, "benchtender: %v\n", err)
+		return 1
+	}
+}
+
+const usage = `usage:
+  benchtender check CONFIG
+  benchtender run CONFIG
+  benchtender holds [--config CONFIG]
+  benchtender approve RUN --by NAME --reason TEXT [--config CONFIG]
+  benchtender reject RUN --by NAME --reason TEXT [--config CONFIG]
+  benchtender status [--config CONFIG]
+  benchtender demo [--dir DIR]
+`
+
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
+	if len(args) == 0 {
+		return usageError{"no command given"}
+	}
+	cmd, rest := args[0], args[1:]
+	switch cmd {
+	case "check":
+		return cmdCheck(rest, stdout)
+	case "run":
+		return cmdRun(ctx, rest, stdout, stderr)
+	case "holds":
+		return cmdHolds(rest, stdout)
+	case "approve", "reject":
+		return cmdSignoff(cmd, rest, stdout)
+	case "status":
+		return cmdStatus(rest, stdout)
+	case "demo":
+		return cmdDemo(ctx, rest, stdout)
+	case "help", "-h", "--help":
+		fmt.Fprint(stdout, usage)
+		return nil
+	}
+	return usageError{fmt.Sprintf("unknown command %q", cmd)}
+}
+
+// parseFlags parses fs over args, letting flags and positional arguments
+// mix in any order, and returns the positional ones.
+func parseFlags(fs *flag.FlagSet, args []string) ([]string, error) {
+	fs.SetOutput(io.Discard)
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			if errors.Is(err, flag.ErrHelp) {
+				return nil, err
+			}
+			return nil, usageError{fmt.Sprintf("%s: %v", fs.Name(), err)}
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return pos, nil
+		}
+		pos = append(pos, args[0])
+		args = args[1:]
+	}
+}
+
+// configArg returns the configuration path from a --config flag or the
+// single positional argument.
+func configArg(flagValue string, pos []string, name string) (string, error) {
+	switch {
+	case len(pos) == 1 && flagValue == "":
+		return pos[0], nil
+	case len(pos) == 0 && flagValue != "":
+		return flagValue, nil
+	case len(pos) == 0:
+		return "benchtender.toml", nil
+	}
+	return "", usageError{fmt.Sprintf("%s: give the configuration once, as CONFIG or --config", name)}
+}

@@ -1,0 +1,136 @@
+package examples
+
+import (
+	"fmt"
+	"math"
+
+	"benchtender/campaign"
+)
+
+// The invented scenario: a small stirred bench reactor makes a batch of an
+// invented pigment, "Ochre 7". The technician sets the bath temperature,
+// the reagent feed rate and the hold time; the instrument reports the
+// batch's colour strength in percent of a reference batch, to be
+// maximised. The response law below is made up; so is its optimum.
+
+// Factors are the scenario's factors, in handoff order.
+var factors = campaign.Space{
+	{Name: "temperature", Unit: "degC", Min: 40, Max: 98},
+	{Name: "feed_rate", Unit: "mL/min", Min: 0.5, Max: 5},
+	{Name: "hold_time", Unit: "min", Min: 10, Max: 90},
+}
+
+// Factors returns a copy of the scenario's factors.
+func Factors() campaign.Space { return append(campaign.Space(nil), factors...) }
+
+// Optimum is where the invented law peaks and its value there.
+var (
+	optimumPoint = campaign.Point{83, 2.4, 52}
+	optimumValue = 91.5
+)
+
+// Optimum returns the invented law's maximiser and maximum.
+func Optimum() (campaign.Point, float64) { return optimumPoint.Clone(), optimumValue }
+
+// ColourStrength is the invented law: a smooth peak with an interaction
+// between temperature and feed rate (hot batches tolerate a faster feed),
+// plus a gentle penalty for long holds at high temperature. Its maximum is
+// exactly Optimum, because every term is a negative-definite quadratic
+// form centred there.
+func ColourStrength(p campaign.Point) float64 {
+	t := (p[0] - optimumPoint[0]) / 12
+	f := (p[1] - optimumPoint[1]) / 1.3
+	h := (p[2] - optimumPoint[2]) / 30
+	q := t*t + f*f + h*h - 0.8*t*f + 0.3*t*h
+	return optimumValue * math.Exp(-0.5*q)
+}
+
+// Config returns the demo's configuration file text, with folders relative
+// to the file: exports/ (the instrument's result files), handoff/ (its
+// setpoint files) and state/. settle and rescan are short so the demo runs
+// in well under a minute; a real share needs the defaults or more.
+func Config(maxRuns int, seed uint64) string {
+	return fmt.Sprintf(`# Demo campaign: INVENTED scenario and data (a simulated bench reactor
+# making an invented pigment). Nothing here describes a real process.
+
+[campaign]
+name = "ochre7_demo"
+state_dir = "state"
+seed = %d
+max_runs = %d
+initial_runs = 8
+
+[[campaign.factor]]
+name = "temperature"
+unit = "degC"
+min = 40.0
+max = 98.0
+
+[[campaign.factor]]
+name = "feed_rate"
+unit = "mL/min"
+min = 0.5
+max = 5.0
+
+[[campaign.factor]]
+name = "hold_time"
+unit = "min"
+min = 10.0
+max = 90.0
+
+[campaign.response]
+name = "strength"
+unit = "%%"
+goal = "maximise"
+
+[instrument]
+name = "reactor_sim"
+handoff_dir = "handoff"
+handoff_format = "csv"
+
+[instrument.watch]
+dir = "exports"
+pattern = "*.csv"
+settle = "250ms"
+rescan = "1s"
+
+[instrument.parser]
+format = "delimited"
+delimiter = ";"
+decimal = ","
+skip_lines = 4
+header = true
+run_id_source = "column"
+run_id_column = "Sample"
+run_id_pattern = "^(R[0-9]+)$"
+reduce = "last"
+
+[instrument.parser.responses]
+strength = "Strength"
+
+[instrument.parser.factors]
+temperature = "Temp"
+feed_rate = "Feed"
+hold_time = "Hold"
+
+# Moves above 90 degC or faster than 4 mL/min are held for a person's
+# sign-off; nothing outside the hard limits is ever handed off.
+[safety.limits.temperature]
+hard_min = 40.0
+hard_max = 98.0
+review_max = 90.0
+
+[safety.limits.feed_rate]
+hard_min = 0.5
+hard_max = 5.0
+review_max = 4.0
+
+[safety.limits.hold_time]
+hard_min = 10.0
+hard_max = 90.0
+
+[log]
+file = "benchtender.log"
+level = "info"
+`, seed, maxRuns)
+}
