@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/optimize/functions"
@@ -93,5 +94,36 @@ func TestProposalsApproachBraninMinimum(t *testing.T) {
 				t.Errorf("best %.6f after 40 evaluations, want within 1%% of %.6f", trace[len(trace)-1], braninMin)
 			}
 		})
+	}
+}
+
+// Each factor's range is cut into n strata holding one point each
+// (McKay, Beckman and Conover 1979).
+func TestLatinHypercubeStrata(t *testing.T) {
+	for _, n := range []int{1, 5, 17} {
+		pts := LatinHypercube(n, 4, rand.NewPCG(9, 9))
+		for k := 0; k < 4; k++ {
+			seen := make([]bool, n)
+			for _, p := range pts {
+				s := int(p[k] * float64(n))
+				if p[k] < 0 || p[k] >= 1 || seen[s] {
+					t.Fatalf("n=%d factor %d: value %v in a used or invalid stratum", n, k, p[k])
+				}
+				seen[s] = true
+			}
+		}
+	}
+}
+
+// The same request gives the same proposal: a restarted agent replaying
+// its journal proposes what it would have proposed.
+func TestProposalsAreReproducible(t *testing.T) {
+	cc := braninCampaign(5, 20)
+	trace1 := runCampaign(t, cc, branin, 10)
+	trace2 := runCampaign(t, cc, branin, 10)
+	for i := range trace1 {
+		if trace1[i] != trace2[i] {
+			t.Fatalf("evaluation %d: %v then %v", i, trace1[i], trace2[i])
+		}
 	}
 }

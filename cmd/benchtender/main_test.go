@@ -1,0 +1,176 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"runtime"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+)
+
+// binary builds the real benchtender command once per test run.
+func binary(t *testing.T) string {
+	t.Helper()
+	bin := filepath.Join(t.TempDir(), "benchtender")
+	if runtime.GOOS == "windows" {
+		bin += ".exe"
+	}
+	out, err := exec.Command("go", "build", "-o", bin, ".").CombinedOutput()
+	if err != nil {
+		t.Fatalf("go build: %v\n%s", err, out)
+	}
+	return bin
+}
+
+func runBin(t *testing.T, bin string, args ...string) (string, int) {
+	t.Helper()
+	cmd := exec.Command(bin, args...)
+	var out bytes.Buffer
+	cmd.Stdout, cmd.Stderr = &out, &out
+	err := cmd.Run()
+	code := 0
+	if ee, ok := err.(*exec.ExitError); ok {
+		code = ee.ExitCode()
+	} else if err != nil {
+		t.Fatal(err)
+	}
+	return out.String(), code
+}
+
+func TestCheckExitCodes(t *testing.T) {
+	bin := binary(t)
+	out, code := runBin(t, bin, "check", "../../config.example.toml")
+	if code != 0 || !strings.Contains(out, "is valid") {
+		t.Fatalf("example config: exit %d\n%s", code, out)
+	}
+	src, _ := os.ReadFile("../../config.example.toml")
+	bad := strings.Replace(string(src), "hard_max = 60.0", "hard_max = 60.0\nhard_maximum = 70.0", 1)
+	bad = strings.Replace(bad, `handoff_format = "csv"`, `handoff_format = "xls"`, 1)
+	path := filepath.Join(t.TempDir(), "bad.toml")
+	os.WriteFile(path, []byte(bad), 0o644)
+	out, code = runBin(t, bin, "check", path)
+	if code != 2 {
+		t.Fatalf("bad config: exit %d, want 2\n%s", code, out)
+	}
+	for _, want := range []string{
+		`bad.toml:\d+: instrument.handoff_format: must be "csv" or "json", got "xls"`,
+		`bad.toml:\d+: safety.limits.jacket_temp.hard_maximum: unknown key`,
+	} {
+		if !regexp.MustCompile(want).MatchString(out) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	// Nothing starts on a bad config.
+	out, code = runBin(t, bin, "run", path)
+	if code != 2 {
+		t.Errorf("run on a bad config: exit %d, want 2\n%s", code, out)
+	}
+	if _, code = runBin(t, bin, "frobnicate"); code != 2 {
+		t.Errorf("unknown command: exit %d, want 2", code)
+	}
+}
+
+// The daemon holds a move; holds lists it; approve, given while the daemon
+// runs, releases it and the handoff file appears; SIGTERM stops it cleanly.
+func TestHoldApproveWhileDaemonRuns(t *testing.T) {
+	if runtime.GOOS == "windows" {
+		t.Skip("uses SIGTERM")
+	}
+	bin := binary(t)
+	dir := t.TempDir()
+	for _, d := range []string{"exports", "handoff"} {
+		os.Mkdir(filepath.Join(dir, d), 0o755)
+	}
+	src, _ := os.ReadFile("../../config.example.toml")
+	cfg := strings.Replace(string(src), "review_max = 50.0", "review_min = 59.0", 1) // every jacket_temp below 59 is held
+	cfgPath := filepath.Join(dir, "c.toml")
+	os.WriteFile(cfgPath, []byte(cfg), 0o644)
+
+	ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
+	defer cancel()
+	daemon := exec.CommandContext(ctx, bin, "run", cfgPath)
+	var logs bytes.Buffer
+	daemon.Stdout, daemon.Stderr = &logs, &logs
+	if err := daemon.Start(); err != nil {
+		t.Fatal(err)
+	}
+	defer daemon.Process.Kill()
+
+	var holds string
+	waitUntil(t, 20*time.Second, "a hold", func() bool {
+		holds, _ = runBin(t, bin, "holds", "--config", cfgPath)
+		return strings.Contains(holds, "R0001")
+	})
+	if !strings.Contains(holds, "held because jacket_temp") || !strings.Contains(holds, "below review_min 59") {
+		t.Errorf("holds output:\n%s", holds)
+	}
+	if out, code := runBin(t, bin, "approve", "R0001", "--config", cfgPath); code != 2 {
+		t.Errorf("approve without --by: exit %d\n%s", code, out)
+	}
+	out, code := runBin(t, bin, "approve", "R0001", "--by", "Ada Tech", "--reason", "jacket checked", "--config", cfgPath)
+	if code != 0 {
+		t.Fatalf("approve: exit %d\n%s", code, out)
+	}
+	handoff := filepath.Join(dir, "handoff", "R0001.csv")
+	waitUntil(t, 20*time.Second, "the handoff file", func() bool { _, err := os.Stat(handoff); return err == nil })
+	data, _ := os.ReadFile(handoff)
+	if !strings.HasPrefix(string(data), "run,jacket_temp,cooling_rate,seed_load\nR0001,") {
+		t.Errorf("handoff content %q", data)
+	}
+	daemon.Process.Signal(syscall.SIGTERM)
+	if err := daemon.Wait(); err != nil {
+		t.Errorf("daemon exit: %v\n%s", err, logs.String())
+	}
+	if !strings.Contains(logs.String(), "sign-off applied") || !strings.Contains(logs.String(), "Ada Tech") {
+		t.Errorf("log lacks the sign-off:\n%s", logs.String())
+	}
+	// The JSON log for lab IT has the same.
+	jl, err := os.ReadFile(filepath.Join(dir, "state", "benchtender.log"))
+	if err != nil || !strings.Contains(string(jl), `"by":"Ada Tech"`) {
+		t.Errorf("JSON log: %v\n%s", err, jl)
+	}
+	st, _ := runBin(t, bin, "status", "--config", cfgPath)
+	if !strings.Contains(st, "1 handoffs") {
+		t.Errorf("status:\n%s", st)
+	}
+}
+
+// The demo runs its invented campaign and ends with the summary.
+func TestDemo(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a campaign")
+	}
+	bin := binary(t)
+	dir := filepath.Join(t.TempDir(), "demo")
+	out, code := runBin(t, bin, "demo", "--runs", "12", "--dir", dir)
+	if code != 0 {
+		t.Fatalf("demo: exit %d\n%s", code, out)
+	}
+	for _, want := range []string{"INVENTED", "run 12/12", "held for sign-off", "approved by demo-technician (simulated", "best found:", "true optimum:", "journal"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("demo output lacks %q:\n%s", want, out)
+		}
+	}
+	results, _ := filepath.Glob(filepath.Join(dir, "exports", "*.csv"))
+	taken, _ := filepath.Glob(filepath.Join(dir, "handoff", "taken", "*.csv"))
+	if len(results) != 12 || len(taken) != 12 {
+		t.Errorf("%d result files and %d taken setpoints, want 12 and 12", len(results), len(taken))
+	}
+}
+
+func waitUntil(t *testing.T, d time.Duration, what string, ok func() bool) {
+	t.Helper()
+	deadline := time.Now().Add(d)
+	for !ok() {
+		if time.Now().After(deadline) {
+			t.Fatalf("timed out waiting for %s", what)
+		}
+		time.Sleep(100 * time.Millisecond)
+	}
+}
