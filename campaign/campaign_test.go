@@ -1,0 +1,83 @@
+package campaign
+
+import (
+	"math"
+	"strings"
+	"testing"
+)
+
+func TestSpaceValidate(t *testing.T) {
+	s := Space{{Name: "temp", Min: 0, Max: 100}, {Name: "temp", Min: 5, Max: 5}, {Name: "9bad", Min: math.NaN(), Max: 1}}
+	got := s.Validate().Error()
+	for _, want := range []string{"factor[1].name: factor \"temp\" is declared twice", "factor[1].max: must be greater than min", "factor[2].name", "factor[2].min: must be a finite number"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("%q lacks %q", got, want)
+		}
+	}
+	if ps := (Space{}).Validate(); len(ps) != 1 {
+		t.Errorf("empty space: %v", ps)
+	}
+}
+
+func TestUnitBoxRoundTrip(t *testing.T) {
+	s := Space{{Name: "a", Min: -5, Max: 10}, {Name: "b", Min: 0, Max: 15}}
+	p := Point{2.5, 15}
+	u := s.ToUnit(nil, p)
+	if u[0] != 0.5 || u[1] != 1 {
+		t.Fatalf("ToUnit %v", u)
+	}
+	back := s.FromUnit(nil, u)
+	if back[0] != p[0] || back[1] != p[1] {
+		t.Fatalf("FromUnit %v", back)
+	}
+	if !s.Contains(p) || s.Contains(Point{11, 0}) || s.Contains(Point{math.NaN(), 0}) || s.Contains(Point{1}) {
+		t.Error("Contains")
+	}
+}
+
+func TestResponseLoss(t *testing.T) {
+	max := Response{Name: "y", Goal: Maximise}
+	min := Response{Name: "y", Goal: Minimise}
+	if !max.Better(2, 1) || min.Better(2, 1) || max.Loss(3) != -3 || min.Loss(3) != 3 {
+		t.Error("goal handling")
+	}
+	if ps := (Response{Name: "y", Goal: "maximize"}).Validate(); len(ps) != 1 || ps[0].Key != "goal" {
+		t.Errorf("problems %v", ps)
+	}
+}
+
+func TestRunIDs(t *testing.T) {
+	for id, ok := range map[string]bool{"R0001": true, "batch-7.2": true, "..": false, "../x": false, "": false, "a b": false, "x\n": false, strings.Repeat("a", 65): false} {
+		if ValidRunID(id) != ok {
+			t.Errorf("ValidRunID(%q) = %v", id, !ok)
+		}
+	}
+}
+
+func TestProblemsPrefix(t *testing.T) {
+	var ps Problems
+	ps.Add("", "whole")
+	ps.Add("max", "m")
+	ps.Add("[2].name", "n")
+	got := ps.Prefix("campaign.factor")
+	want := []string{"campaign.factor", "campaign.factor.max", "campaign.factor[2].name"}
+	for i, p := range got {
+		if p.Key != want[i] {
+			t.Errorf("key %d: %q, want %q", i, p.Key, want[i])
+		}
+	}
+	if (Problems{}).Err() != nil {
+		t.Error("no problems must be a nil error")
+	}
+}
+
+func TestConfigInitial(t *testing.T) {
+	c := Config{Factors: make(Space, 3), MaxRuns: 30}
+	if c.Initial() != 8 {
+		t.Errorf("initial %d, want 2·3+2", c.Initial())
+	}
+	c.MaxRuns = 4
+	if c.Initial() != 4 {
+		t.Errorf("initial %d, want capped at 4", c.Initial())
+	}
+}
