@@ -13,21 +13,7 @@ import (
 
 // cmdHolds lists the moves waiting for sign-off.
 func cmdHolds(args []string, stdout io.Writer) error {
-	fs := flag.NewFlagSet("holds", flag.ContinueOnError)
-	config := fs.String("config", "", "configuration file")
-	pos, err := parseFlags(fs, args)
-	if err != nil {
-		return err
-	}
-	path, err := configArg(*config, pos, "holds")
-	if err != nil {
-		return err
-	}
-	cfg, err := loadConfig(path)
-	if err != nil {
-		return err
-	}
-	st, err := readState(cfg)
+	cfg, path, st, err := campaignFromArgs("holds", args)
 	if err != nil {
 		return err
 	}
@@ -82,6 +68,28 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 	fmt.Fprintf(stdout, "%s of run %s by %s recorded in %s; the running campaign applies it within a second (or at its next start)\n",
 		action, pos[0], *by, filepath.Base(req))
 	return nil
+}
+
+// campaignFromArgs handles the arguments of a command that only looks at a
+// campaign ([CONFIG] or --config CONFIG): it loads the configuration and
+// replays the journal.
+func campaignFromArgs(name string, args []string) (agent.Config, string, *agent.State, error) {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	config := fs.String("config", "", "configuration file")
+	pos, err := parseFlags(fs, args)
+	if err != nil {
+		return agent.Config{}, "", nil, err
+	}
+	path, err := configArg(*config, pos, name)
+	if err != nil {
+		return agent.Config{}, "", nil, err
+	}
+	cfg, err := loadConfig(path)
+	if err != nil {
+		return agent.Config{}, "", nil, err
+	}
+	st, err := readState(cfg)
+	return cfg, path, st, err
 }
 
 func readState(cfg agent.Config) (*agent.State, error) {

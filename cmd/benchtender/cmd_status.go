@@ -1,7 +1,6 @@
 package main
 
 import (
-	"flag"
 	"fmt"
 	"io"
 
@@ -10,21 +9,7 @@ import (
 
 // cmdStatus summarises the campaign from its journal.
 func cmdStatus(args []string, stdout io.Writer) error {
-	fs := flag.NewFlagSet("status", flag.ContinueOnError)
-	config := fs.String("config", "", "configuration file")
-	pos, err := parseFlags(fs, args)
-	if err != nil {
-		return err
-	}
-	path, err := configArg(*config, pos, "status")
-	if err != nil {
-		return err
-	}
-	cfg, err := loadConfig(path)
-	if err != nil {
-		return err
-	}
-	st, err := readState(cfg)
+	cfg, _, st, err := campaignFromArgs("status", args)
 	if err != nil {
 		return err
 	}

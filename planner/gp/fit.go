@@ -41,22 +41,15 @@ const (
 // the hyperparameters, with L-BFGS from several starts, and returns the
 // model conditioned with the best parameters found.
 func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
-	if len(x) != len(y) {
-		panic(fmt.Sprintf("gp: %d inputs for %d responses", len(x), len(y)))
+	d, err := checkData(x, y)
+	if err != nil {
+		return nil, err
 	}
-	if len(x) == 0 {
-		return nil, errors.New("gp: no data")
-	}
-	d := len(x[0])
 	if opt.NoiseFloor <= 0 {
 		opt.NoiseFloor = 1e-6
 	}
 	if opt.Starts == 0 {
 		opt.Starts = 2
-	}
-	// Validate the data once through New with neutral parameters.
-	if _, err := New(x, y, defaultParams(d)); err != nil && !errors.Is(err, ErrNotPositiveDefinite) {
-		return nil, err
 	}
 	mean, scale := standardise(y)
 	z := make([]float64, len(y))

@@ -68,25 +68,9 @@ type Model struct {
 // it cannot use: no rows, non-finite values, or a matrix that cannot be
 // factorised.
 func New(x [][]float64, y []float64, p Params) (*Model, error) {
-	if len(x) != len(y) {
-		panic(fmt.Sprintf("gp: %d inputs for %d responses", len(x), len(y)))
-	}
-	if len(x) == 0 {
-		return nil, errors.New("gp: no data")
-	}
-	d := len(x[0])
-	for i, row := range x {
-		if len(row) != d {
-			panic(fmt.Sprintf("gp: row %d has %d values, row 0 has %d", i, len(row), d))
-		}
-		for _, v := range row {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("gp: input row %d is not finite: %v", i, row)
-			}
-		}
-		if math.IsNaN(y[i]) || math.IsInf(y[i], 0) {
-			return nil, fmt.Errorf("gp: response %d is not finite: %v", i, y[i])
-		}
+	d, err := checkData(x, y)
+	if err != nil {
+		return nil, err
 	}
 	if err := p.valid(d); err != nil {
 		return nil, err
@@ -101,6 +85,33 @@ func New(x [][]float64, y []float64, p Params) (*Model, error) {
 		return nil, err
 	}
 	return m, nil
+}
+
+// checkData returns the number of inputs. It panics when x and y differ in
+// length or rows differ in width (programmer errors) and returns an error
+// for data that cannot be used: no rows or non-finite values.
+func checkData(x [][]float64, y []float64) (int, error) {
+	if len(x) != len(y) {
+		panic(fmt.Sprintf("gp: %d inputs for %d responses", len(x), len(y)))
+	}
+	if len(x) == 0 {
+		return 0, errors.New("gp: no data")
+	}
+	d := len(x[0])
+	for i, row := range x {
+		if len(row) != d {
+			panic(fmt.Sprintf("gp: row %d has %d values, row 0 has %d", i, len(row), d))
+		}
+		for _, v := range row {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return 0, fmt.Errorf("gp: input row %d is not finite: %v", i, row)
+			}
+		}
+		if math.IsNaN(y[i]) || math.IsInf(y[i], 0) {
+			return 0, fmt.Errorf("gp: response %d is not finite: %v", i, y[i])
+		}
+	}
+	return d, nil
 }
 
 // standardise returns the mean and the standard deviation of y (1 when y
