@@ -5,29 +5,36 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
+	"slices"
+	"sync"
 
-	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/optimize"
 )
 
 // FitOptions control hyperparameter fitting.
 type FitOptions struct {
+	Kernel Kernel
 	// Starts is the number of random starts on top of the default start and
-	// the warm start (default 2).
+	// the warm start.
 	Starts int
 	// Warm, when not nil, is tried first: usually the previous fit.
 	Warm *Params
 	// NoiseFloor is the smallest noise variance (standardised units)
 	// allowed; default 1e-6.
 	NoiseFloor float64
+	// FixedNoise, when positive, is the noise variance in the response's
+	// own units squared (the instrument's known repeatability squared);
+	// it is then not fitted.
+	FixedNoise float64
 	// Rand is the source of the random starts; required when Starts > 0.
 	Rand *rand.Rand
 }
 
-// Weak priors on the log hyperparameters, in unit-box inputs and
-// standardised response. They only keep a fit on very few runs from
-// collapsing (length-scales to zero, all variation called noise); with a
-// few dozen runs the likelihood dominates. Chosen by us, not from a source.
+// Weak priors on the hyperparameters, in unit-box inputs and standardised
+// response. They only keep a fit on very few runs from collapsing
+// (length-scales to zero, all variation called noise); with a few dozen
+// runs the likelihood dominates. Chosen by us, not from a source.
 const (
 	priorLogLenMean   = -0.6931471805599453 // ln 0.5
 	priorLogLenSD     = 1.5
@@ -35,39 +42,44 @@ const (
 	priorLogSigSD     = 2.0
 	priorLogNoiseMean = -4.605170185988091 // ln 0.01
 	priorLogNoiseSD   = 3.0
+	priorMeanSD       = 2.0
 )
 
 // Fit maximises the log marginal likelihood plus the weak log priors over
-// the hyperparameters, with L-BFGS from several starts, and returns the
-// model conditioned with the best parameters found.
+// the hyperparameters (length-scales, signal variance, noise variance,
+// constant mean), with L-BFGS from several starts, and returns the model
+// conditioned with the best parameters found.
 func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 	d, err := checkData(x, y)
 	if err != nil {
 		return nil, err
 	}
+	if _, ok := kernelNames[opt.Kernel]; !ok {
+		return nil, fmt.Errorf("gp: unknown kernel %d", int(opt.Kernel))
+	}
 	if opt.NoiseFloor <= 0 {
 		opt.NoiseFloor = 1e-6
-	}
-	if opt.Starts == 0 {
-		opt.Starts = 2
 	}
 	mean, scale := standardise(y)
 	z := make([]float64, len(y))
 	for i, v := range y {
 		z[i] = (v - mean) / scale
 	}
-	obj := newObjective(x, z, opt.NoiseFloor)
+	obj := newObjective(x, z, opt.Kernel, opt.NoiseFloor)
+	if opt.FixedNoise > 0 {
+		obj.fixedNoise = math.Max(opt.FixedNoise/(scale*scale), opt.NoiseFloor)
+	}
 
 	var starts [][]float64
 	if opt.Warm != nil && opt.Warm.valid(d) == nil {
 		starts = append(starts, obj.theta(*opt.Warm))
 	}
-	starts = append(starts, obj.theta(defaultParams(d)))
+	starts = append(starts, obj.theta(defaultParams(opt.Kernel, d)))
 	for i := 0; i < opt.Starts; i++ {
 		if opt.Rand == nil {
 			panic("gp: FitOptions.Rand is nil but Starts > 0")
 		}
-		t := make([]float64, d+2)
+		t := make([]float64, d+3)
 		for k := 0; k < d; k++ {
 			t[k] = math.Log(0.05 + 0.95*opt.Rand.Float64())
 		}
@@ -76,16 +88,45 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 		starts = append(starts, t)
 	}
 
+	// Starts are independent: run them side by side, one objective
+	// (with its own scratch matrices) per worker. The best is chosen by
+	// value, ties by start order, so the result does not depend on
+	// scheduling.
+	type outcome struct {
+		theta []float64
+		f     float64
+		err   error
+	}
+	results := make([]outcome, len(starts))
+	workers := min(runtime.GOMAXPROCS(0), len(starts))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < workers; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			o := obj.clone()
+			for i := range next {
+				th, f, err := o.minimise(starts[i])
+				results[i] = outcome{th, f, err}
+			}
+		}()
+	}
+	for i := range starts {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+
 	best, bestF := []float64(nil), math.Inf(1)
 	var lastErr error
-	for _, t0 := range starts {
-		theta, f, err := obj.minimise(t0)
-		if err != nil {
-			lastErr = err
+	for _, r := range results {
+		if r.err != nil {
+			lastErr = r.err
 			continue
 		}
-		if f < bestF {
-			best, bestF = theta, f
+		if r.f < bestF {
+			best, bestF = r.theta, r.f
 		}
 	}
 	if best == nil {
@@ -94,38 +135,47 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 	return New(x, y, obj.params(best))
 }
 
-func defaultParams(d int) Params {
+func defaultParams(k Kernel, d int) Params {
 	ls := make([]float64, d)
 	for i := range ls {
 		ls[i] = 0.3
 	}
-	return Params{LengthScales: ls, SignalVar: 1, NoiseVar: 1e-2}
+	return Params{Kernel: k, LengthScales: ls, SignalVar: 1, NoiseVar: 1e-2}
 }
 
 // objective is the negative log posterior over θ = (ln l_1..ln l_d, ln s²,
-// ln(σ² − floor)).
+// ln(σ² − floor), m). The data (sq, z) are shared between clones; the
+// scratch matrices are not.
 type objective struct {
-	n, d  int
-	z     []float64
-	floor float64
-	sq    [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≤ i
-	k     *mat.SymDense
-	kinv  *mat.SymDense
-	chol  mat.Cholesky
-	alpha *mat.VecDense
-	zv    *mat.VecDense
+	n, d       int
+	kern       Kernel
+	z          []float64
+	floor      float64
+	fixedNoise float64     // > 0: noise is not fitted
+	sq         [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≥ i
+
+	// Scratch, all n×n row major (upper triangles) or n.
+	kc, gc []float64 // k(r) and g(r) per pair, without s²
+	k      []float64 // s²·k(r), the matrix to factorise
+	kinv   []float64
+	c      spd
+	alpha  []float64
+	resid  []float64
+
+	// Memo of the last θ evaluated, so that the gradient at the point
+	// just evaluated reuses its factorisation.
+	last  []float64
+	lastF float64
 }
 
-func newObjective(x [][]float64, z []float64, floor float64) *objective {
+func newObjective(x [][]float64, z []float64, kern Kernel, floor float64) *objective {
 	n, d := len(x), len(x[0])
-	o := &objective{n: n, d: d, z: z, floor: floor,
-		k: mat.NewSymDense(n, nil), kinv: mat.NewSymDense(n, nil),
-		alpha: mat.NewVecDense(n, nil), zv: mat.NewVecDense(n, z)}
+	o := &objective{n: n, d: d, kern: kern, z: z, floor: floor}
 	o.sq = make([][]float64, d)
 	for k := 0; k < d; k++ {
 		o.sq[k] = make([]float64, n*n)
 		for i := 0; i < n; i++ {
-			for j := 0; j <= i; j++ {
+			for j := i; j < n; j++ {
 				dx := x[i][k] - x[j][k]
 				o.sq[k][i*n+j] = dx * dx
 			}
@@ -134,14 +184,36 @@ func newObjective(x [][]float64, z []float64, floor float64) *objective {
 	return o
 }
 
+// clone returns an objective sharing o's data with scratch of its own.
+func (o *objective) clone() *objective {
+	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, sq: o.sq}
+}
+
+func (o *objective) scratch() {
+	if o.k != nil {
+		return
+	}
+	nn := o.n * o.n
+	o.kc, o.gc, o.k, o.kinv = make([]float64, nn), make([]float64, nn), make([]float64, nn), make([]float64, nn)
+	o.alpha, o.resid = make([]float64, o.n), make([]float64, o.n)
+}
+
 func (o *objective) theta(p Params) []float64 {
-	t := make([]float64, o.d+2)
+	t := make([]float64, o.d+3)
 	for k, l := range p.LengthScales {
 		t[k] = math.Log(l)
 	}
 	t[o.d] = math.Log(p.SignalVar)
 	t[o.d+1] = math.Log(math.Max(p.NoiseVar-o.floor, 1e-12))
+	t[o.d+2] = p.Mean
 	return t
+}
+
+func (o *objective) noise(t []float64) float64 {
+	if o.fixedNoise > 0 {
+		return o.fixedNoise
+	}
+	return o.floor + math.Exp(t[o.d+1])
 }
 
 func (o *objective) params(t []float64) Params {
@@ -149,19 +221,21 @@ func (o *objective) params(t []float64) Params {
 	for k := range ls {
 		ls[k] = math.Exp(t[k])
 	}
-	return Params{LengthScales: ls, SignalVar: math.Exp(t[o.d]), NoiseVar: o.floor + math.Exp(t[o.d+1])}
+	return Params{Kernel: o.kern, LengthScales: ls, SignalVar: math.Exp(t[o.d]), NoiseVar: o.noise(t), Mean: t[o.d+2]}
 }
 
-// thetaBound keeps the search where the kernel is numerically sane:
-// length-scales between e^-7 and e^4 of the unit box, variances within
-// e^±12. Outside, the objective is +Inf.
-const thetaBound = 12.0
-
+// inRange keeps the search where the kernel is numerically sane:
+// length-scales between e⁻⁷ and e⁴ of the unit box, variances within
+// e^±12, the mean within ±10 standard deviations. Outside, the objective
+// is +Inf.
 func (o *objective) inRange(t []float64) bool {
 	for k, v := range t {
-		lo, hi := -thetaBound, thetaBound
-		if k < o.d {
+		lo, hi := -12.0, 12.0
+		switch {
+		case k < o.d:
 			lo, hi = -7, 4
+		case k == o.d+2:
+			lo, hi = -10, 10
 		}
 		if math.IsNaN(v) || v < lo || v > hi {
 			return false
@@ -170,89 +244,112 @@ func (o *objective) inRange(t []float64) bool {
 	return true
 }
 
-// eval returns the negative log posterior at t and, when grad is not nil,
-// writes its gradient (Rasmussen and Williams 2006, eq. 5.9:
-// ∂L/∂θ = ½ tr((ααᵀ − K⁻¹) ∂K/∂θ)).
-func (o *objective) eval(t, grad []float64) float64 {
+// value returns the negative log posterior at t, leaving the factorisation
+// in the scratch for gradient.
+func (o *objective) value(t []float64) float64 {
+	if o.last != nil && slices.Equal(o.last, t) {
+		return o.lastF
+	}
+	o.last = append(o.last[:0], t...)
+	o.lastF = o.compute(t)
+	return o.lastF
+}
+
+func (o *objective) compute(t []float64) float64 {
 	if !o.inRange(t) {
-		for i := range grad {
-			grad[i] = 0
-		}
 		return math.Inf(1)
 	}
+	o.scratch()
 	n, d := o.n, o.d
-	inv2 := make([]float64, d)
+	var inv2 [16]float64
+	iv := inv2[:0]
+	if d > len(inv2) {
+		iv = make([]float64, 0, d)
+	}
 	for k := 0; k < d; k++ {
-		inv2[k] = math.Exp(-2 * t[k])
+		iv = append(iv, math.Exp(-2*t[k]))
 	}
 	s2 := math.Exp(t[d])
-	noise := o.floor + math.Exp(t[d+1])
-	kraw := o.k.RawSymmetric().Data
+	noise := o.noise(t)
+	mean := t[d+2]
 	for i := 0; i < n; i++ {
-		for j := 0; j <= i; j++ {
+		row := i * n
+		for j := i; j < n; j++ {
 			var r2 float64
 			for k := 0; k < d; k++ {
-				r2 += o.sq[k][i*n+j] * inv2[k]
+				r2 += o.sq[k][row+j] * iv[k]
 			}
-			kraw[j*n+i] = s2 * matern52(math.Sqrt(r2)) // upper triangle
+			kc, gc := o.kern.corrSlope(math.Sqrt(r2))
+			o.kc[row+j], o.gc[row+j] = kc, gc
+			o.k[row+j] = s2 * kc
 		}
 	}
-	if _, err := factorWithJitter(&o.chol, o.k, noise, s2); err != nil {
-		for i := range grad {
-			grad[i] = 0
-		}
+	if _, err := o.c.factor(o.k, n, noise, s2); err != nil {
 		return math.Inf(1)
 	}
-	if err := o.chol.SolveVecTo(o.alpha, o.zv); err != nil {
-		return math.Inf(1)
+	for i, v := range o.z {
+		o.resid[i] = v - mean
 	}
-	var logDet float64
-	for i := 0; i < n; i++ {
-		logDet += math.Log(o.chol.RawU().At(i, i))
+	o.c.solveTo(o.alpha, o.resid)
+	lml := -0.5*dot(o.resid, o.alpha) - 0.5*o.c.logDet() - 0.5*float64(n)*math.Log(2*math.Pi)
+	lp := logNormal(t[d], priorLogSigMean, priorLogSigSD) + logNormal(mean, 0, priorMeanSD)
+	if o.fixedNoise == 0 {
+		lp += logNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD)
 	}
-	lml := -0.5*mat.Dot(o.zv, o.alpha) - logDet - 0.5*float64(n)*math.Log(2*math.Pi)
-	lp := logNormal(t[d], priorLogSigMean, priorLogSigSD) + logNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD)
 	for k := 0; k < d; k++ {
 		lp += logNormal(t[k], priorLogLenMean, priorLogLenSD)
 	}
 	f := -(lml + lp)
+	if math.IsNaN(f) {
+		return math.Inf(1)
+	}
+	return f
+}
+
+// eval returns the negative log posterior at t and, when grad is not nil,
+// writes its gradient (Rasmussen and Williams 2006, eq. 5.9:
+// ∂L/∂θ = ½ tr((ααᵀ − K⁻¹) ∂K/∂θ); for the mean, ∂L/∂m = Σ α_i).
+func (o *objective) eval(t, grad []float64) float64 {
+	f := o.value(t)
 	if grad == nil {
 		return f
 	}
-	if err := o.chol.InverseTo(o.kinv); err != nil {
-		return math.Inf(1)
-	}
-	a := o.alpha.RawVector().Data
-	ki := o.kinv.RawSymmetric().Data
 	for i := range grad {
 		grad[i] = 0
 	}
-	var gs, gn float64
+	if math.IsInf(f, 0) || !o.c.inverseTo(o.kinv) {
+		return f
+	}
+	n, d := o.n, o.d
+	s2 := math.Exp(t[d])
+	a, ki := o.alpha, o.kinv
+	var gs, gn, gm float64
 	for i := 0; i < n; i++ {
-		for j := 0; j <= i; j++ {
-			w := a[i]*a[j] - ki[j*n+i]
+		gm += a[i]
+		row := i * n
+		for j := i; j < n; j++ {
+			w := a[i]*a[j] - ki[row+j]
 			if i != j {
 				w *= 2 // the sum over the full matrix counts (i,j) and (j,i)
 			} else {
 				gn += w
 			}
-			var r2 float64
+			gs += w * o.kc[row+j]
+			c := w * o.gc[row+j]
 			for k := 0; k < d; k++ {
-				r2 += o.sq[k][i*n+j] * inv2[k]
-			}
-			r := math.Sqrt(r2)
-			gs += w * s2 * matern52(r)
-			c := w * s2 * matern52dr2(r)
-			for k := 0; k < d; k++ {
-				grad[k] += c * o.sq[k][i*n+j] * inv2[k]
+				grad[k] += c * o.sq[k][row+j]
 			}
 		}
 	}
 	for k := 0; k < d; k++ {
-		grad[k] = -(0.5*grad[k] + dLogNormal(t[k], priorLogLenMean, priorLogLenSD))
+		// d(r²)/d ln l_k = −2 Δ_k²/l_k², so dk/d ln l_k = s² g Δ_k²/l_k².
+		grad[k] = -(0.5*grad[k]*s2*math.Exp(-2*t[k]) + dLogNormal(t[k], priorLogLenMean, priorLogLenSD))
 	}
-	grad[d] = -(0.5*gs + dLogNormal(t[d], priorLogSigMean, priorLogSigSD))
-	grad[d+1] = -(0.5*gn*math.Exp(t[d+1]) + dLogNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD))
+	grad[d] = -(0.5*gs*s2 + dLogNormal(t[d], priorLogSigMean, priorLogSigSD))
+	if o.fixedNoise == 0 {
+		grad[d+1] = -(0.5*gn*math.Exp(t[d+1]) + dLogNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD))
+	}
+	grad[d+2] = -(gm + dLogNormal(t[d+2], 0, priorMeanSD))
 	return f
 }
 
@@ -262,13 +359,16 @@ func (o *objective) minimise(t0 []float64) ([]float64, float64, error) {
 		return nil, 0, errors.New("gp: start point not usable")
 	}
 	p := optimize.Problem{
-		Func: func(t []float64) float64 { return o.eval(t, nil) },
+		Func: func(t []float64) float64 { return o.value(t) },
 		Grad: func(g, t []float64) { o.eval(t, g) },
 	}
+	// The objective is a few hundred in size at most; a gradient below
+	// 1e-3 leaves it within about 1e-9 of its optimum (measured), and
+	// tighter thresholds only spend evaluations in failing line searches.
 	res, err := optimize.Minimize(p, t0, &optimize.Settings{
 		MajorIterations:   200,
-		GradientThreshold: 1e-5,
-		Converger:         &optimize.FunctionConverge{Absolute: 1e-7, Relative: 1e-9, Iterations: 20},
+		GradientThreshold: 1e-3,
+		Converger:         &optimize.FunctionConverge{Absolute: 1e-6, Relative: 1e-8, Iterations: 5},
 	}, &optimize.LBFGS{})
 	if res == nil {
 		return nil, 0, fmt.Errorf("gp: L-BFGS: %w", err)

@@ -31,20 +31,24 @@ func wave(x []float64) float64 {
 // differences (step 1e-6, tolerance 1e-4 relative to the gradient's size).
 func TestGradientMatchesFiniteDifferences(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
-	for _, d := range []int{1, 3, 6} {
+	for _, c := range []struct {
+		kern Kernel
+		d    int
+	}{{Matern52, 1}, {Matern52, 3}, {Matern52, 6}, {Matern32, 3}, {SquaredExponential, 3}} {
+		kern, d := c.kern, c.d
 		x, y := randomData(rng, 25, d, wave, 0.05)
 		mean, scale := standardise(y)
 		z := make([]float64, len(y))
 		for i := range y {
 			z[i] = (y[i] - mean) / scale
 		}
-		o := newObjective(x, z, 1e-6)
+		o := newObjective(x, z, kern, 1e-6)
 		for trial := 0; trial < 3; trial++ {
-			th := make([]float64, d+2)
+			th := make([]float64, d+3)
 			for k := range th {
 				th[k] = -1.5 + rng.Float64()
 			}
-			g := make([]float64, d+2)
+			g := make([]float64, d+3)
 			o.eval(th, g)
 			const h = 1e-6
 			for k := range th {
@@ -54,7 +58,7 @@ func TestGradientMatchesFiniteDifferences(t *testing.T) {
 				tm[k] -= h
 				fd := (o.eval(tp, nil) - o.eval(tm, nil)) / (2 * h)
 				if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
-					t.Errorf("d=%d θ[%d]: analytic %.8g, finite difference %.8g", d, k, g[k], fd)
+					t.Errorf("%v d=%d θ[%d]: analytic %.8g, finite difference %.8g", kern, d, k, g[k], fd)
 				}
 			}
 		}

@@ -1,31 +1,101 @@
 package gp
 
-import "math"
+import (
+	"fmt"
+	"math"
+)
 
-// sqrt5 is √5, used by the Matérn 5/2 kernel.
-var sqrt5 = math.Sqrt(5)
+// Kernel is the correlation function of the process, a function of the
+// scaled distance r = sqrt(Σ ((a_k − b_k)/l_k)²).
+type Kernel int
 
-// matern52 returns the Matérn 5/2 correlation at scaled distance r
-// (Rasmussen and Williams 2006, eq. 4.17 with ν = 5/2):
-//
-//	k(r) = (1 + √5 r + 5r²/3) exp(−√5 r)
-func matern52(r float64) float64 {
-	s := sqrt5 * r
-	return (1 + s + s*s/3) * math.Exp(-s)
+// The kernels (Rasmussen and Williams 2006, eqs. 4.9 and 4.17).
+const (
+	// Matern52 is k(r) = (1 + √5 r + 5r²/3) exp(−√5 r): twice
+	// differentiable sample paths, the usual default for physical
+	// processes.
+	Matern52 Kernel = iota
+	// Matern32 is k(r) = (1 + √3 r) exp(−√3 r): rougher paths.
+	Matern32
+	// SquaredExponential is k(r) = exp(−r²/2): infinitely smooth paths.
+	SquaredExponential
+)
+
+var kernelNames = map[Kernel]string{Matern52: "matern52", Matern32: "matern32", SquaredExponential: "squared_exponential"}
+
+func (k Kernel) String() string {
+	if s, ok := kernelNames[k]; ok {
+		return s
+	}
+	return fmt.Sprintf("Kernel(%d)", int(k))
 }
 
-// matern52dr2 returns −dk/dr divided by r, the factor that turns
-// d(r²)/dθ into dk/dθ:
-//
-//	−(1/r) dk/dr = (5/3)(1 + √5 r) exp(−√5 r)
-//
-// so dk/dθ = −½ · (5/3)(1 + √5 r) exp(−√5 r) · d(r²)/dθ.
-func matern52dr2(r float64) float64 {
-	s := sqrt5 * r
-	return 5.0 / 3.0 * (1 + s) * math.Exp(-s)
+// ParseKernel returns the kernel named by s ("matern52", "matern32" or
+// "squared_exponential").
+func ParseKernel(s string) (Kernel, error) {
+	for k, n := range kernelNames {
+		if n == s {
+			return k, nil
+		}
+	}
+	return 0, fmt.Errorf("gp: unknown kernel %q (matern52, matern32 or squared_exponential)", s)
 }
 
-// scaledDist returns r = sqrt(Σ ((a_k − b_k)/l_k)²).
+var (
+	sqrt5 = math.Sqrt(5)
+	sqrt3 = math.Sqrt(3)
+)
+
+// corr returns k(r).
+func (k Kernel) corr(r float64) float64 {
+	switch k {
+	case Matern32:
+		s := sqrt3 * r
+		return (1 + s) * math.Exp(-s)
+	case SquaredExponential:
+		return math.Exp(-0.5 * r * r)
+	default:
+		s := sqrt5 * r
+		return (1 + s + s*s/3) * math.Exp(-s)
+	}
+}
+
+// slope returns g(r) = −(1/r) dk/dr, which turns d(r²)/dθ into dk/dθ:
+// dk/dθ = −½ g(r) d(r²)/dθ. It is finite at r = 0.
+//
+//	Matérn 5/2: g = (5/3)(1 + √5 r) exp(−√5 r)
+//	Matérn 3/2: g = 3 exp(−√3 r)
+//	squared exponential: g = exp(−r²/2)
+func (k Kernel) slope(r float64) float64 {
+	switch k {
+	case Matern32:
+		return 3 * math.Exp(-sqrt3*r)
+	case SquaredExponential:
+		return math.Exp(-0.5 * r * r)
+	default:
+		s := sqrt5 * r
+		return 5.0 / 3.0 * (1 + s) * math.Exp(-s)
+	}
+}
+
+// corrSlope returns k(r) and g(r) with a single exponential.
+func (k Kernel) corrSlope(r float64) (float64, float64) {
+	switch k {
+	case Matern32:
+		s := sqrt3 * r
+		e := math.Exp(-s)
+		return (1 + s) * e, 3 * e
+	case SquaredExponential:
+		e := math.Exp(-0.5 * r * r)
+		return e, e
+	default:
+		s := sqrt5 * r
+		e := math.Exp(-s)
+		return (1 + s + s*s/3) * e, 5.0 / 3.0 * (1 + s) * e
+	}
+}
+
+// scaledDist returns r = sqrt(Σ ((a_k − b_k)/l_k)²), given 1/l_k.
 func scaledDist(a, b, invLen []float64) float64 {
 	var s float64
 	for k := range a {

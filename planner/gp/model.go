@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -15,12 +17,15 @@ var ErrNotPositiveDefinite = errors.New("gp: covariance matrix not positive defi
 // Params are the kernel hyperparameters, with inputs in the unit box and
 // the response standardised (zero mean, unit variance).
 type Params struct {
+	Kernel Kernel
 	// LengthScales holds one length-scale per input.
 	LengthScales []float64
 	// SignalVar is the kernel's variance.
 	SignalVar float64
 	// NoiseVar is the variance of the Gaussian measurement noise.
 	NoiseVar float64
+	// Mean is the constant prior mean of the standardised response.
+	Mean float64
 }
 
 // Clone returns a deep copy.
@@ -30,6 +35,9 @@ func (p Params) Clone() Params {
 }
 
 func (p Params) valid(d int) error {
+	if _, ok := kernelNames[p.Kernel]; !ok {
+		return fmt.Errorf("gp: unknown kernel %d", int(p.Kernel))
+	}
 	if len(p.LengthScales) != d {
 		return fmt.Errorf("gp: %d length-scales for %d inputs", len(p.LengthScales), d)
 	}
@@ -44,6 +52,9 @@ func (p Params) valid(d int) error {
 	if !(p.NoiseVar >= 0) || math.IsInf(p.NoiseVar, 0) {
 		return fmt.Errorf("gp: noise variance %v is not a non-negative number", p.NoiseVar)
 	}
+	if math.IsNaN(p.Mean) || math.IsInf(p.Mean, 0) {
+		return fmt.Errorf("gp: mean %v is not finite", p.Mean)
+	}
 	return nil
 }
 
@@ -55,9 +66,8 @@ type Model struct {
 	z      []float64 // standardised responses
 	p      Params
 	invLen []float64
-	chol   mat.Cholesky
-	u      mat.TriDense // the Cholesky factor U, K = UᵀU
-	alpha  *mat.VecDense
+	c      spd       // Cholesky factor of K + σ²I
+	alpha  []float64 // (K + σ²I)⁻¹ (z − m)
 	jitter float64
 	lml    float64
 }
@@ -114,8 +124,9 @@ func checkData(x [][]float64, y []float64) (int, error) {
 	return d, nil
 }
 
-// standardise returns the mean and the standard deviation of y (1 when y
-// is constant, so a single run or identical results still work).
+// standardise returns the mean and the standard deviation (divisor n) of
+// y; the scale is 1 when y is constant, so a single run or identical
+// results still work.
 func standardise(y []float64) (mean, scale float64) {
 	for _, v := range y {
 		mean += v
@@ -132,67 +143,44 @@ func standardise(y []float64) (mean, scale float64) {
 	return mean, scale
 }
 
-// factor builds and factorises K + σ²I, adding jitter when needed.
+// factor builds and factorises K + σ²I, adding jitter when needed
+// (Rasmussen and Williams 2006, Algorithm 2.1, lines 2-3 and 8).
 func (m *Model) factor() error {
 	n := len(m.x)
 	m.invLen = make([]float64, len(m.p.LengthScales))
 	for k, l := range m.p.LengthScales {
 		m.invLen[k] = 1 / l
 	}
-	k := mat.NewSymDense(n, nil)
+	a := make([]float64, n*n)
 	for i := 0; i < n; i++ {
-		for j := 0; j <= i; j++ {
-			k.SetSym(i, j, m.p.SignalVar*matern52(scaledDist(m.x[i], m.x[j], m.invLen)))
+		for j := i; j < n; j++ {
+			a[i*n+j] = m.p.SignalVar * m.p.Kernel.corr(scaledDist(m.x[i], m.x[j], m.invLen))
 		}
 	}
-	jitter, err := factorWithJitter(&m.chol, k, m.p.NoiseVar, m.p.SignalVar)
+	jitter, err := m.c.factor(a, n, m.p.NoiseVar, m.p.SignalVar)
 	if err != nil {
 		return err
 	}
 	m.jitter = jitter
-	m.chol.UTo(&m.u)
-	m.alpha = mat.NewVecDense(n, nil)
-	if err := m.chol.SolveVecTo(m.alpha, mat.NewVecDense(n, m.z)); err != nil {
-		return fmt.Errorf("gp: solve: %w", err)
+	resid := make([]float64, n)
+	for i, v := range m.z {
+		resid[i] = v - m.p.Mean
 	}
-	var logDet float64
-	for i := 0; i < n; i++ {
-		logDet += math.Log(m.u.At(i, i))
-	}
-	m.lml = -0.5*mat.Dot(mat.NewVecDense(n, m.z), m.alpha) - logDet - 0.5*float64(n)*math.Log(2*math.Pi)
+	m.alpha = make([]float64, n)
+	m.c.solveTo(m.alpha, resid)
+	m.lml = -0.5*dot(resid, m.alpha) - 0.5*m.c.logDet() - 0.5*float64(n)*math.Log(2*math.Pi)
 	if math.IsNaN(m.lml) || math.IsInf(m.lml, 0) {
 		return fmt.Errorf("gp: log marginal likelihood is %v", m.lml)
 	}
 	return nil
 }
 
-// factorWithJitter factorises k with noise added to the diagonal; when that
-// fails it adds jitter of 1e-10 up to 1e-4 times the signal variance, ten
-// times more each try. k's diagonal is left with the noise and jitter
-// added. It returns the jitter used.
-func factorWithJitter(c *mat.Cholesky, k *mat.SymDense, noise, signal float64) (float64, error) {
-	n := k.SymmetricDim()
-	base := make([]float64, n)
-	for i := range base {
-		base[i] = k.At(i, i)
+func dot(a, b []float64) float64 {
+	var s float64
+	for i, v := range a {
+		s += v * b[i]
 	}
-	jitter := 0.0
-	for {
-		for i := 0; i < n; i++ {
-			k.SetSym(i, i, base[i]+noise+jitter)
-		}
-		if c.Factorize(k) {
-			return jitter, nil
-		}
-		switch {
-		case jitter == 0:
-			jitter = 1e-10 * signal
-		case jitter < 1e-4*signal:
-			jitter *= 10
-		default:
-			return jitter, fmt.Errorf("%w (n=%d, jitter up to %.1e)", ErrNotPositiveDefinite, n, jitter)
-		}
-	}
+	return s
 }
 
 // Params returns the model's hyperparameters.
@@ -221,25 +209,61 @@ func (m *Model) Predict(x []float64) (mean, variance float64) {
 	if len(x) != m.Dim() {
 		panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
 	}
-	n := len(m.x)
-	ks := mat.NewVecDense(n, nil)
-	m.crossCov(ks.RawVector().Data, x)
-	mu := mat.Dot(ks, m.alpha)
-	v := mat.NewVecDense(n, nil)
-	// v = L⁻¹ k*, so k*ᵀ K⁻¹ k* = vᵀv.
-	if err := v.SolveVec(m.u.T(), ks); err != nil {
-		return math.NaN(), math.NaN()
-	}
-	vv := m.p.SignalVar - mat.Dot(v, v)
+	ks := make([]float64, len(m.x))
+	m.crossCov(ks, x)
+	mu := dot(ks, m.alpha)
+	// v = U⁻ᵀ k*, so k*ᵀ K⁻¹ k* = vᵀv.
+	m.c.halfSolve(ks)
+	vv := m.p.SignalVar - dot(ks, ks)
 	if vv < 0 {
 		vv = 0
 	}
-	return m.yMean + m.yScale*mu, vv * m.yScale * m.yScale
+	return m.yMean + m.yScale*(m.p.Mean+mu), vv * m.yScale * m.yScale
 }
 
 // crossCov fills dst with k(x_i, x) for every data point.
 func (m *Model) crossCov(dst []float64, x []float64) {
 	for i, xi := range m.x {
-		dst[i] = m.p.SignalVar * matern52(scaledDist(xi, x, m.invLen))
+		dst[i] = m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen))
 	}
+}
+
+// PredictJoint returns the posterior mean vector and covariance matrix of
+// the latent function at the points xs, in the response's units:
+// Cov = K** − K*ᵀ K⁻¹ K* (Rasmussen and Williams 2006, eq. 2.24).
+func (m *Model) PredictJoint(xs [][]float64) ([]float64, *mat.SymDense) {
+	n, q := len(m.x), len(xs)
+	// V = U⁻ᵀ K* (n×q), so K*ᵀ K⁻¹ K* = VᵀV.
+	v := blas64.General{Rows: n, Cols: q, Stride: q, Data: make([]float64, n*q)}
+	col := make([]float64, n)
+	mean := make([]float64, q)
+	for j, x := range xs {
+		if len(x) != m.Dim() {
+			panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
+		}
+		m.crossCov(col, x)
+		mean[j] = m.yMean + m.yScale*(m.p.Mean+dot(col, m.alpha))
+		for i, c := range col {
+			v.Data[i*q+j] = c
+		}
+	}
+	blas64.Trsm(blas.Left, blas.Trans, 1, m.c.tri(), v)
+	vtv := blas64.General{Rows: q, Cols: q, Stride: q, Data: make([]float64, q*q)}
+	blas64.Gemm(blas.Trans, blas.NoTrans, 1, v, v, 0, vtv)
+	cov := mat.NewSymDense(q, nil)
+	s2 := m.yScale * m.yScale
+	for i := 0; i < q; i++ {
+		for j := i; j < q; j++ {
+			c := m.p.SignalVar*m.p.Kernel.corr(scaledDist(xs[i], xs[j], m.invLen)) - vtv.Data[i*q+j]
+			cov.SetSym(i, j, c*s2)
+		}
+	}
+	return mean, cov
+}
+
+// Covariance returns the posterior covariance of the latent function
+// between a and b, in the response's units squared.
+func (m *Model) Covariance(a, b []float64) float64 {
+	_, cov := m.PredictJoint([][]float64{a, b})
+	return cov.At(0, 1)
 }

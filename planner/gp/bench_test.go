@@ -1,0 +1,72 @@
+package gp
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+)
+
+// Benchmarks of fitting (hyperparameters by L-BFGS, default start plus one
+// random start, no warm start) and of prediction, at the sizes of lab
+// campaigns. Run: go test ./planner/gp -run XXX -bench . -benchtime 3x
+func BenchmarkFit(b *testing.B) {
+	for _, n := range []int{50, 200, 1000} {
+		for _, d := range []int{2, 6} {
+			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
+				rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))
+				x, y := randomData(rng, n, d, wave, 0.05)
+				b.ResetTimer()
+				for i := 0; i < b.N; i++ {
+					if _, err := Fit(x, y, FitOptions{Starts: 1, Rand: rand.New(rand.NewPCG(1, uint64(i)))}); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
+
+// BenchmarkRefit is the refit when one run arrives: warm-started from the
+// previous fit, as the planner does.
+func BenchmarkRefit(b *testing.B) {
+	for _, n := range []int{50, 200, 300, 1000} {
+		for _, d := range []int{2, 6} {
+			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
+				rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))
+				x, y := randomData(rng, n+1, d, wave, 0.05)
+				prev, err := Fit(x[:n], y[:n], FitOptions{Starts: 1, Rand: rng})
+				if err != nil {
+					b.Fatal(err)
+				}
+				warm := prev.Params()
+				b.ResetTimer()
+				for i := 0; i < b.N; i++ {
+					if _, err := Fit(x, y, FitOptions{Warm: &warm, Starts: 1, Rand: rand.New(rand.NewPCG(1, uint64(i)))}); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+	}
+}
+
+func BenchmarkPredict(b *testing.B) {
+	for _, n := range []int{50, 200, 1000} {
+		for _, d := range []int{2, 6} {
+			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
+				rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))
+				x, y := randomData(rng, n, d, wave, 0.05)
+				m, err := New(x, y, defaultParams(Matern52, d))
+				if err != nil {
+					b.Fatal(err)
+				}
+				pt := make([]float64, d)
+				b.ResetTimer()
+				for i := 0; i < b.N; i++ {
+					pt[i%d] = float64(i%97) / 97
+					m.Predict(pt)
+				}
+			})
+		}
+	}
+}

@@ -1,0 +1,82 @@
+package gp
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack/lapack64"
+)
+
+// spd is the upper Cholesky factor U of a symmetric positive definite
+// n×n matrix A = UᵀU, row-major with stride n. It calls LAPACK's routines
+// directly: mat.Cholesky also estimates the condition number on every
+// factorisation, which costs as much again and is not needed here.
+type spd struct {
+	n int
+	u []float64
+}
+
+func (c *spd) tri() blas64.Triangular {
+	return blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: c.n, Stride: c.n, Data: c.u}
+}
+
+// factor factorises the symmetric matrix whose upper triangle is in a (row
+// major, n×n) with noise added to the diagonal; when that fails it adds
+// jitter of 1e-10 up to 1e-4 times signal, ten times more each try. It
+// returns the jitter used. a is not changed.
+func (c *spd) factor(a []float64, n int, noise, signal float64) (float64, error) {
+	c.n = n
+	if cap(c.u) < n*n {
+		c.u = make([]float64, n*n)
+	}
+	c.u = c.u[:n*n]
+	jitter := 0.0
+	for {
+		copy(c.u, a)
+		for i := 0; i < n; i++ {
+			c.u[i*n+i] += noise + jitter
+		}
+		_, ok := lapack64.Potrf(blas64.Symmetric{Uplo: blas.Upper, N: n, Stride: n, Data: c.u})
+		if ok {
+			return jitter, nil
+		}
+		switch {
+		case jitter == 0:
+			jitter = 1e-10 * signal
+		case jitter < 1e-4*signal:
+			jitter *= 10
+		default:
+			return jitter, fmt.Errorf("%w (n=%d, jitter up to %.1e)", ErrNotPositiveDefinite, n, jitter)
+		}
+	}
+}
+
+// solveTo writes A⁻¹b into dst.
+func (c *spd) solveTo(dst, b []float64) {
+	copy(dst, b)
+	lapack64.Potrs(c.tri(), blas64.General{Rows: c.n, Cols: 1, Stride: 1, Data: dst})
+}
+
+// halfSolve overwrites b with U⁻ᵀb, so that bᵀA⁻¹b is the squared norm of
+// the result.
+func (c *spd) halfSolve(b []float64) {
+	blas64.Trsv(blas.Trans, c.tri(), blas64.Vector{N: c.n, Inc: 1, Data: b})
+}
+
+// inverseTo writes the upper triangle of A⁻¹ into dst (n×n, row major).
+func (c *spd) inverseTo(dst []float64) bool {
+	copy(dst, c.u)
+	_, ok := lapack64.Potri(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: c.n, Stride: c.n, Data: dst})
+	return ok
+}
+
+// logDet returns ln det A = 2 Σ ln U_ii.
+func (c *spd) logDet() float64 {
+	var s float64
+	for i := 0; i < c.n; i++ {
+		s += math.Log(c.u[i*c.n+i])
+	}
+	return 2 * s
+}
