@@ -136,13 +136,24 @@ func (s *State) withStatus(st string) []*Run {
 	return out
 }
 
-// Trials returns the completed runs with a usable value.
-func (s *State) Trials() []campaign.Trial {
-	var out []campaign.Trial
+// TrialRuns returns the completed runs with a usable value, in the order
+// Trials lists them.
+func (s *State) TrialRuns() []*Run {
+	var out []*Run
 	for _, id := range s.Order {
 		if r := s.Runs[id]; r.Status == StatusDone && r.Point != nil {
-			out = append(out, campaign.Trial{Point: r.Point, Value: r.Value})
+			out = append(out, r)
 		}
+	}
+	return out
+}
+
+// Trials returns the completed runs with a usable value.
+func (s *State) Trials() []campaign.Trial {
+	runs := s.TrialRuns()
+	out := make([]campaign.Trial, len(runs))
+	for i, r := range runs {
+		out[i] = campaign.Trial{Point: r.Point, Value: r.Value}
 	}
 	return out
 }

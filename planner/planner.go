@@ -112,9 +112,13 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 			return Result{}, fmt.Errorf("planner: trial %d is not usable: %v -> %v", i, t.Point, t.Value)
 		}
 		x[i] = p.space.ToUnit(nil, t.Point)
-		y[i] = p.resp.Loss(t.Value)
+		v, err := p.resp.Modelled(t.Value)
+		if err != nil {
+			return Result{}, fmt.Errorf("planner: trial %d: %w", i, err)
+		}
+		y[i] = v
 	}
-	m, err := gp.Fit(x, y, gp.FitOptions{Starts: p.cfg.FitStarts, Warm: req.Warm, Rand: rng})
+	m, err := gp.Fit(x, y, p.fitOptions(req.Warm, rng))
 	if err != nil {
 		return Result{}, fmt.Errorf("planner: fit surrogate: %w", err)
 	}

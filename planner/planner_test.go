@@ -127,3 +127,67 @@ func TestProposalsAreReproducible(t *testing.T) {
 		}
 	}
 }
+
+// Diagnostics report length-scales in the factors' own units: a factor
+// the response does not depend on gets a long scale, and the
+// leave-one-out errors of a smooth function are small.
+func TestDiagnose(t *testing.T) {
+	cc := campaign.Config{Name: "d", StateDir: "x", Seed: 1, MaxRuns: 40,
+		Factors:  campaign.Space{{Name: "a", Unit: "degC", Min: 0, Max: 100}, {Name: "b", Unit: "bar", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "y", Goal: campaign.Maximise}}
+	p := New(cc, Default())
+	var trials []campaign.Trial
+	for _, u := range LatinHypercube(30, 2, rand.NewPCG(3, 3)) {
+		pt := cc.Factors.FromUnit(nil, u)
+		trials = append(trials, campaign.Trial{Point: pt, Value: 10 * math.Sin(pt[0]/20)})
+	}
+	d, _, err := p.Diagnose(context.Background(), trials)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d.LengthScales[0].Unit != "degC" || d.LengthScales[0].Value > 60 || d.LengthScales[1].Value < 1 {
+		t.Errorf("length-scales %+v: a (varies over ~20 degC) should be short, b (no effect) longer than its range", d.LengthScales)
+	}
+	if d.LOORMSE > 0.2 || len(d.Checks) != 30 {
+		t.Errorf("LOO RMSE %.3g over %d checks", d.LOORMSE, len(d.Checks))
+	}
+	for _, c := range d.Checks {
+		if math.Abs(c.Predicted-c.Measured) > 1 || math.Signbit(c.Standardised) != math.Signbit(c.Measured-c.Predicted) && c.Measured != c.Predicted {
+			t.Fatalf("check %+v", c)
+		}
+	}
+}
+
+func TestLogTransform(t *testing.T) {
+	r := campaign.Response{Name: "impurity", Goal: campaign.Minimise, Transform: campaign.TransformLog}
+	v, err := r.Modelled(100)
+	if err != nil || math.Abs(v-math.Log(100)) > 1e-15 || math.Abs(r.Measured(v)-100) > 1e-12 {
+		t.Errorf("modelled %v, back %v, %v", v, r.Measured(v), err)
+	}
+	if _, err := r.Modelled(0); err == nil {
+		t.Error("log of 0 accepted")
+	}
+	m := campaign.Response{Name: "y", Goal: campaign.Maximise, Transform: campaign.TransformLog}
+	if v, _ := m.Modelled(math.E); v != -1 || math.Abs(m.Measured(-1)-math.E) > 1e-15 {
+		t.Errorf("maximise + log: %v", v)
+	}
+}
+
+func TestConfigValidate(t *testing.T) {
+	c := Default()
+	c.Kernel = "cubic"
+	c.NoiseSD = -1
+	c.Candidates = 5
+	keys := map[string]bool{}
+	for _, p := range c.Validate() {
+		keys[p.Key] = true
+	}
+	for _, k := range []string{"kernel", "noise_sd", "candidates"} {
+		if !keys[k] {
+			t.Errorf("no problem for %s", k)
+		}
+	}
+	if ps := Default().Validate(); len(ps) != 0 {
+		t.Errorf("defaults invalid: %v", ps)
+	}
+}

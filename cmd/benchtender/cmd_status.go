@@ -1,14 +1,20 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"io"
+	"math"
+	"sort"
+	"strings"
 
 	"benchtender/agent"
+	"benchtender/campaign"
+	"benchtender/planner"
 )
 
 // cmdStatus summarises the campaign from its journal.
-func cmdStatus(args []string, stdout io.Writer) error {
+func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	cfg, _, st, err := campaignFromArgs("status", args)
 	if err != nil {
 		return err
@@ -27,5 +33,35 @@ func cmdStatus(args []string, stdout io.Writer) error {
 	if b := st.Best(resp); b != nil {
 		fmt.Fprintf(stdout, "best so far: %s, %s = %.4g %s (%s)\n", b.ID, resp.Name, b.Value, resp.Unit, describePoint(cfg.Campaign.Factors, b.Point))
 	}
+	printModel(ctx, stdout, cfg, st)
 	return nil
+}
+
+// printModel fits the surrogate to the completed runs and says how well
+// it fits: hyperparameters in the factors' units and the leave-one-out
+// check (Rasmussen and Williams 2006, section 5.4.2).
+func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *agent.State) {
+	runs := st.TrialRuns()
+	d, _, err := planner.New(cfg.Campaign, cfg.Planner).Diagnose(ctx, st.Trials())
+	if err != nil {
+		fmt.Fprintf(stdout, "model: not fitted (%v)\n", err)
+		return
+	}
+	unit := cfg.Campaign.Response.Unit
+	if cfg.Campaign.Response.Transform == campaign.TransformLog {
+		unit = "(natural-log units)"
+	}
+	fmt.Fprintf(stdout, "model: Gaussian process, %s kernel, %d runs, log marginal likelihood %.2f\n", d.Kernel, d.Runs, d.LogLikelihood)
+	var scales []string
+	for _, s := range d.LengthScales {
+		scales = append(scales, strings.TrimSpace(fmt.Sprintf("%s %.3g %s", s.Factor, s.Value, s.Unit)))
+	}
+	fmt.Fprintf(stdout, "  length-scales: %s\n", strings.Join(scales, ", "))
+	fmt.Fprintf(stdout, "  signal sd %.3g %s, noise sd %.3g %s\n", d.SignalSD, unit, d.NoiseSD, unit)
+	fmt.Fprintf(stdout, "  leave-one-out: RMSE %.3g %s; %.0f%% of runs beyond ±2 sd (about 5%% expected when the model fits)\n", d.LOORMSE, unit, 100*d.Outside2)
+	worst := append([]planner.CheckPoint(nil), d.Checks...)
+	sort.Slice(worst, func(i, j int) bool { return math.Abs(worst[i].Standardised) > math.Abs(worst[j].Standardised) })
+	for _, c := range worst[:min(3, len(worst))] {
+		fmt.Fprintf(stdout, "    %s measured %.4g, predicted from the others %.4g (standardised error %+.2f)\n", runs[c.Index].ID, c.Measured, c.Predicted, c.Standardised)
+	}
 }

@@ -90,7 +90,7 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	case "approve", "reject":
 		return cmdSignoff(cmd, rest, stdout)
 	case "status":
-		return cmdStatus(rest, stdout)
+		return cmdStatus(ctx, rest, stdout)
 	case "demo":
 		return cmdDemo(ctx, rest, stdout)
 	case "help", "-h", "--help":
