@@ -340,10 +340,11 @@ func (a *Agent) spent() int {
 // the agent stops proposing: the factor box and the limits disagree.
 const maxRefusals = 3
 
-// plan proposes the next run when nothing is in flight, held or ready.
+// plan proposes the next run while fewer than the batch size are in
+// flight, held or ready.
 func (a *Agent) plan(ctx context.Context) error {
 	st := a.state
-	if len(st.InFlight()) > 0 || len(st.Held()) > 0 || len(st.Ready()) > 0 {
+	if st.Stopped != "" || len(st.Pending()) >= a.cfg.Planner.Batch {
 		return nil
 	}
 	if a.spent() >= a.cfg.Campaign.MaxRuns {
@@ -371,6 +372,10 @@ func (a *Agent) plan(ctx context.Context) error {
 	a.planErrs = 0
 	if res.Fit != nil {
 		a.warm = res.Fit
+	}
+	if res.Stop != "" {
+		a.log.Info().Str("reason", res.Stop).Msg("stopping rule met; no more proposals")
+		return a.record(Entry{Kind: KindStop, Reason: res.Stop})
 	}
 	prop := res.Proposal
 	prop.Point = roundPoint(prop.Point)
@@ -406,7 +411,8 @@ func (a *Agent) propose(ctx context.Context, id string) (res planner.Result, err
 		}
 	}()
 	return a.planner.Propose(ctx, planner.Request{
-		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Avoid: a.state.Avoid(), Warm: a.warm,
+		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Pending: a.state.Pending(),
+		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm,
 	})
 }
 

@@ -68,6 +68,7 @@ func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	var ps campaign.Problems
 	ps = append(ps, c.Campaign.Validate().Prefix("campaign")...)
 	ps = append(ps, c.Planner.Validate().Prefix("planner")...)
+	ps = append(ps, c.Planner.ValidateFor(c.Campaign.Factors).Prefix("planner")...)
 	ps = append(ps, c.Instrument.validate(reg, c.Campaign).Prefix("instrument")...)
 	ps = append(ps, c.Safety.Validate(c.Campaign.Factors).Prefix("safety")...)
 	switch c.Log.Level {

@@ -24,6 +24,7 @@ const (
 	KindProposal   = "proposal"   // a setpoint proposed and gated
 	KindSignoff    = "signoff"    // a person approved or rejected a held move
 	KindHandoff    = "handoff"    // a setpoint file written for the instrument
+	KindStop       = "stop"       // the stopping rule says no more runs are worth it
 )
 
 // Sign-off actions.

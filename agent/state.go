@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"slices"
 	"time"
 
 	"benchtender/campaign"
@@ -46,6 +47,8 @@ type State struct {
 	Hashes    map[string]bool // content hashes already ingested or quarantined
 	Proposals int             // proposals made (the planner's index)
 	Handoffs  int             // setpoint files written
+	// Stopped, when not empty, says why the planner stopped proposing.
+	Stopped string
 }
 
 func newState() *State {
@@ -114,6 +117,8 @@ func (s *State) apply(e Entry) {
 		}
 	case KindQuarantine, KindDuplicate:
 		s.Hashes[e.SHA256] = true
+	case KindStop:
+		s.Stopped = e.Reason
 	}
 }
 
@@ -158,18 +163,27 @@ func (s *State) Trials() []campaign.Trial {
 	return out
 }
 
-// Avoid returns points the planner must not propose again: runs in flight,
-// held, ready, rejected, refused or failed.
-func (s *State) Avoid() []campaign.Point {
+// points returns the setpoints of the runs whose status is one of sts.
+func (s *State) points(sts ...string) []campaign.Point {
 	var out []campaign.Point
 	for _, id := range s.Order {
 		r := s.Runs[id]
-		if r.Point != nil && r.Status != StatusDone {
+		if r.Point != nil && slices.Contains(sts, r.Status) {
 			out = append(out, r.Point)
 		}
 	}
 	return out
 }
+
+// Pending returns the setpoints proposed and not yet answered: held,
+// ready or in flight.
+func (s *State) Pending() []campaign.Point { return s.points(StatusHeld, StatusReady, StatusHanded) }
+
+// FailedPoints returns the setpoints of runs that gave no usable value.
+func (s *State) FailedPoints() []campaign.Point { return s.points(StatusFailed) }
+
+// Avoid returns the setpoints a person rejected or the gate refused.
+func (s *State) Avoid() []campaign.Point { return s.points(StatusRejected, StatusRefused) }
 
 // Best returns the best completed run, or nil.
 func (s *State) Best(resp campaign.Response) *Run {

@@ -3,19 +3,28 @@ package planner
 import (
 	"math"
 	"math/rand/v2"
+	"sort"
 
 	"benchtender/campaign"
 	"benchtender/planner/gp"
 )
 
-// fitOptions turns the config into the model's fit options.
-func (p *Planner) fitOptions(warm *gp.Params, rng *rand.Rand) gp.FitOptions {
-	k, _ := gp.ParseKernel(p.cfg.Kernel) // validated
-	return gp.FitOptions{Kernel: k, Starts: p.cfg.FitStarts, Warm: warm, Rand: rng, FixedNoise: p.cfg.NoiseSD * p.cfg.NoiseSD}
-}
+// Acquisition functions.
+const (
+	AcqExpectedImprovement = "expected_improvement"
+	AcqConfidenceBound     = "confidence_bound"
+	AcqProbability         = "probability_of_improvement"
+	AcqThompson            = "thompson"
+)
 
 // Config is the [planner] section.
 type Config struct {
+	// Acquisition picks the next run: "expected_improvement" (default, in
+	// its log form), "confidence_bound", "probability_of_improvement" or
+	// "thompson" (the minimiser of one posterior draw).
+	Acquisition string `toml:"acquisition"`
+	// Beta weighs exploration in the confidence bound: mean − beta·sd.
+	Beta float64 `toml:"beta"`
 	// Candidates is the number of space-filling points at which the
 	// acquisition is scored before local refinement.
 	Candidates int `toml:"candidates"`
@@ -31,14 +40,51 @@ type Config struct {
 	// standard deviation, in the response's unit, or of its logarithm
 	// with transform = "log"); the noise is then not fitted.
 	NoiseSD float64 `toml:"noise_sd"`
+	// Warp turns on the output warping (see warp.go); default on.
+	Warp bool `toml:"warp"`
+	// Batch is how many runs may be in flight at once (instruments with
+	// several positions); pending runs are taken into account.
+	Batch int `toml:"batch"`
+	// Samples is the number of posterior draws behind the optimum's
+	// distribution.
+	Samples int        `toml:"samples"`
+	Stop    StopConfig `toml:"stop"`
+}
+
+// StopConfig is the [planner.stop] section: proposals stop when the 90%
+// credible box of the optimum's location fits inside Tolerance for every
+// factor and the best expected improvement is below EIBelow. With no
+// tolerance the rule is off and only the budget stops a campaign.
+type StopConfig struct {
+	// Tolerance maps a factor name to the width, in its unit, within
+	// which its optimal setting need be known.
+	Tolerance map[string]float64 `toml:"tolerance"`
+	// EIBelow is the expected improvement, in the response's unit, below
+	// which another run is not worth its cost.
+	EIBelow float64 `toml:"ei_below"`
+	// ValueTolerance, in the response's unit, is what "close enough to
+	// the optimum" means for the reported probability that the best run
+	// so far is that close.
+	ValueTolerance float64 `toml:"value_tolerance"`
 }
 
 // Default returns the defaults.
-func Default() Config { return Config{Candidates: 2000, Refine: 5, FitStarts: 2, Kernel: "matern52"} }
+func Default() Config {
+	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, Candidates: 2000, Refine: 5, FitStarts: 2,
+		Kernel: "matern52", Warp: true, Batch: 1, Samples: 64}
+}
 
 // Validate reports every problem, keyed relative to the section.
 func (c Config) Validate() campaign.Problems {
 	var ps campaign.Problems
+	switch c.Acquisition {
+	case AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson:
+	default:
+		ps.Add("acquisition", "must be %s, %s, %s or %s, got %q", AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, c.Acquisition)
+	}
+	if !(c.Beta >= 0) || math.IsInf(c.Beta, 0) {
+		ps.Add("beta", "must be a number of at least 0, got %v", c.Beta)
+	}
 	if c.Candidates < 10 {
 		ps.Add("candidates", "must be at least 10, got %d", c.Candidates)
 	}
@@ -54,5 +100,51 @@ func (c Config) Validate() campaign.Problems {
 	if c.NoiseSD < 0 || math.IsNaN(c.NoiseSD) || math.IsInf(c.NoiseSD, 0) {
 		ps.Add("noise_sd", "must be 0 (learn the noise) or a positive number, got %v", c.NoiseSD)
 	}
+	if c.Batch < 1 || c.Batch > 96 {
+		ps.Add("batch", "must be between 1 and 96, got %d", c.Batch)
+	}
+	if c.Samples < 16 || c.Samples > 4096 {
+		ps.Add("samples", "must be between 16 and 4096, got %d", c.Samples)
+	}
+	names := make([]string, 0, len(c.Stop.Tolerance))
+	for n := range c.Stop.Tolerance {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		if v := c.Stop.Tolerance[n]; !(v > 0) || math.IsInf(v, 0) {
+			ps.Add("stop.tolerance."+n, "must be a positive width, got %v", v)
+		}
+	}
+	if c.Stop.EIBelow < 0 || math.IsNaN(c.Stop.EIBelow) {
+		ps.Add("stop.ei_below", "must not be negative, got %v", c.Stop.EIBelow)
+	}
+	if c.Stop.ValueTolerance < 0 || math.IsNaN(c.Stop.ValueTolerance) {
+		ps.Add("stop.value_tolerance", "must not be negative, got %v", c.Stop.ValueTolerance)
+	}
 	return ps
+}
+
+// ValidateFor checks the keys that name factors against the space.
+func (c Config) ValidateFor(space campaign.Space) campaign.Problems {
+	var ps campaign.Problems
+	for n := range c.Stop.Tolerance {
+		if space.Index(n) < 0 {
+			ps.Add("stop.tolerance."+n, "no factor is named %q", n)
+		}
+	}
+	if len(c.Stop.Tolerance) > 0 && len(c.Stop.Tolerance) != space.Dim() {
+		for _, f := range space {
+			if _, ok := c.Stop.Tolerance[f.Name]; !ok {
+				ps.Add("stop.tolerance", "give a tolerance for every factor or none; %q has none", f.Name)
+			}
+		}
+	}
+	return ps
+}
+
+// fitOptions turns the config into the model's fit options.
+func (p *Planner) fitOptions(warm *gp.Params, rng *rand.Rand) gp.FitOptions {
+	k, _ := gp.ParseKernel(p.cfg.Kernel) // validated
+	return gp.FitOptions{Kernel: k, Starts: p.cfg.FitStarts, Warm: warm, Rand: rng, FixedNoise: p.cfg.NoiseSD * p.cfg.NoiseSD, NoiseFloor: 1e-8}
 }

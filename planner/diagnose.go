@@ -2,13 +2,11 @@ package planner
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
 
 	"benchtender/campaign"
-	"benchtender/planner/gp"
 )
 
 // Scale is a fitted length-scale in a factor's own unit.
@@ -24,11 +22,11 @@ type CheckPoint struct {
 	Index     int     // position in the trials given
 	Measured  float64 // in the response's unit
 	Predicted float64 // in the response's unit
-	// SD is the predictive standard deviation in modelled units: the
-	// response's unit, or natural-log units with transform = "log".
+	// SD is the predictive standard deviation in the model's own units
+	// (see Diagnostics.Units).
 	SD float64
-	// Standardised is (measured − predicted)/SD in modelled units; about
-	// 95% of them lie within ±2 when the model fits.
+	// Standardised is (measured − predicted)/SD in the model's units;
+	// about 95% of them lie within ±2 when the model fits.
 	Standardised float64
 }
 
@@ -39,48 +37,47 @@ type Diagnostics struct {
 	// LengthScales: how far a factor must move, in its own unit, for the
 	// response to change appreciably (a long scale means little effect).
 	LengthScales []Scale
-	// SignalSD and NoiseSD are in modelled units (see CheckPoint.SD).
+	// SignalSD and NoiseSD are in the model's units.
 	SignalSD, NoiseSD float64
+	// Units names the model's units: the response's unit, "natural-log
+	// units" with transform = "log", or "warped units" when the output
+	// warping is on.
+	Units string
 	LogLikelihood     float64
 	Checks            []CheckPoint
-	// LOORMSE is the root mean square leave-one-out error in modelled
-	// units; Outside2 the share of runs whose standardised error exceeds
+	// LOORMSE is the root mean square leave-one-out error in the
+	// response's unit; Outside2 the share of runs whose standardised error exceeds
 	// 2 in size.
 	LOORMSE, Outside2 float64
 }
 
 // Diagnose fits the surrogate to the trials as a proposal would and
 // reports the fit.
-func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagnostics, *gp.Model, error) {
+func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagnostics, *Fitted, error) {
 	if err := ctx.Err(); err != nil {
 		return Diagnostics{}, nil, err
 	}
 	if len(trials) < minFit {
 		return Diagnostics{}, nil, fmt.Errorf("planner: %d completed runs; a model needs at least %d", len(trials), minFit)
 	}
-	x := make([][]float64, len(trials))
-	y := make([]float64, len(trials))
-	for i, t := range trials {
-		if len(t.Point) != p.space.Dim() || !t.Point.Finite() {
-			return Diagnostics{}, nil, errors.New("planner: trial with an unusable point")
-		}
-		x[i] = p.space.ToUnit(nil, t.Point)
-		v, err := p.resp.Modelled(t.Value)
-		if err != nil {
-			return Diagnostics{}, nil, err
-		}
-		y[i] = v
-	}
-	m, err := gp.Fit(x, y, p.fitOptions(nil, rand.New(rand.NewPCG(p.seed, 0xd1a9))))
+	f, err := p.fit(trials, nil, rand.New(rand.NewPCG(p.seed, 0xd1a9)))
 	if err != nil {
-		return Diagnostics{}, nil, fmt.Errorf("planner: fit surrogate: %w", err)
+		return Diagnostics{}, nil, err
+	}
+	m := f.Model
+	units := p.resp.Unit
+	switch {
+	case f.w.on:
+		units = "warped units"
+	case p.resp.Transform == campaign.TransformLog:
+		units = "natural-log units"
 	}
 	par := m.Params()
 	_, scale := m.Standardisation()
 	d := Diagnostics{
 		Runs: len(trials), Kernel: par.Kernel.String(),
 		SignalSD: math.Sqrt(par.SignalVar) * scale, NoiseSD: math.Sqrt(par.NoiseVar) * scale,
-		LogLikelihood: m.LogMarginalLikelihood(),
+		LogLikelihood: m.LogMarginalLikelihood(), Units: units,
 	}
 	for k, f := range p.space {
 		d.LengthScales = append(d.LengthScales, Scale{Factor: f.Name, Unit: f.Unit, Value: par.LengthScales[k] * (f.Max - f.Min)})
@@ -95,13 +92,14 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 	var ss float64
 	out := 0
 	for i := range trials {
-		d.Checks = append(d.Checks, CheckPoint{Index: i, Measured: trials[i].Value, Predicted: p.resp.Measured(loo.Mean[i]), SD: loo.SD[i], Standardised: sign * loo.Standardised[i]})
-		ss += loo.Residual[i] * loo.Residual[i]
+		pred := p.resp.Measured(f.loss(loo.Mean[i]))
+		d.Checks = append(d.Checks, CheckPoint{Index: i, Measured: trials[i].Value, Predicted: pred, SD: loo.SD[i], Standardised: sign * loo.Standardised[i]})
+		ss += (trials[i].Value - pred) * (trials[i].Value - pred)
 		if math.Abs(loo.Standardised[i]) > 2 {
 			out++
 		}
 	}
 	d.LOORMSE = math.Sqrt(ss / float64(len(trials)))
 	d.Outside2 = float64(out) / float64(len(trials))
-	return d, m, nil
+	return d, f, nil
 }

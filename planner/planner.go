@@ -18,7 +18,6 @@ import (
 // Methods named in proposals.
 const (
 	MethodDesign = "initial design"
-	MethodEI     = "expected improvement"
 )
 
 // Planner proposes setpoints for one campaign.
@@ -37,7 +36,7 @@ func New(cc campaign.Config, cfg Config) *Planner {
 	if err := cc.Validate().Err(); err != nil {
 		panic(fmt.Sprintf("planner: invalid campaign: %v", err))
 	}
-	if err := cfg.Validate().Err(); err != nil {
+	if err := append(cfg.Validate(), cfg.ValidateFor(cc.Factors)...).Err(); err != nil {
 		panic(fmt.Sprintf("planner: invalid config: %v", err))
 	}
 	p := &Planner{cfg: cfg, space: cc.Factors, resp: cc.Response, nInit: cc.Initial(), seed: cc.Seed}
@@ -54,9 +53,15 @@ type Request struct {
 	Index int
 	// Trials are the completed runs with a usable value, in factor units.
 	Trials []campaign.Trial
-	// Avoid lists points that must not be proposed again: runs handed
-	// off and still waiting for results, and proposals that were
-	// rejected or refused.
+	// Pending are runs handed off (or about to be) whose results have not
+	// come: the model treats them as observed at its own prediction, so
+	// a batch spreads out.
+	Pending []campaign.Point
+	// Failed are runs that produced no usable value: never modelled as
+	// numbers, they steer proposals away from their region.
+	Failed []campaign.Point
+	// Avoid lists points that must not be proposed again, such as
+	// proposals that were rejected or refused.
 	Avoid []campaign.Point
 	// Warm is the previous fit, used as a warm start.
 	Warm *gp.Params
@@ -69,21 +74,21 @@ type Result struct {
 	Model *gp.Model
 	// Fit is the fitted hyperparameters, for the next warm start.
 	Fit *gp.Params
-	// Best is the loss the improvement is measured against.
+	// Best is the modelled loss the improvement is measured against.
 	Best float64
+	// EI is the largest expected improvement found, in modelled units.
+	EI float64
+	// Stop, when not empty, says why no more runs are worth making; the
+	// proposal is then only what would have been run.
+	Stop string
+	// Optimum is the optimum's distribution when the stopping rule needed
+	// it (nil otherwise).
+	Optimum *Optimum
 }
 
 // minSpacing is the smallest distance, in the unit box, between a proposal
 // and an earlier run: 0.5% of each factor's range when only one differs.
 const minSpacing = 0.005
-
-func pointsOf(x [][]float64) []campaign.Point {
-	out := make([]campaign.Point, len(x))
-	for i, r := range x {
-		out[i] = r
-	}
-	return out
-}
 
 // minFit is the number of completed runs needed before a model is fitted.
 const minFit = 3
@@ -96,32 +101,26 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 		return Result{}, err
 	}
 	rng := rand.New(rand.NewPCG(p.seed, uint64(req.Index)+1))
-	avoid := make([]campaign.Point, len(req.Avoid))
-	for i, a := range req.Avoid {
-		avoid[i] = p.space.ToUnit(nil, a)
+	unit := func(pts []campaign.Point) [][]float64 {
+		out := make([][]float64, len(pts))
+		for i, a := range pts {
+			out[i] = p.space.ToUnit(nil, a)
+		}
+		return out
 	}
+	avoid := unit(append(append(append([]campaign.Point(nil), req.Avoid...), req.Pending...), req.Failed...))
 	if req.Index < p.nInit || len(req.Trials) < minFit {
 		u := p.designPoint(req.Index, rng, avoid)
 		return p.result(req.RunID, u, MethodDesign, 0, Result{})
 	}
 
-	x := make([][]float64, len(req.Trials))
-	y := make([]float64, len(req.Trials))
-	for i, t := range req.Trials {
-		if len(t.Point) != p.space.Dim() || !t.Point.Finite() || math.IsNaN(t.Value) || math.IsInf(t.Value, 0) {
-			return Result{}, fmt.Errorf("planner: trial %d is not usable: %v -> %v", i, t.Point, t.Value)
-		}
-		x[i] = p.space.ToUnit(nil, t.Point)
-		v, err := p.resp.Modelled(t.Value)
-		if err != nil {
-			return Result{}, fmt.Errorf("planner: trial %d: %w", i, err)
-		}
-		y[i] = v
-	}
-	m, err := gp.Fit(x, y, p.fitOptions(req.Warm, rng))
+	ft, err := p.fit(req.Trials, req.Warm, rng)
 	if err != nil {
-		return Result{}, fmt.Errorf("planner: fit surrogate: %w", err)
+		return Result{}, err
 	}
+	m, x := ft.Model, ft.x
+	bestFirst := byValue(x, ft.y)
+	fit := m.Params()
 	// Improvement is measured against the best posterior mean at a run,
 	// which is steadier than the best raw value when runs are noisy
 	// (common practice).
@@ -131,26 +130,195 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 			best = mu
 		}
 	}
-	// A run repeated within a hair of an earlier one teaches the model
-	// almost nothing and costs a full run, so candidates closer than
-	// minSpacing (in the unit box) to a run or an avoided point are not
-	// proposed.
-	near := append(append([]campaign.Point(nil), avoid...), pointsOf(x)...)
-	score := func(u []float64) float64 {
-		for _, a := range near {
-			if dist2(u, a) < minSpacing*minSpacing {
-				return math.Inf(-1)
-			}
-		}
-		mu, v := m.Predict(u)
-		return acquisition.LogExpectedImprovement(mu, math.Sqrt(v), best)
+	// Pending runs: condition on them at the model's own prediction.
+	believer, err := m.WithFantasies(unit(req.Pending))
+	if err != nil {
+		return Result{}, fmt.Errorf("planner: pending runs: %w", err)
 	}
-	u, s, err := p.maximise(ctx, score, x, y, rng)
+	feasible, err := p.feasibility(req.Trials, req.Failed, rng)
 	if err != nil {
 		return Result{}, err
 	}
-	fit := m.Params()
-	return p.result(req.RunID, u, MethodEI, s, Result{Model: m, Fit: &fit, Best: best})
+	near := append(append([][]float64(nil), avoid...), x...)
+	far := func(u []float64) bool {
+		for _, a := range near {
+			if dist2(u, a) < minSpacing*minSpacing {
+				return false
+			}
+		}
+		return true
+	}
+	score, method, err := p.scorer(believer, best, feasible, rng)
+	if err != nil {
+		return Result{}, err
+	}
+	guarded := func(u []float64) float64 {
+		if !far(u) {
+			return math.Inf(-1)
+		}
+		return score(u)
+	}
+	u, s, err := p.maximise(ctx, guarded, bestFirst, rng)
+	if err != nil {
+		return Result{}, err
+	}
+	res := Result{Model: m, Fit: &fit, Best: best}
+	if p.cfg.Acquisition != AcqExpectedImprovement {
+		// Report the best EI anywhere, whatever chose the point.
+		ei := func(v []float64) float64 {
+			return acquisition.LogExpectedImprovement(predictSD(believer, v)(best))
+		}
+		if _, le, err := p.maximise(ctx, func(v []float64) float64 {
+			if !far(v) {
+				return math.Inf(-1)
+			}
+			return ei(v)
+		}, bestFirst, rng); err == nil {
+			res.EI = math.Exp(le)
+		}
+	} else {
+		res.EI = math.Exp(s)
+	}
+	// In the response's units: a small improvement in warped units times
+	// the warping's slope at the incumbent.
+	res.EI *= ft.w.slope(best)
+	res.Best = ft.w.from(best)
+	if stop, opt, err := p.stopping(ctx, ft, res.EI, rng); err != nil {
+		return Result{}, err
+	} else if stop != "" {
+		res.Stop, res.Optimum = stop, opt
+	}
+	return p.result(req.RunID, u, method, s, res)
+}
+
+// predictSD adapts a prediction to the (mean, sd, best) arguments of the
+// acquisition functions.
+func predictSD(m *gp.Model, u []float64) func(best float64) (float64, float64, float64) {
+	mu, v := m.Predict(u)
+	return func(best float64) (float64, float64, float64) { return mu, math.Sqrt(v), best }
+}
+
+// Fitted is a surrogate fitted to a campaign's runs, with the runs on the
+// unit box and their modelled losses.
+type Fitted struct {
+	Model *gp.Model
+	x     [][]float64
+	y     []float64 // modelled losses, before warping
+	w     warp
+}
+
+// Loss maps a model value (warped) back to a modelled loss.
+func (f *Fitted) loss(u float64) float64 { return f.w.from(u) }
+
+// fit fits the surrogate to the trials, on the unit box and the modelled
+// scale (loss, transformed, warped).
+func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) (*Fitted, error) {
+	x := make([][]float64, len(trials))
+	y := make([]float64, len(trials))
+	for i, t := range trials {
+		if len(t.Point) != p.space.Dim() || !t.Point.Finite() || math.IsNaN(t.Value) || math.IsInf(t.Value, 0) {
+			return nil, fmt.Errorf("planner: trial %d is not usable: %v -> %v", i, t.Point, t.Value)
+		}
+		x[i] = p.space.ToUnit(nil, t.Point)
+		v, err := p.resp.Modelled(t.Value)
+		if err != nil {
+			return nil, fmt.Errorf("planner: trial %d: %w", i, err)
+		}
+		y[i] = v
+	}
+	w := p.newWarp(y)
+	yw := make([]float64, len(y))
+	for i := range y {
+		yw[i] = w.to(y[i])
+	}
+	m, err := gp.Fit(x, yw, p.fitOptions(warm, rng))
+	if err != nil {
+		return nil, fmt.Errorf("planner: fit surrogate: %w", err)
+	}
+	return &Fitted{Model: m, x: x, y: y, w: w}, nil
+}
+
+// byValue returns the points ordered from the lowest loss to the highest.
+func byValue(x [][]float64, y []float64) [][]float64 {
+	idx := make([]int, len(x))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool { return y[idx[a]] < y[idx[b]] })
+	out := make([][]float64, len(x))
+	for i, j := range idx {
+		out[i] = x[j]
+	}
+	return out
+}
+
+// scorer returns the acquisition to maximise over the unit box.
+func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) float64, rng *rand.Rand) (func([]float64) float64, string, error) {
+	logFeasible := func(u []float64) float64 {
+		if feasible == nil {
+			return 0
+		}
+		return math.Log(math.Max(feasible(u), 1e-300))
+	}
+	switch p.cfg.Acquisition {
+	case AcqConfidenceBound:
+		return func(u []float64) float64 {
+			if feasible != nil && feasible(u) < 0.5 {
+				return math.Inf(-1)
+			}
+			mu, v := m.Predict(u)
+			return -acquisition.LowerConfidenceBound(mu, math.Sqrt(v), p.cfg.Beta)
+		}, fmt.Sprintf("confidence bound (beta %g)", p.cfg.Beta), nil
+	case AcqProbability:
+		return func(u []float64) float64 {
+			mu, v := m.Predict(u)
+			return acquisition.LogProbabilityOfImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
+		}, "probability of improvement", nil
+	case AcqThompson:
+		paths, err := m.Paths(1, 512, rng)
+		if err != nil {
+			return nil, "", fmt.Errorf("planner: thompson draw: %w", err)
+		}
+		return func(u []float64) float64 {
+			if feasible != nil && feasible(u) < 0.5 {
+				return math.Inf(-1)
+			}
+			return -paths[0].At(u)
+		}, "thompson sampling", nil
+	default:
+		return func(u []float64) float64 {
+			mu, v := m.Predict(u)
+			return acquisition.LogExpectedImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
+		}, "expected improvement", nil
+	}
+}
+
+// feasibility returns the probability that a run at u gives a usable
+// value, from a least-squares classifier over the completed and failed
+// runs (labels +1 and −1; Rasmussen and Williams 2006, section 6.5), as
+// Φ(μ/√(1+σ²)). It returns nil when no run has failed.
+func (p *Planner) feasibility(trials []campaign.Trial, failed []campaign.Point, rng *rand.Rand) (func([]float64) float64, error) {
+	if len(failed) == 0 {
+		return nil, nil
+	}
+	var x [][]float64
+	var y []float64
+	for _, t := range trials {
+		x = append(x, p.space.ToUnit(nil, t.Point))
+		y = append(y, 1)
+	}
+	for _, f := range failed {
+		x = append(x, p.space.ToUnit(nil, f))
+		y = append(y, -1)
+	}
+	c, err := gp.Fit(x, y, gp.FitOptions{Kernel: gp.Matern52, Starts: 1, Rand: rng, NoiseFloor: 1e-3})
+	if err != nil {
+		return nil, fmt.Errorf("planner: feasibility model: %w", err)
+	}
+	return func(u []float64) float64 {
+		mu, v := c.Predict(u)
+		return acquisition.NormCDF(mu / math.Sqrt(1+v))
+	}, nil
 }
 
 func (p *Planner) result(runID string, u campaign.Point, method string, score float64, r Result) (Result, error) {
@@ -176,7 +344,7 @@ func (p *Planner) result(runID string, u campaign.Point, method string, score fl
 // designPoint returns design point i, or a uniform random point once the
 // design is used up (while too few runs have completed to fit a model),
 // skipping points to avoid.
-func (p *Planner) designPoint(i int, rng *rand.Rand, avoid []campaign.Point) campaign.Point {
+func (p *Planner) designPoint(i int, rng *rand.Rand, avoid [][]float64) campaign.Point {
 	if i < len(p.design) {
 		return p.design[i].Clone()
 	}
@@ -185,30 +353,31 @@ func (p *Planner) designPoint(i int, rng *rand.Rand, avoid []campaign.Point) cam
 		for k := range u {
 			u[k] = rng.Float64()
 		}
-		if nearest(u, avoid) > 1e-6 {
+		if nearest(u, avoid) > minSpacing*minSpacing {
 			return u
 		}
 	}
 }
 
 // maximise finds a high score in the unit box: score a space-filling set
-// of candidates plus points scattered around the best runs, then refine the
-// best few by Nelder-Mead on the box (points are clamped into it).
-func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, x [][]float64, y []float64, rng *rand.Rand) (campaign.Point, float64, error) {
+// of candidates plus points scattered around the first few of around (the
+// best runs), then
+// refine the best few by Nelder-Mead with each trial point projected onto
+// the box.
+func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
 	d := p.space.Dim()
 	cands := LatinHypercube(p.cfg.Candidates, d, rng)
-	order := make([]int, len(y))
-	for i := range order {
-		order[i] = i
-	}
-	sort.Slice(order, func(a, b int) bool { return y[order[a]] < y[order[b]] })
-	for _, i := range order[:min(3, len(order))] {
-		for j := 0; j < 50; j++ {
-			c := make(campaign.Point, d)
-			for k := range c {
-				c[k] = math.Min(1, math.Max(0, x[i][k]+0.05*rng.NormFloat64()))
+	// Points near the best runs, where the optimum is likely, at two
+	// scales.
+	for _, sigma := range []float64{0.02, 0.08} {
+		for _, a := range around[:min(5, len(around))] {
+			for j := 0; j < 20; j++ {
+				c := make(campaign.Point, d)
+				for k := range c {
+					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
+				}
+				cands = append(cands, c)
 			}
-			cands = append(cands, c)
 		}
 	}
 	type scored struct {
@@ -224,25 +393,18 @@ func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, x
 		}
 		all = append(all, scored{c, score(c)})
 	}
-	sort.Slice(all, func(a, b int) bool { return all[a].s > all[b].s })
-	if math.IsInf(all[0].s, -1) {
+	sort.SliceStable(all, func(a, b int) bool { return all[a].s > all[b].s })
+	if math.IsInf(all[0].s, -1) || math.IsNaN(all[0].s) {
 		return nil, 0, errors.New("planner: no candidate has a finite acquisition value")
 	}
 	best := all[0]
-	clamp := func(u []float64) []float64 {
-		c := make([]float64, len(u))
-		for k, v := range u {
-			c[k] = math.Min(1, math.Max(0, v))
-		}
-		return c
-	}
 	for _, start := range all[:min(p.cfg.Refine, len(all))] {
 		if err := ctx.Err(); err != nil {
 			return nil, 0, err
 		}
 		prob := optimize.Problem{Func: func(u []float64) float64 {
-			s := score(clamp(u))
-			if math.IsInf(s, -1) {
+			s := score(clampUnit(u))
+			if math.IsInf(s, -1) || math.IsNaN(s) {
 				return math.MaxFloat64
 			}
 			return -s
@@ -251,12 +413,20 @@ func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, x
 		if res == nil {
 			continue
 		}
-		u := clamp(res.X)
+		u := clampUnit(res.X)
 		if s := score(u); s > best.s {
 			best = scored{u, s}
 		}
 	}
 	return best.u, best.s, nil
+}
+
+func clampUnit(u []float64) []float64 {
+	c := make([]float64, len(u))
+	for k, v := range u {
+		c[k] = math.Min(1, math.Max(0, v))
+	}
+	return c
 }
 
 func dist2(a, b []float64) float64 {
@@ -267,10 +437,11 @@ func dist2(a, b []float64) float64 {
 	return s
 }
 
-func nearest(u campaign.Point, set []campaign.Point) float64 {
+func nearest(u []float64, set [][]float64) float64 {
 	d := math.Inf(1)
 	for _, s := range set {
 		d = math.Min(d, dist2(u, s))
 	}
 	return d
 }
+

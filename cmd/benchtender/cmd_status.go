@@ -9,7 +9,6 @@ import (
 	"strings"
 
 	"benchtender/agent"
-	"benchtender/campaign"
 	"benchtender/planner"
 )
 
@@ -29,6 +28,11 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 			fmt.Fprintf(stdout, "  %-10s %d\n", s, counts[s])
 		}
 	}
+	if st.Stopped != "" {
+		fmt.Fprintf(stdout, "proposals stopped: %s\n", st.Stopped)
+	} else if st.Proposals-countStatus(st, agent.StatusRejected, agent.StatusRefused) >= cfg.Campaign.MaxRuns {
+		fmt.Fprintf(stdout, "proposals stopped: the budget of %d runs is spent\n", cfg.Campaign.MaxRuns)
+	}
 	resp := cfg.Campaign.Response
 	if b := st.Best(resp); b != nil {
 		fmt.Fprintf(stdout, "best so far: %s, %s = %.4g %s (%s)\n", b.ID, resp.Name, b.Value, resp.Unit, describePoint(cfg.Campaign.Factors, b.Point))
@@ -47,10 +51,7 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 		fmt.Fprintf(stdout, "model: not fitted (%v)\n", err)
 		return
 	}
-	unit := cfg.Campaign.Response.Unit
-	if cfg.Campaign.Response.Transform == campaign.TransformLog {
-		unit = "(natural-log units)"
-	}
+	unit := d.Units
 	fmt.Fprintf(stdout, "model: Gaussian process, %s kernel, %d runs, log marginal likelihood %.2f\n", d.Kernel, d.Runs, d.LogLikelihood)
 	var scales []string
 	for _, s := range d.LengthScales {
@@ -58,10 +59,22 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 	}
 	fmt.Fprintf(stdout, "  length-scales: %s\n", strings.Join(scales, ", "))
 	fmt.Fprintf(stdout, "  signal sd %.3g %s, noise sd %.3g %s\n", d.SignalSD, unit, d.NoiseSD, unit)
-	fmt.Fprintf(stdout, "  leave-one-out: RMSE %.3g %s; %.0f%% of runs beyond ±2 sd (about 5%% expected when the model fits)\n", d.LOORMSE, unit, 100*d.Outside2)
+	fmt.Fprintf(stdout, "  leave-one-out: RMSE %.3g %s; %.0f%% of runs beyond ±2 sd (about 5%% expected when the model fits)\n", d.LOORMSE, cfg.Campaign.Response.Unit, 100*d.Outside2)
 	worst := append([]planner.CheckPoint(nil), d.Checks...)
 	sort.Slice(worst, func(i, j int) bool { return math.Abs(worst[i].Standardised) > math.Abs(worst[j].Standardised) })
 	for _, c := range worst[:min(3, len(worst))] {
 		fmt.Fprintf(stdout, "    %s measured %.4g, predicted from the others %.4g (standardised error %+.2f)\n", runs[c.Index].ID, c.Measured, c.Predicted, c.Standardised)
 	}
+}
+
+func countStatus(st *agent.State, sts ...string) int {
+	n := 0
+	for _, r := range st.Runs {
+		for _, s := range sts {
+			if r.Status == s {
+				n++
+			}
+		}
+	}
+	return n
 }

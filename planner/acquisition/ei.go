@@ -77,3 +77,27 @@ func logH(z float64) float64 {
 // small. Minimising it (or maximising its negative) trades exploitation
 // against exploration through beta.
 func LowerConfidenceBound(mean, sd, beta float64) float64 { return mean - beta*sd }
+
+// LogNormCDF is ln Φ(z), accurate far into the lower tail, where Φ(z)
+// underflows: for z < −5 it uses Φ(z) = ½ erfcx(−z/√2) exp(−z²/2).
+func LogNormCDF(z float64) float64 {
+	if z < -5 {
+		return math.Log(0.5*Erfcx(-z*invSqrt2)) - 0.5*z*z
+	}
+	return math.Log(NormCDF(z))
+}
+
+// LogProbabilityOfImprovement is ln P(f < best) for f ~ N(mean, sd²)
+// (Kushner 1964): ln Φ((best − mean)/sd).
+func LogProbabilityOfImprovement(mean, sd, best float64) float64 {
+	if math.IsNaN(mean) || math.IsNaN(sd) || math.IsNaN(best) {
+		return math.Inf(-1)
+	}
+	if sd <= 0 {
+		if mean < best {
+			return 0
+		}
+		return math.Inf(-1)
+	}
+	return LogNormCDF((best - mean) / sd)
+}

@@ -11,6 +11,7 @@ type vectors struct {
 	Source string       `json:"source"`
 	Erfcx  [][2]float64 `json:"erfcx"`
 	LogH   [][2]float64 `json:"log_h"`
+	LogPhi [][2]float64 `json:"log_Phi"`
 }
 
 func loadVectors(t *testing.T) vectors {
@@ -104,5 +105,22 @@ func TestLogExpectedImprovementEdges(t *testing.T) {
 			t.Fatalf("ln EI at mean %g: %v after %v", m, l, prev)
 		}
 		prev = l
+	}
+}
+
+// ln Φ(z) against mpmath (testdata/gen_vectors.py) to 1e-12 relative,
+// down to z = −1e6 where Φ itself underflows.
+func TestLogNormCDFAgainstMpmath(t *testing.T) {
+	v := loadVectors(t)
+	if len(v.LogPhi) == 0 {
+		t.Fatal("no log_Phi vectors")
+	}
+	for _, c := range v.LogPhi {
+		if got := LogNormCDF(c[0]); relErr(got, c[1]) > 1e-12 && math.Abs(got-c[1]) > 1e-15 {
+			t.Errorf("LogNormCDF(%g) = %.17g, mpmath %.17g", c[0], got, c[1])
+		}
+	}
+	if l := LogProbabilityOfImprovement(0, 1, 0); math.Abs(l-math.Log(0.5)) > 1e-15 {
+		t.Errorf("PI at z=0: %v, want ln 0.5", l)
 	}
 }

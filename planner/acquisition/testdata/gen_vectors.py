@@ -24,11 +24,16 @@ def log_h(z):
     return mp.log(phi + z * Phi)
 
 
+def log_Phi(z):
+    return mp.log(mp.erfc(-mp.mpf(z) / mp.sqrt(2)) / 2)
+
+
 xs = [-5, -1, -0.5, 0, 1e-8, 0.1, 0.5, 1, 2, 3.5, 5, 9.99, 10, 10.01, 15, 26, 27, 50, 100, 1e3, 1e5, 1e10]
 zs = [5, 2, 1, 0.5, 0, -0.5, -0.999, -1, -1.001, -2, -5, -10, -20, -37, -38, -50, -100, -500, -999, -1000, -1001, -1e4, -1e6]
 out = {
     "source": "mpmath %s, 50 digits (gen_vectors.py)" % mp.__version__,
     "erfcx": [[x, float(erfcx(x))] for x in xs],
     "log_h": [[z, float(log_h(z))] for z in zs],
+    "log_Phi": [[z, float(log_Phi(z))] for z in zs],
 }
 print(json.dumps(out, indent=1))

@@ -1,0 +1,146 @@
+// Command runsbench counts how many runs the planner needs to reach the
+// optimum of published test functions (planner/testfn): closed-loop
+// campaigns over many seeds, each stopped when the best value found is
+// within 1% relative error of the known minimum, |best − min|/|min| < 0.01,
+// with the initial design counted. Random search is the baseline. With
+// -noise, every observation carries Gaussian noise of 1% of the function's
+// range and a campaign counts as done when the true value at one of its
+// runs is within 1%.
+//
+//	go run ./scripts/runsbench                 # every function, 30 seeds
+//	go run ./scripts/runsbench -noise -seeds 10 -only branin
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"sort"
+	"strings"
+	"time"
+
+	"benchtender/campaign"
+	"benchtender/planner"
+	"benchtender/planner/gp"
+	"benchtender/planner/testfn"
+)
+
+func main() {
+	seeds := flag.Int("seeds", 30, "campaigns per function")
+	noise := flag.Bool("noise", false, "add Gaussian noise of 1% of the function's range")
+	only := flag.String("only", "", "comma-separated function names (default: all)")
+	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
+	flag.Parse()
+	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s\n\n", *seeds, *noise, *acq)
+	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
+	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
+	for _, f := range testfn.All() {
+		if *only != "" && !strings.Contains(","+*only+",", ","+f.Name+",") {
+			continue
+		}
+		budget := map[int]int{1: 40, 2: 60, 6: 200}[f.Space.Dim()]
+		rangeF := span(f)
+		var counts []float64
+		reached := 0
+		start := time.Now()
+		for s := 1; s <= *seeds; s++ {
+			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq)
+			if ok {
+				reached++
+			}
+			counts = append(counts, float64(n))
+			fmt.Fprintf(os.Stderr, "%s seed %d: %d runs (reached %v)\n", f.Name, s, n, ok)
+		}
+		per := time.Since(start) / time.Duration(*seeds)
+		var rs []float64
+		for s := 1; s <= 200; s++ {
+			rs = append(rs, float64(randomRuns(f, uint64(s), 1_000_000, *noise, rangeF)))
+		}
+		mean, sd := meanSD(counts)
+		sort.Float64s(counts)
+		rmean, _ := meanSD(rs)
+		fmt.Printf("| %s | %d | %.1f | %.1f | %.0f | %.0f-%.0f | %d/%d | %.0f | %.1f s |\n", f.Name, budget, mean, sd, counts[len(counts)/2], counts[0], counts[len(counts)-1], reached, *seeds, rmean, per.Seconds())
+	}
+	fmt.Println("\nA campaign that does not reach 1% within its budget counts as the budget.")
+}
+
+func reachedMin(f testfn.Function, v float64) bool {
+	return math.Abs(v-f.Min)/math.Abs(f.Min) < 0.01
+}
+
+// campaignRuns runs one closed-loop campaign and returns the number of
+// evaluations until the 1% level was reached (or the budget).
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string) (int, bool) {
+	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
+		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
+	cfg := planner.Default()
+	cfg.Acquisition = acq
+	p := planner.New(cc, cfg)
+	noiseRNG := rand.New(rand.NewPCG(seed, 99))
+	var trials []campaign.Trial
+	var warm *gp.Params
+	for i := 0; i < budget; i++ {
+		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm})
+		if err != nil {
+			fmt.Fprintf(os.Stderr, "%s seed %d run %d: %v\n", f.Name, seed, i, err)
+			return budget, false
+		}
+		warm = res.Fit
+		truth := f.F(res.Proposal.Point)
+		obs := truth
+		if noisy {
+			obs += 0.01 * rangeF * noiseRNG.NormFloat64()
+		}
+		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: obs})
+		if reachedMin(f, truth) {
+			return i + 1, true
+		}
+	}
+	return budget, false
+}
+
+// randomRuns draws uniform points until one reaches the 1% level.
+func randomRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64) int {
+	rng := rand.New(rand.NewPCG(seed, 7))
+	x := make([]float64, f.Space.Dim())
+	for i := 0; i < budget; i++ {
+		for k, fa := range f.Space {
+			x[k] = fa.Min + rng.Float64()*(fa.Max-fa.Min)
+		}
+		if reachedMin(f, f.F(x)) {
+			return i + 1
+		}
+	}
+	return budget
+}
+
+// span is the function's range over its domain, from 100,000 random
+// points (for the noise level).
+func span(f testfn.Function) float64 {
+	rng := rand.New(rand.NewPCG(1, 1))
+	lo, hi := math.Inf(1), math.Inf(-1)
+	x := make([]float64, f.Space.Dim())
+	for i := 0; i < 100000; i++ {
+		for k, fa := range f.Space {
+			x[k] = fa.Min + rng.Float64()*(fa.Max-fa.Min)
+		}
+		v := f.F(x)
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	return hi - lo
+}
+
+func meanSD(v []float64) (float64, float64) {
+	var s, ss float64
+	for _, x := range v {
+		s += x
+	}
+	m := s / float64(len(v))
+	for _, x := range v {
+		ss += (x - m) * (x - m)
+	}
+	return m, math.Sqrt(ss / float64(len(v)-1))
+}
