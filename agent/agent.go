@@ -68,6 +68,7 @@ func New(cfg Config, opt Options) (*Agent, error) {
 	if err := cfg.Validate(opt.Registry).Err(); err != nil {
 		return nil, fmt.Errorf("agent: invalid config: %w", err)
 	}
+	cfg.Campaign.Factors = cfg.Campaign.Factors.Normalised()
 	p, err := opt.Registry.New(cfg.Instrument.Parser)
 	if err != nil {
 		return nil, fmt.Errorf("agent: parser: %w", err)
@@ -378,7 +379,7 @@ func (a *Agent) plan(ctx context.Context) error {
 		return a.record(Entry{Kind: KindStop, Reason: res.Stop})
 	}
 	prop := res.Proposal
-	prop.Point = roundPoint(prop.Point)
+	prop.Point = roundPoint(a.cfg.Campaign.Factors, prop.Point)
 	d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, prop.Setpoint)
 	if err := a.record(Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d}); err != nil {
 		return err

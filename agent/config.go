@@ -67,6 +67,9 @@ func DefaultConfig() Config {
 func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	var ps campaign.Problems
 	ps = append(ps, c.Campaign.Validate().Prefix("campaign")...)
+	if _, cps := planner.CompileConstraints(c.Campaign.Factors, c.Campaign.Constraints); len(cps) > 0 {
+		ps = append(ps, cps.Prefix("campaign")...)
+	}
 	ps = append(ps, c.Planner.Validate().Prefix("planner")...)
 	ps = append(ps, c.Planner.ValidateFor(c.Campaign.Factors).Prefix("planner")...)
 	ps = append(ps, c.Instrument.validate(reg, c.Campaign).Prefix("instrument")...)
@@ -172,6 +175,7 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 		return Config{}, &ConfigError{Path: path, Problems: out}
 	}
 	cfg.resolve(filepath.Dir(path))
+	cfg.Campaign.Factors = cfg.Campaign.Factors.Normalised()
 	return cfg, nil
 }
 

@@ -17,7 +17,7 @@ func TestExampleConfigIsValid(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if cfg.Campaign.Factors.Dim() != 3 || cfg.Instrument.Parser.Delimiter != ";" || cfg.Campaign.StateDir != filepath.Join("..", "state") {
+	if cfg.Campaign.Factors.Dim() != 4 || cfg.Instrument.Parser.Delimiter != ";" || cfg.Campaign.StateDir != filepath.Join("..", "state") {
 		t.Errorf("unexpected config %+v", cfg.Campaign)
 	}
 	if w := cfg.Warnings(); len(w) != 0 {

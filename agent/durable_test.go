@@ -45,7 +45,7 @@ func TestSweepTempRemovesOnlyOurTempFiles(t *testing.T) {
 
 func TestRenderHandoff(t *testing.T) {
 	space := campaign.Space{{Name: "temp", Unit: "degC", Min: 0, Max: 100}, {Name: "flow", Min: 1, Max: 5}}
-	sp := campaign.Setpoint{RunID: "R0003", Point: roundPoint(campaign.Point{72.123456789, 2.5})}
+	sp := campaign.Setpoint{RunID: "R0003", Point: roundPoint(space, campaign.Point{72.123456789, 2.5})}
 	csv, err := renderHandoff(space, sp, HandoffCSV)
 	if err != nil || string(csv) != "run,temp,flow\nR0003,72.1235,2.5\n" {
 		t.Errorf("csv %q, %v", csv, err)

@@ -14,12 +14,16 @@ import (
 // handoffName is the file name of a run's setpoint file.
 func handoffName(runID, format string) string { return runID + "." + format }
 
-// roundPoint rounds every value to 6 significant digits, so that the value
-// gated is exactly the value written and read back by the instrument.
-func roundPoint(p campaign.Point) campaign.Point {
+// roundPoint rounds every continuous value to 6 significant digits, so
+// that the value gated is exactly the value written and read back by the
+// instrument. Integers, levels and choices are exact already.
+func roundPoint(space campaign.Space, p campaign.Point) campaign.Point {
 	out := make(campaign.Point, len(p))
 	for i, v := range p {
-		out[i], _ = strconv.ParseFloat(strconv.FormatFloat(v, 'g', 6, 64), 64)
+		out[i] = v
+		if i < len(space) && (space[i].Kind == "" || space[i].Kind == campaign.Continuous) {
+			out[i], _ = strconv.ParseFloat(strconv.FormatFloat(v, 'g', 6, 64), 64)
+		}
 	}
 	return out
 }
@@ -30,15 +34,14 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format string) ([
 	if err := sp.Validate(space); err != nil {
 		return nil, err
 	}
-	num := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 	switch format {
 	case HandoffCSV:
 		var b bytes.Buffer
 		w := csv.NewWriter(&b)
 		header := append([]string{"run"}, space.Names()...)
 		row := []string{sp.RunID}
-		for _, v := range sp.Point {
-			row = append(row, num(v))
+		for i, v := range sp.Point {
+			row = append(row, space[i].Format(v))
 		}
 		if err := w.WriteAll([][]string{header, row}); err != nil {
 			return nil, err
@@ -46,9 +49,10 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format string) ([
 		return b.Bytes(), nil
 	case HandoffJSON:
 		type value struct {
-			Name  string  `json:"name"`
-			Value float64 `json:"value"`
-			Unit  string  `json:"unit,omitempty"`
+			Name   string  `json:"name"`
+			Value  float64 `json:"value"`
+			Choice string  `json:"choice,omitempty"`
+			Unit   string  `json:"unit,omitempty"`
 		}
 		doc := struct {
 			Run       string  `json:"run"`
@@ -58,7 +62,11 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format string) ([
 			if math.IsNaN(sp.Point[i]) {
 				return nil, fmt.Errorf("handoff %s: NaN for %s", sp.RunID, f.Name)
 			}
-			doc.Setpoints = append(doc.Setpoints, value{f.Name, sp.Point[i], f.Unit})
+			v := value{Name: f.Name, Value: sp.Point[i], Unit: f.Unit}
+			if f.Kind == campaign.Choice {
+				v.Choice = f.Format(sp.Point[i])
+			}
+			doc.Setpoints = append(doc.Setpoints, v)
 		}
 		out, err := json.MarshalIndent(doc, "", "  ")
 		return append(out, '\n'), err

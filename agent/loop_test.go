@@ -261,3 +261,20 @@ func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 		t.Errorf("%d ingests, want 2 (the copy and the old file must not count): %d entries before restart, %d after", ingests, n, len(es))
 	}
 }
+
+// With planner.batch = 2 two setpoints are handed off before any result
+// comes, and they differ.
+func TestBatchOfTwoInFlight(t *testing.T) {
+	tc := newTestCampaign(t, "4", defaultLimits)
+	tc.cfg.Planner.Batch = 2
+	events, stop := tc.start(t)
+	h1 := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h2 := waitFor(t, events, "a second handoff", kind(KindHandoff))
+	stop()
+	if h1.Run == h2.Run || (h1.Point[0] == h2.Point[0] && h1.Point[1] == h2.Point[1]) {
+		t.Fatalf("two handoffs %v %v", h1, h2)
+	}
+	if n := len(Replay(readJournalT(t, tc)).InFlight()); n != 2 {
+		t.Errorf("%d in flight, want 2", n)
+	}
+}

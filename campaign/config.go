@@ -1,5 +1,10 @@
 package campaign
 
+import (
+	"fmt"
+	"strings"
+)
+
 // Config is the [campaign] section of a configuration file.
 type Config struct {
 	Name string `toml:"name"`
@@ -11,9 +16,10 @@ type Config struct {
 	// been handed off.
 	MaxRuns int `toml:"max_runs"`
 	// InitialRuns is the size of the space-filling initial design.
-	InitialRuns int      `toml:"initial_runs"`
-	Factors     Space    `toml:"factor"`
-	Response    Response `toml:"response"`
+	InitialRuns int          `toml:"initial_runs"`
+	Factors     Space        `toml:"factor"`
+	Response    Response     `toml:"response"`
+	Constraints []Constraint `toml:"constraint"`
 }
 
 // DefaultConfig returns the defaults for keys a file may leave out.
@@ -38,6 +44,14 @@ func (c Config) Validate() Problems {
 	if c.InitialRuns < 0 {
 		ps.Add("initial_runs", "must not be negative, got %d", c.InitialRuns)
 	}
+	for i, k := range c.Constraints {
+		if !ValidName(k.Name) {
+			ps.Add(fmt.Sprintf("constraint[%d].name", i), "%q is not a valid name", k.Name)
+		}
+		if strings.TrimSpace(k.Expression) == "" {
+			ps.Add(fmt.Sprintf("constraint[%d].expression", i), "must not be empty")
+		}
+	}
 	if c.InitialRuns > c.MaxRuns && c.MaxRuns >= 1 {
 		ps.Add("initial_runs", "%d is more than max_runs (%d)", c.InitialRuns, c.MaxRuns)
 	}
@@ -52,4 +66,13 @@ func (c Config) Initial() int {
 		n = max(5, 2*c.Factors.Dim()+2)
 	}
 	return min(n, c.MaxRuns)
+}
+
+// Constraint is a known restriction of the process over several factors,
+// an expression that must hold for every setpoint, such as
+// "water + ethanol <= 1". Choice factors appear as their names ("catalyst
+// == \"Pd\""). The planner never proposes a setpoint that breaks one.
+type Constraint struct {
+	Name       string `toml:"name"`
+	Expression string `toml:"expression"`
 }

@@ -4,6 +4,9 @@ import (
 	"fmt"
 	"math"
 	"regexp"
+	"sort"
+	"strconv"
+	"strings"
 )
 
 // namePattern is what factor and response names may look like: they become
@@ -13,13 +16,94 @@ var namePattern = regexp.MustCompile(`^[A-Za-z][A-Za-z0-9_]{0,63}$`)
 // ValidName reports whether s may name a factor or a response.
 func ValidName(s string) bool { return namePattern.MatchString(s) }
 
-// Factor is one setting of the process that the campaign varies, continuous
-// between Min and Max, in Unit.
+// Kinds of factor.
+const (
+	Continuous = "continuous" // any value between min and max (the default)
+	Integer    = "integer"    // whole numbers between min and max
+	Levels     = "levels"     // one of a list of values, e.g. 5, 10, 20 mL
+	Choice     = "choice"     // one of a list of names, e.g. three catalysts
+)
+
+// Factor is one setting of the process that the campaign varies, between
+// Min and Max in Unit. A choice factor's value in a Point is the index of
+// the choice (0 for the first); its Min and Max are 0 and len(Choices)−1.
 type Factor struct {
-	Name string  `toml:"name"`
-	Unit string  `toml:"unit"`
-	Min  float64 `toml:"min"`
-	Max  float64 `toml:"max"`
+	Name    string    `toml:"name"`
+	Unit    string    `toml:"unit"`
+	Kind    string    `toml:"kind"`
+	Min     float64   `toml:"min"`
+	Max     float64   `toml:"max"`
+	Levels  []float64 `toml:"levels"`
+	Choices []string  `toml:"choices"`
+}
+
+// Normalised returns the factor with its kind spelled out and, for levels
+// and choices, Min and Max set from the list (Validate first).
+func (f Factor) Normalised() Factor {
+	if f.Kind == "" {
+		f.Kind = Continuous
+	}
+	switch f.Kind {
+	case Levels:
+		if len(f.Levels) > 0 {
+			f.Levels = append([]float64(nil), f.Levels...)
+			sort.Float64s(f.Levels)
+			f.Min, f.Max = f.Levels[0], f.Levels[len(f.Levels)-1]
+		}
+	case Choice:
+		f.Min, f.Max = 0, float64(max(len(f.Choices)-1, 0))
+	}
+	return f
+}
+
+// Valid reports whether v is a value the factor can take.
+func (f Factor) Valid(v float64) bool {
+	if !finite(v) || v < f.Min || v > f.Max {
+		return false
+	}
+	switch f.Kind {
+	case Integer, Choice:
+		return v == math.Round(v)
+	case Levels:
+		for _, l := range f.Levels {
+			if v == l {
+				return true
+			}
+		}
+		return false
+	}
+	return true
+}
+
+// Snap returns the valid value nearest to v (v clamped into [Min, Max]
+// first).
+func (f Factor) Snap(v float64) float64 {
+	v = math.Min(f.Max, math.Max(f.Min, v))
+	switch f.Kind {
+	case Integer, Choice:
+		return math.Min(f.Max, math.Max(f.Min, math.Round(v)))
+	case Levels:
+		best := f.Levels[0]
+		for _, l := range f.Levels {
+			if math.Abs(l-v) < math.Abs(best-v) {
+				best = l
+			}
+		}
+		return best
+	}
+	return v
+}
+
+// Format renders a value as a setpoint file shows it: the choice's name
+// for a choice factor, the shortest exact decimal otherwise.
+func (f Factor) Format(v float64) string {
+	if f.Kind == Choice {
+		i := int(v)
+		if i >= 0 && i < len(f.Choices) && float64(i) == v {
+			return f.Choices[i]
+		}
+	}
+	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
 // Validate reports what is wrong with the factor.
@@ -27,6 +111,46 @@ func (f Factor) Validate() Problems {
 	var ps Problems
 	if !ValidName(f.Name) {
 		ps.Add("name", "%q is not a valid name (a letter, then letters, digits or _; at most 64)", f.Name)
+	}
+	switch f.Kind {
+	case "", Continuous, Integer:
+	case Levels:
+		if len(f.Levels) < 2 {
+			ps.Add("levels", "a levels factor needs at least two levels, got %d", len(f.Levels))
+		}
+		seen := map[float64]bool{}
+		for _, l := range f.Levels {
+			if !finite(l) || seen[l] {
+				ps.Add("levels", "levels must be distinct finite numbers, got %v", f.Levels)
+				break
+			}
+			seen[l] = true
+		}
+		return ps
+	case Choice:
+		if len(f.Choices) < 2 {
+			ps.Add("choices", "a choice factor needs at least two choices, got %d", len(f.Choices))
+		}
+		seen := map[string]bool{}
+		for _, c := range f.Choices {
+			if c == "" || seen[c] || strings.ContainsAny(c, ",\"\r\n") {
+				ps.Add("choices", "choices must be distinct non-empty names without commas, quotes or line breaks, got %q", f.Choices)
+				break
+			}
+			seen[c] = true
+		}
+		return ps
+	default:
+		ps.Add("kind", "must be %q, %q, %q or %q, got %q", Continuous, Integer, Levels, Choice, f.Kind)
+	}
+	if len(f.Levels) > 0 {
+		ps.Add("levels", "only a factor of kind %q takes levels", Levels)
+	}
+	if len(f.Choices) > 0 {
+		ps.Add("choices", "only a factor of kind %q takes choices", Choice)
+	}
+	if f.Kind == Integer && (f.Min != math.Round(f.Min) || f.Max != math.Round(f.Max)) {
+		ps.Add("min", "an integer factor needs whole-number bounds, got %v and %v", f.Min, f.Max)
 	}
 	if !finite(f.Min) {
 		ps.Add("min", "must be a finite number, got %v", f.Min)
@@ -84,17 +208,36 @@ func (s Space) Validate() Problems {
 	return ps
 }
 
-// Contains reports whether p lies inside the factor box (bounds included).
+// Normalised returns the space with every factor normalised.
+func (s Space) Normalised() Space {
+	out := make(Space, len(s))
+	for i, f := range s {
+		out[i] = f.Normalised()
+	}
+	return out
+}
+
+// Contains reports whether p is a setpoint the factors can take: inside
+// the bounds, whole for integers and choices, one of the levels.
 func (s Space) Contains(p Point) bool {
 	if len(p) != len(s) {
 		return false
 	}
 	for i, f := range s {
-		if !finite(p[i]) || p[i] < f.Min || p[i] > f.Max {
+		if !f.Valid(p[i]) {
 			return false
 		}
 	}
 	return true
+}
+
+// Snap returns the valid setpoint nearest to p, factor by factor.
+func (s Space) Snap(p Point) Point {
+	out := make(Point, len(p))
+	for i, f := range s {
+		out[i] = f.Snap(p[i])
+	}
+	return out
 }
 
 // ToUnit maps p from the factors' units into the unit box [0,1]^d, writing

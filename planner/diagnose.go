@@ -42,9 +42,9 @@ type Diagnostics struct {
 	// Units names the model's units: the response's unit, "natural-log
 	// units" with transform = "log", or "warped units" when the output
 	// warping is on.
-	Units string
-	LogLikelihood     float64
-	Checks            []CheckPoint
+	Units         string
+	LogLikelihood float64
+	Checks        []CheckPoint
 	// LOORMSE is the root mean square leave-one-out error in the
 	// response's unit; Outside2 the share of runs whose standardised error exceeds
 	// 2 in size.
@@ -79,8 +79,22 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 		SignalSD: math.Sqrt(par.SignalVar) * scale, NoiseSD: math.Sqrt(par.NoiseVar) * scale,
 		LogLikelihood: m.LogMarginalLikelihood(), Units: units,
 	}
-	for k, f := range p.space {
-		d.LengthScales = append(d.LengthScales, Scale{Factor: f.Name, Unit: f.Unit, Value: par.LengthScales[k] * (f.Max - f.Min)})
+	off := 0
+	for _, f := range p.space {
+		if f.Kind == campaign.Choice {
+			// One-hot inputs: the shortest of its scales, in units
+			// of "switching choice" (about 1.4 or less: a strong
+			// effect; much more: little effect).
+			l := math.Inf(1)
+			for c := range f.Choices {
+				l = math.Min(l, par.LengthScales[off+c])
+			}
+			d.LengthScales = append(d.LengthScales, Scale{Factor: f.Name, Unit: "(choice)", Value: l})
+			off += len(f.Choices)
+			continue
+		}
+		d.LengthScales = append(d.LengthScales, Scale{Factor: f.Name, Unit: f.Unit, Value: par.LengthScales[off] * (f.Max - f.Min)})
+		off++
 	}
 	loo := m.LeaveOneOut()
 	// The model works on losses; a maximised response flips the sign of

@@ -87,7 +87,7 @@ func (p *Planner) OptimumOf(ctx context.Context, f *Fitted, samples int, rng *ra
 	// The best run so far, by posterior mean.
 	bestRun, bestMu := -1, math.Inf(1)
 	for i, xi := range x {
-		if mu, _ := m.Predict(xi); mu < bestMu {
+		if mu, _ := m.Predict(p.encode(xi)); mu < bestMu {
 			bestRun, bestMu = i, mu
 		}
 	}
@@ -103,12 +103,12 @@ func (p *Planner) OptimumOf(ctx context.Context, f *Fitted, samples int, rng *ra
 		go func() {
 			defer wg.Done()
 			for s := range next {
-				bu, bv := minimisePath(paths[s], cands, d)
+				bu, bv := p.minimisePath(paths[s], cands, d)
 				o.Minimisers[s] = p.space.FromUnit(nil, bu)
 				lossAt[s] = bv
 				o.Values[s] = p.resp.Measured(f.loss(bv))
 				if bestRun >= 0 && p.cfg.Stop.ValueTolerance > 0 {
-					near[s] = math.Abs(p.resp.Measured(f.loss(paths[s].At(x[bestRun])))-o.Values[s]) <= p.cfg.Stop.ValueTolerance
+					near[s] = math.Abs(p.resp.Measured(f.loss(paths[s].At(p.encode(x[bestRun]))))-o.Values[s]) <= p.cfg.Stop.ValueTolerance
 				}
 			}
 		}()
@@ -149,26 +149,40 @@ func (p *Planner) OptimumOf(ctx context.Context, f *Fitted, samples int, rng *ra
 	return o, nil
 }
 
-// minimisePath finds a draw's minimiser: the best of the shared
-// candidates, refined by Nelder-Mead from its best two.
-func minimisePath(path *gp.Path, cands []campaign.Point, d int) ([]float64, float64) {
+// minimisePath finds a draw's minimiser over the valid, feasible
+// setpoints: the best of the shared candidates, refined by Nelder-Mead from
+// its best two.
+func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int) ([]float64, float64) {
 	type cv struct {
 		u []float64
 		v float64
 	}
+	at := func(u []float64) float64 {
+		u = p.snapUnit(u)
+		if !p.feasibleUnit(u) {
+			return math.Inf(1)
+		}
+		return path.At(p.encode(u))
+	}
 	vals := make([]cv, len(cands))
 	for i, c := range cands {
-		vals[i] = cv{c, path.At(c)}
+		vals[i] = cv{p.snapUnit(c), at(c)}
 	}
 	sort.Slice(vals, func(a, b int) bool { return vals[a].v < vals[b].v })
 	bu, bv := vals[0].u, vals[0].v
 	for _, st := range vals[:min(2, len(vals))] {
-		res, _ := optimize.Minimize(optimize.Problem{Func: func(u []float64) float64 { return path.At(clampUnit(u)) }},
+		res, _ := optimize.Minimize(optimize.Problem{Func: func(u []float64) float64 {
+			v := at(u)
+			if math.IsInf(v, 1) {
+				return math.MaxFloat64
+			}
+			return v
+		}},
 			st.u, &optimize.Settings{FuncEvaluations: 40 * d, Converger: &optimize.FunctionConverge{Absolute: 1e-7, Iterations: 10}},
 			&optimize.NelderMead{SimplexSize: 0.02})
 		if res != nil {
-			if u := clampUnit(res.X); path.At(u) < bv {
-				bu, bv = u, path.At(u)
+			if u := p.snapUnit(res.X); at(u) < bv {
+				bu, bv = u, at(u)
 			}
 		}
 	}

@@ -28,6 +28,10 @@ type Planner struct {
 	nInit  int
 	seed   uint64
 	design []campaign.Point // unit box
+	cons   constraintSet
+
+	hasChoice, hasDiscrete bool
+	encDim                 int // inputs of the surrogate
 }
 
 // New returns a planner for the campaign. It panics on an invalid config,
@@ -39,8 +43,29 @@ func New(cc campaign.Config, cfg Config) *Planner {
 	if err := append(cfg.Validate(), cfg.ValidateFor(cc.Factors)...).Err(); err != nil {
 		panic(fmt.Sprintf("planner: invalid config: %v", err))
 	}
-	p := &Planner{cfg: cfg, space: cc.Factors, resp: cc.Response, nInit: cc.Initial(), seed: cc.Seed}
+	cons, ps := CompileConstraints(cc.Factors, cc.Constraints)
+	if len(ps) > 0 {
+		panic(fmt.Sprintf("planner: invalid constraints: %v", ps))
+	}
+	p := &Planner{cfg: cfg, space: cc.Factors.Normalised(), resp: cc.Response, nInit: cc.Initial(), seed: cc.Seed, cons: cons}
+	for _, f := range p.space {
+		switch f.Kind {
+		case campaign.Choice:
+			p.hasChoice, p.hasDiscrete = true, true
+			p.encDim += len(f.Choices)
+		case campaign.Integer, campaign.Levels:
+			p.hasDiscrete = true
+			p.encDim++
+		default:
+			p.encDim++
+		}
+	}
+	// The design: a Latin hypercube, snapped to valid values; points
+	// that break a constraint are replaced when used (designPoint).
 	p.design = LatinHypercube(p.nInit, p.space.Dim(), rand.NewPCG(p.seed, 0x1a7e))
+	for i, u := range p.design {
+		p.design[i] = p.snapUnit(u)
+	}
 	return p
 }
 
@@ -110,7 +135,10 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	}
 	avoid := unit(append(append(append([]campaign.Point(nil), req.Avoid...), req.Pending...), req.Failed...))
 	if req.Index < p.nInit || len(req.Trials) < minFit {
-		u := p.designPoint(req.Index, rng, avoid)
+		u, err := p.designPoint(req.Index, rng, avoid)
+		if err != nil {
+			return Result{}, err
+		}
 		return p.result(req.RunID, u, MethodDesign, 0, Result{})
 	}
 
@@ -126,12 +154,16 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	// (common practice).
 	best := math.Inf(1)
 	for _, xi := range x {
-		if mu, _ := m.Predict(xi); mu < best {
+		if mu, _ := m.Predict(p.encode(xi)); mu < best {
 			best = mu
 		}
 	}
 	// Pending runs: condition on them at the model's own prediction.
-	believer, err := m.WithFantasies(unit(req.Pending))
+	pend := unit(req.Pending)
+	for i := range pend {
+		pend[i] = p.encode(pend[i])
+	}
+	believer, err := m.WithFantasies(pend)
 	if err != nil {
 		return Result{}, fmt.Errorf("planner: pending runs: %w", err)
 	}
@@ -166,7 +198,7 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	if p.cfg.Acquisition != AcqExpectedImprovement {
 		// Report the best EI anywhere, whatever chose the point.
 		ei := func(v []float64) float64 {
-			return acquisition.LogExpectedImprovement(predictSD(believer, v)(best))
+			return acquisition.LogExpectedImprovement(p.predictSD(believer, v)(best))
 		}
 		if _, le, err := p.maximise(ctx, func(v []float64) float64 {
 			if !far(v) {
@@ -191,10 +223,10 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	return p.result(req.RunID, u, method, s, res)
 }
 
-// predictSD adapts a prediction to the (mean, sd, best) arguments of the
-// acquisition functions.
-func predictSD(m *gp.Model, u []float64) func(best float64) (float64, float64, float64) {
-	mu, v := m.Predict(u)
+// predictSD adapts a prediction at a unit-box point to the (mean, sd,
+// best) arguments of the acquisition functions.
+func (p *Planner) predictSD(m *gp.Model, u []float64) func(best float64) (float64, float64, float64) {
+	mu, v := m.Predict(p.encode(u))
 	return func(best float64) (float64, float64, float64) { return mu, math.Sqrt(v), best }
 }
 
@@ -228,10 +260,12 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) 
 	}
 	w := p.newWarp(y)
 	yw := make([]float64, len(y))
+	gx := make([][]float64, len(x))
 	for i := range y {
 		yw[i] = w.to(y[i])
+		gx[i] = p.encode(x[i])
 	}
-	m, err := gp.Fit(x, yw, p.fitOptions(warm, rng))
+	m, err := gp.Fit(gx, yw, p.fitOptions(warm, rng))
 	if err != nil {
 		return nil, fmt.Errorf("planner: fit surrogate: %w", err)
 	}
@@ -254,11 +288,17 @@ func byValue(x [][]float64, y []float64) [][]float64 {
 
 // scorer returns the acquisition to maximise over the unit box.
 func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) float64, rng *rand.Rand) (func([]float64) float64, string, error) {
+	// Where failure is more likely than success nothing is proposed;
+	// elsewhere EI and PI are weighted by the chance of success.
 	logFeasible := func(u []float64) float64 {
 		if feasible == nil {
 			return 0
 		}
-		return math.Log(math.Max(feasible(u), 1e-300))
+		pf := feasible(u)
+		if pf < 0.5 {
+			return math.Inf(-1)
+		}
+		return math.Log(pf)
 	}
 	switch p.cfg.Acquisition {
 	case AcqConfidenceBound:
@@ -266,12 +306,12 @@ func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) flo
 			if feasible != nil && feasible(u) < 0.5 {
 				return math.Inf(-1)
 			}
-			mu, v := m.Predict(u)
+			mu, v := m.Predict(p.encode(u))
 			return -acquisition.LowerConfidenceBound(mu, math.Sqrt(v), p.cfg.Beta)
 		}, fmt.Sprintf("confidence bound (beta %g)", p.cfg.Beta), nil
 	case AcqProbability:
 		return func(u []float64) float64 {
-			mu, v := m.Predict(u)
+			mu, v := m.Predict(p.encode(u))
 			return acquisition.LogProbabilityOfImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
 		}, "probability of improvement", nil
 	case AcqThompson:
@@ -283,18 +323,19 @@ func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) flo
 			if feasible != nil && feasible(u) < 0.5 {
 				return math.Inf(-1)
 			}
-			return -paths[0].At(u)
+			return -paths[0].At(p.encode(u))
 		}, "thompson sampling", nil
 	default:
 		return func(u []float64) float64 {
-			mu, v := m.Predict(u)
+			mu, v := m.Predict(p.encode(u))
 			return acquisition.LogExpectedImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
 		}, "expected improvement", nil
 	}
 }
 
 // feasibility returns the probability that a run at u gives a usable
-// value, from a least-squares classifier over the completed and failed
+// value (the expected-improvement-with-constraints idea of Gardner et al.
+// 2014, "Bayesian optimization with inequality constraints", ICML), from a least-squares classifier over the completed and failed
 // runs (labels +1 and −1; Rasmussen and Williams 2006, section 6.5), as
 // Φ(μ/√(1+σ²)). It returns nil when no run has failed.
 func (p *Planner) feasibility(trials []campaign.Trial, failed []campaign.Point, rng *rand.Rand) (func([]float64) float64, error) {
@@ -304,11 +345,11 @@ func (p *Planner) feasibility(trials []campaign.Trial, failed []campaign.Point, 
 	var x [][]float64
 	var y []float64
 	for _, t := range trials {
-		x = append(x, p.space.ToUnit(nil, t.Point))
+		x = append(x, p.encode(p.space.ToUnit(nil, t.Point)))
 		y = append(y, 1)
 	}
 	for _, f := range failed {
-		x = append(x, p.space.ToUnit(nil, f))
+		x = append(x, p.encode(p.space.ToUnit(nil, f)))
 		y = append(y, -1)
 	}
 	c, err := gp.Fit(x, y, gp.FitOptions{Kernel: gp.Matern52, Starts: 1, Rand: rng, NoiseFloor: 1e-3})
@@ -316,19 +357,20 @@ func (p *Planner) feasibility(trials []campaign.Trial, failed []campaign.Point, 
 		return nil, fmt.Errorf("planner: feasibility model: %w", err)
 	}
 	return func(u []float64) float64 {
-		mu, v := c.Predict(u)
+		mu, v := c.Predict(p.encode(u))
 		return acquisition.NormCDF(mu / math.Sqrt(1+v))
 	}, nil
 }
 
 func (p *Planner) result(runID string, u campaign.Point, method string, score float64, r Result) (Result, error) {
-	for i := range u {
-		u[i] = math.Min(1, math.Max(0, u[i]))
+	// Snapping also guards against rounding in FromUnit nudging a value
+	// past a bound.
+	pt := p.space.Snap(p.space.FromUnit(nil, clampUnit(u)))
+	if !p.space.Contains(pt) {
+		return Result{}, fmt.Errorf("planner: proposal %v is not a valid setpoint", pt)
 	}
-	pt := p.space.FromUnit(nil, u)
-	// Guard against rounding in FromUnit nudging a value past a bound.
-	for i, f := range p.space {
-		pt[i] = math.Min(f.Max, math.Max(f.Min, pt[i]))
+	if c := p.Violated(pt); c != "" {
+		return Result{}, fmt.Errorf("planner: proposal %v breaks constraint %s", pt, c)
 	}
 	prop := campaign.Proposal{Setpoint: campaign.Setpoint{RunID: runID, Point: pt}, Method: method, Score: score}
 	if math.IsInf(score, 0) || math.IsNaN(score) {
@@ -342,21 +384,32 @@ func (p *Planner) result(runID string, u campaign.Point, method string, score fl
 }
 
 // designPoint returns design point i, or a uniform random point once the
-// design is used up (while too few runs have completed to fit a model),
-// skipping points to avoid.
-func (p *Planner) designPoint(i int, rng *rand.Rand, avoid [][]float64) campaign.Point {
-	if i < len(p.design) {
-		return p.design[i].Clone()
+// design is used up (while too few runs have completed to fit a model) or
+// where the design point breaks a constraint, skipping points to avoid.
+func (p *Planner) designPoint(i int, rng *rand.Rand, avoid [][]float64) (campaign.Point, error) {
+	if i < len(p.design) && p.feasibleUnit(p.design[i]) {
+		return p.design[i].Clone(), nil
 	}
-	for {
+	const tries = 100000
+	var fallback campaign.Point
+	for t := 0; t < tries; t++ {
 		u := make(campaign.Point, p.space.Dim())
 		for k := range u {
 			u[k] = rng.Float64()
 		}
-		if nearest(u, avoid) > minSpacing*minSpacing {
-			return u
+		u = p.snapUnit(u)
+		if !p.feasibleUnit(u) {
+			continue
 		}
+		if nearest(u, avoid) > minSpacing*minSpacing {
+			return u, nil
+		}
+		fallback = u
 	}
+	if fallback != nil {
+		return fallback, nil // a small discrete space: every point was tried
+	}
+	return nil, fmt.Errorf("planner: no setpoint satisfying the constraints found in %d random tries", tries)
 }
 
 // maximise finds a high score in the unit box: score a space-filling set
@@ -367,6 +420,16 @@ func (p *Planner) designPoint(i int, rng *rand.Rand, avoid [][]float64) campaign
 func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
 	d := p.space.Dim()
 	cands := LatinHypercube(p.cfg.Candidates, d, rng)
+	// Candidates and every refined point are snapped to valid values and
+	// must satisfy the constraints.
+	inner := score
+	score = func(u []float64) float64 {
+		u = p.snapUnit(u)
+		if !p.feasibleUnit(u) {
+			return math.Inf(-1)
+		}
+		return inner(u)
+	}
 	// Points near the best runs, where the optimum is likely, at two
 	// scales.
 	for _, sigma := range []float64{0.02, 0.08} {
@@ -413,12 +476,12 @@ func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, a
 		if res == nil {
 			continue
 		}
-		u := clampUnit(res.X)
+		u := p.snapUnit(res.X)
 		if s := score(u); s > best.s {
 			best = scored{u, s}
 		}
 	}
-	return best.u, best.s, nil
+	return p.snapUnit(best.u), best.s, nil
 }
 
 func clampUnit(u []float64) []float64 {
@@ -444,4 +507,3 @@ func nearest(u []float64, set [][]float64) float64 {
 	}
 	return d
 }
-

@@ -36,6 +36,9 @@ func (c Config) Validate(space campaign.Space) campaign.Problems {
 	for _, f := range space {
 		key := "limits." + f.Name
 		l, ok := c.Limits[f.Name]
+		if !ok && f.Kind == campaign.Choice {
+			continue // its valid choices are its limits
+		}
 		if !ok {
 			ps.Add(key, "factor %q has no limits; hard_min and hard_max are required", f.Name)
 			continue

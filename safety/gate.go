@@ -59,9 +59,20 @@ func Check(cfg Config, space campaign.Space, sp campaign.Setpoint) Decision {
 	if err := sp.Validate(space); err != nil {
 		return refuse(Reason{Limit: "invalid", Message: err.Error()})
 	}
+	// Discrete factors take only their own values; continuous ones are
+	// judged by their limits below.
+	for i, f := range space.Normalised() {
+		if f.Kind != "" && f.Kind != campaign.Continuous && !f.Valid(sp.Point[i]) {
+			return refuse(Reason{Factor: f.Name, Limit: "invalid", Value: sp.Point[i],
+				Message: fmt.Sprintf("%s %v is not a value the factor can take (%s)", f.Name, sp.Point[i], describeKind(f))})
+		}
+	}
 	d := Decision{Verdict: Pass}
 	for i, f := range space {
-		l := cfg.Limits[f.Name]
+		l, ok := cfg.Limits[f.Name]
+		if !ok {
+			continue // a choice factor without limits: checked above
+		}
 		v := sp.Point[i]
 		unit := ""
 		if f.Unit != "" {
@@ -101,4 +112,16 @@ func worse(a, b Verdict) Verdict {
 		return b
 	}
 	return a
+}
+
+func describeKind(f campaign.Factor) string {
+	switch f.Kind {
+	case campaign.Integer:
+		return fmt.Sprintf("whole numbers from %g to %g", f.Min, f.Max)
+	case campaign.Levels:
+		return fmt.Sprintf("one of %v", f.Levels)
+	case campaign.Choice:
+		return fmt.Sprintf("a choice index from 0 to %d", len(f.Choices)-1)
+	}
+	return fmt.Sprintf("from %g to %g", f.Min, f.Max)
 }

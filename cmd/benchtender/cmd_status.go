@@ -5,10 +5,12 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"math/rand/v2"
 	"sort"
 	"strings"
 
 	"benchtender/agent"
+	"benchtender/campaign"
 	"benchtender/planner"
 )
 
@@ -46,7 +48,8 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 // check (Rasmussen and Williams 2006, section 5.4.2).
 func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *agent.State) {
 	runs := st.TrialRuns()
-	d, _, err := planner.New(cfg.Campaign, cfg.Planner).Diagnose(ctx, st.Trials())
+	pl := planner.New(cfg.Campaign, cfg.Planner)
+	d, fitted, err := pl.Diagnose(ctx, st.Trials())
 	if err != nil {
 		fmt.Fprintf(stdout, "model: not fitted (%v)\n", err)
 		return
@@ -64,6 +67,24 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 	sort.Slice(worst, func(i, j int) bool { return math.Abs(worst[i].Standardised) > math.Abs(worst[j].Standardised) })
 	for _, c := range worst[:min(3, len(worst))] {
 		fmt.Fprintf(stdout, "    %s measured %.4g, predicted from the others %.4g (standardised error %+.2f)\n", runs[c.Index].ID, c.Measured, c.Predicted, c.Standardised)
+	}
+	o, err := pl.OptimumOf(ctx, fitted, cfg.Planner.Samples, rand.New(rand.NewPCG(cfg.Campaign.Seed, 0x0b7)))
+	if err != nil {
+		fmt.Fprintf(stdout, "optimum: not computed (%v)\n", err)
+		return
+	}
+	resp := cfg.Campaign.Response
+	fmt.Fprintf(stdout, "where the optimum probably is (%d posterior draws; 90%% credible box, holds %.0f%%):\n", o.Samples, 100*o.BoxMass)
+	for k, f := range cfg.Campaign.Factors {
+		lo, hi := f.Format(o.Box[k][0]), f.Format(o.Box[k][1])
+		if f.Kind == "" || f.Kind == campaign.Continuous {
+			lo, hi = fmt.Sprintf("%.4g", o.Box[k][0]), fmt.Sprintf("%.4g", o.Box[k][1])
+		}
+		fmt.Fprintf(stdout, "  %-14s %s to %s %s\n", f.Name, lo, hi, f.Unit)
+	}
+	fmt.Fprintf(stdout, "best achievable %s: median %.4g %s, 90%% interval %.4g to %.4g\n", resp.Name, o.ValueMedian, resp.Unit, o.ValueLow, o.ValueHigh)
+	if !math.IsNaN(o.BestWithin) {
+		fmt.Fprintf(stdout, "probability that the best run so far is within %g %s of it: %.2f\n", cfg.Planner.Stop.ValueTolerance, resp.Unit, o.BestWithin)
 	}
 }
 

@@ -1,0 +1,122 @@
+package planner
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/expr-lang/expr"
+	"github.com/expr-lang/expr/vm"
+
+	"benchtender/campaign"
+)
+
+// The planner works on the unit box: one coordinate per factor, the
+// factor's value mapped from [min, max] to [0, 1] (a choice factor's index
+// over its choices). The surrogate sees an encoding of it: a choice factor
+// with k choices becomes k one-hot inputs, so that no order is imposed on
+// its choices; every other factor is its unit coordinate.
+
+// encode maps a unit-box point to the surrogate's inputs.
+func (p *Planner) encode(u []float64) []float64 {
+	if !p.hasChoice {
+		return u
+	}
+	out := make([]float64, 0, p.encDim)
+	for k, f := range p.space {
+		if f.Kind != campaign.Choice {
+			out = append(out, u[k])
+			continue
+		}
+		n := len(f.Choices)
+		idx := int(math.Round(u[k] * float64(n-1)))
+		for c := 0; c < n; c++ {
+			if c == idx {
+				out = append(out, 1)
+			} else {
+				out = append(out, 0)
+			}
+		}
+	}
+	return out
+}
+
+// snapUnit returns the unit-box point of the valid setpoint nearest to u.
+func (p *Planner) snapUnit(u []float64) []float64 {
+	if !p.hasDiscrete {
+		return clampUnit(u)
+	}
+	return p.space.ToUnit(nil, p.space.Snap(p.space.FromUnit(nil, clampUnit(u))))
+}
+
+// constraintSet holds the compiled constraint expressions.
+type constraintSet struct {
+	names []string
+	progs []*vm.Program
+}
+
+func constraintEnv(space campaign.Space, pt campaign.Point) map[string]any {
+	env := make(map[string]any, len(space))
+	for i, f := range space {
+		if f.Kind == campaign.Choice {
+			env[f.Name] = f.Format(pt[i])
+		} else {
+			env[f.Name] = pt[i]
+		}
+	}
+	return env
+}
+
+// CompileConstraints checks every constraint of the campaign against its
+// factors, reporting problems keyed "constraint[i].expression".
+func CompileConstraints(space campaign.Space, cons []campaign.Constraint) (constraintSet, campaign.Problems) {
+	var cs constraintSet
+	var ps campaign.Problems
+	space = space.Normalised()
+	sample := make(campaign.Point, len(space))
+	for i, f := range space {
+		sample[i] = f.Min
+	}
+	env := constraintEnv(space, sample)
+	for i, c := range cons {
+		prog, err := expr.Compile(c.Expression, expr.Env(env), expr.AsBool())
+		if err != nil {
+			ps.Add(fmt.Sprintf("constraint[%d].expression", i), "%q: %v", c.Expression, oneLine(err.Error()))
+			continue
+		}
+		cs.names = append(cs.names, c.Name)
+		cs.progs = append(cs.progs, prog)
+	}
+	return cs, ps
+}
+
+func oneLine(s string) string {
+	for i, r := range s {
+		if r == '\n' {
+			return s[:i]
+		}
+	}
+	return s
+}
+
+// Violated returns the name of the first constraint the setpoint breaks,
+// or "" when it breaks none. A constraint that cannot be evaluated counts
+// as broken.
+func (p *Planner) Violated(pt campaign.Point) string {
+	if len(p.cons.progs) == 0 {
+		return ""
+	}
+	env := constraintEnv(p.space, pt)
+	for i, prog := range p.cons.progs {
+		out, err := expr.Run(prog, env)
+		if ok, isBool := out.(bool); err != nil || !isBool || !ok {
+			return p.cons.names[i]
+		}
+	}
+	return ""
+}
+
+// feasibleUnit reports whether the unit-box point satisfies every
+// constraint.
+func (p *Planner) feasibleUnit(u []float64) bool {
+	return len(p.cons.progs) == 0 || p.Violated(p.space.FromUnit(nil, u)) == ""
+}
