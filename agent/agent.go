@@ -52,6 +52,7 @@ type Agent struct {
 	writeAfter time.Time // earliest next handoff attempt after an error
 	writeErrs  int
 	budgetSaid bool
+	incomplete map[string]time.Time // result files waiting to be complete
 }
 
 // New checks the configuration and builds an agent; it touches no file.
@@ -69,14 +70,15 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		return nil, fmt.Errorf("agent: invalid config: %w", err)
 	}
 	cfg.Campaign.Factors = cfg.Campaign.Factors.Normalised()
-	p, err := opt.Registry.New(cfg.Instrument.Parser)
+	p, err := opt.Registry.New(cfg.Spec())
 	if err != nil {
 		return nil, fmt.Errorf("agent: parser: %w", err)
 	}
 	return &Agent{
 		cfg: cfg, opt: opt, parser: p,
-		log:     opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
-		planner: planner.New(cfg.Campaign, cfg.Planner),
+		log:        opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
+		planner:    planner.New(cfg.Campaign, cfg.Planner),
+		incomplete: map[string]time.Time{},
 	}, nil
 }
 
@@ -117,6 +119,9 @@ func (a *Agent) Run(ctx context.Context) error {
 				return err
 			}
 		case <-tick.C:
+			if err := a.recheckIncomplete(); err != nil {
+				return err
+			}
 		}
 	}
 }
@@ -190,17 +195,46 @@ func (a *Agent) ingest(path string) error {
 	sha := hex.EncodeToString(sum[:])
 	if a.state.Hashes[sha] {
 		log.Debug().Str("sha256", sha).Msg("content already in the journal")
+		delete(a.incomplete, path)
 		return nil
 	}
 	rec, err := a.parser.Parse(path, data)
+	if errors.Is(err, parsers.ErrIncomplete) {
+		first, seen := a.incomplete[path]
+		if !seen {
+			first = a.opt.Now()
+			a.incomplete[path] = first
+		}
+		timeout := a.cfg.Spec().IncompleteTimeout
+		if a.opt.Now().Sub(first) < timeout {
+			if !seen {
+				log.Info().Err(err).Dur("timeout", timeout).Msg("result file is not complete yet; waiting")
+			}
+			return nil
+		}
+		delete(a.incomplete, path)
+		return a.refuseFile(path, sha, data, fmt.Sprintf("still incomplete after %v: %v", timeout, err))
+	}
+	delete(a.incomplete, path)
 	if err != nil {
 		return a.refuseFile(path, sha, data, err.Error())
 	}
 	for _, w := range rec.Warnings {
 		log.Warn().Str("run", rec.RunID).Msg(w)
 	}
-	val := rec.Responses[a.cfg.Campaign.Response.Name]
-	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number}
+	if rec.RunID == "" {
+		// The instrument writes no run id: the result answers the oldest
+		// setpoint handed off and still unanswered.
+		inflight := a.state.InFlight()
+		if len(inflight) == 0 {
+			return a.refuseFile(path, sha, data, "the file names no run and no handed-off run is waiting for a result")
+		}
+		rec.RunID = inflight[0].ID
+		rec.RunIDFrom = "oldest unanswered handoff"
+	}
+	resp := a.cfg.Campaign.Response.Name
+	val := rec.Values[resp]
+	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed}
 	if !campaign.ValidRunID(rec.RunID) {
 		return a.refuseFile(path, sha, data, fmt.Sprintf("run id %q is not usable (letters, digits, '_', '.', '-'; at most 64)", rec.RunID))
 	}
@@ -222,8 +256,24 @@ func (a *Agent) ingest(path string) error {
 	if err := a.record(e); err != nil {
 		return err
 	}
-	log.Info().Str("run", rec.RunID).Float64(a.cfg.Campaign.Response.Name, val.Number).
+	if val.Failed != "" {
+		log.Warn().Str("run", rec.RunID).Str("failed", val.Failed).Msg("result ingested: the run gave no usable value")
+		return nil
+	}
+	log.Info().Str("run", rec.RunID).Float64(resp, val.Number).
 		Int("line", val.Line).Int("column", val.Column).Msg("result ingested")
+	return nil
+}
+
+// recheckIncomplete reads again the files that were incomplete: the
+// watcher reports a file only when it changes, and an abandoned file must
+// still reach quarantine after the timeout.
+func (a *Agent) recheckIncomplete() error {
+	for path := range a.incomplete {
+		if err := a.ingest(path); err != nil {
+			return err
+		}
+	}
 	return nil
 }
 

@@ -22,8 +22,10 @@ type Config struct {
 	Campaign   campaign.Config  `toml:"campaign"`
 	Planner    planner.Config   `toml:"planner"`
 	Instrument InstrumentConfig `toml:"instrument"`
-	Safety     safety.Config    `toml:"safety"`
-	Log        LogConfig        `toml:"log"`
+	// Formats are the named parser specs instruments refer to.
+	Formats map[string]parsers.Spec `toml:"-"`
+	Safety  safety.Config           `toml:"safety"`
+	Log     LogConfig               `toml:"log"`
 }
 
 // Handoff formats.
@@ -40,8 +42,13 @@ type InstrumentConfig struct {
 	// HandoffFormat is "csv" or "json".
 	HandoffFormat string       `toml:"handoff_format"`
 	Watch         watch.Config `toml:"watch"`
-	Parser        parsers.Spec `toml:"parser"`
+	// Format names the entry of [formats] that reads this instrument's
+	// result files.
+	Format string `toml:"format"`
 }
+
+// Spec returns the parser spec of the instrument's format.
+func (c Config) Spec() parsers.Spec { return c.Formats[c.Instrument.Format] }
 
 // LogConfig is the [log] section.
 type LogConfig struct {
@@ -57,7 +64,7 @@ func DefaultConfig() Config {
 	return Config{
 		Campaign:   campaign.DefaultConfig(),
 		Planner:    planner.Default(),
-		Instrument: InstrumentConfig{HandoffFormat: HandoffCSV, Watch: watch.Default(), Parser: parsers.DefaultSpec()},
+		Instrument: InstrumentConfig{HandoffFormat: HandoffCSV, Watch: watch.Default()},
 		Safety:     safety.Default(),
 		Log:        LogConfig{File: "benchtender.log", Level: "info"},
 	}
@@ -72,7 +79,8 @@ func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	}
 	ps = append(ps, c.Planner.Validate().Prefix("planner")...)
 	ps = append(ps, c.Planner.ValidateFor(c.Campaign.Factors).Prefix("planner")...)
-	ps = append(ps, c.Instrument.validate(reg, c.Campaign).Prefix("instrument")...)
+	ps = append(ps, c.Instrument.validate().Prefix("instrument")...)
+	ps = append(ps, c.validateFormats(reg)...)
 	ps = append(ps, c.Safety.Validate(c.Campaign.Factors).Prefix("safety")...)
 	switch c.Log.Level {
 	case "debug", "info", "warn", "error":
@@ -82,7 +90,7 @@ func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	return ps
 }
 
-func (ic InstrumentConfig) validate(reg *parsers.Registry, cc campaign.Config) campaign.Problems {
+func (ic InstrumentConfig) validate() campaign.Problems {
 	var ps campaign.Problems
 	if !campaign.ValidName(ic.Name) {
 		ps.Add("name", "%q is not a valid instrument name (a letter, then letters, digits or _)", ic.Name)
@@ -97,18 +105,62 @@ func (ic InstrumentConfig) validate(reg *parsers.Registry, cc campaign.Config) c
 		ps.Add("handoff_dir", "must differ from watch.dir: the agent never writes into the export folder")
 	}
 	ps = append(ps, ic.Watch.Validate().Prefix("watch")...)
-	ps = append(ps, ic.Parser.Validate(reg).Prefix("parser")...)
-	if cc.Response.Name != "" {
-		if _, ok := ic.Parser.Responses[cc.Response.Name]; !ok {
-			ps.Add("parser.responses", "the campaign's response %q is not mapped to a column", cc.Response.Name)
+	return ps
+}
+
+// validateFormats checks every format and the instrument's use of its
+// format: the response is one of its values, in the response's unit, and
+// factor echoes name real factors.
+func (c Config) validateFormats(reg *parsers.Registry) campaign.Problems {
+	var ps campaign.Problems
+	names := make([]string, 0, len(c.Formats))
+	for n := range c.Formats {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	for _, n := range names {
+		ps = append(ps, c.Formats[n].Validate(reg).Prefix("formats."+n)...)
+	}
+	spec, ok := c.Formats[c.Instrument.Format]
+	if !ok {
+		ps.Add("instrument.format", "no format %q in [formats] (have %v)", c.Instrument.Format, names)
+		return ps
+	}
+	key := "formats." + c.Instrument.Format
+	resp := c.Campaign.Response
+	_, isValue := spec.Values[resp.Name]
+	_, isDerived := spec.Derived[resp.Name]
+	switch {
+	case resp.Name == "":
+	case !isValue && !isDerived:
+		ps.Add(key+".values", "the campaign's response %q is not among the format's values or derived values (%v)", resp.Name, spec.Names())
+	case isValue && spec.UnitOf(resp.Name) != "" && resp.Unit != "" && spec.UnitOf(resp.Name) != resp.Unit:
+		if _, err := parsers.Conversion(spec.UnitOf(resp.Name), resp.Unit); err != nil {
+			ps.Add(key+".values."+resp.Name+".to", "the value is in %s but the response is in %s: %v", spec.UnitOf(resp.Name), resp.Unit, err)
+		} else {
+			ps.Add(key+".values."+resp.Name+".to", "the value is in %s but the response is in %s: set to = %q", spec.UnitOf(resp.Name), resp.Unit, resp.Unit)
 		}
 	}
-	for name := range ic.Parser.Factors {
-		if cc.Factors.Index(name) < 0 {
-			ps.Add("parser.factors."+name, "no factor is named %q", name)
+	for _, name := range sortedNames(spec.Factors) {
+		i := c.Campaign.Factors.Index(name)
+		if i < 0 {
+			ps.Add(key+".factors."+name, "no factor is named %q", name)
+			continue
+		}
+		if u, fu := spec.Factors[name].FinalUnit(), c.Campaign.Factors[i].Unit; u != "" && fu != "" && u != fu {
+			ps.Add(key+".factors."+name+".to", "the value is in %s but the factor is in %s", u, fu)
 		}
 	}
 	return ps
+}
+
+func sortedNames[V any](m map[string]V) []string {
+	out := make([]string, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
 }
 
 // LocatedProblem is a problem with the line of the file it concerns (0
@@ -153,7 +205,25 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 		return Config{}, fmt.Errorf("read config: %w", err)
 	}
 	cfg := DefaultConfig()
+	var raw struct {
+		Formats map[string]toml.Primitive `toml:"formats"`
+	}
 	md, err := toml.Decode(string(data), &cfg)
+	if err == nil {
+		_, err = toml.Decode(string(data), &raw)
+	}
+	if err == nil {
+		// Each format starts from the defaults, so a format states only
+		// what differs.
+		cfg.Formats = map[string]parsers.Spec{}
+		for name, prim := range raw.Formats {
+			spec := parsers.DefaultSpec()
+			if err = md.PrimitiveDecode(prim, &spec); err != nil {
+				break
+			}
+			cfg.Formats[name] = spec
+		}
+	}
 	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
@@ -164,6 +234,9 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 	lines := indexKeys(string(data))
 	var out []LocatedProblem
 	for _, k := range md.Undecoded() {
+		if len(k) <= 2 && len(k) > 0 && k[0] == "formats" {
+			continue // the format tables themselves, decoded one by one above
+		}
 		key := k.String()
 		out = append(out, LocatedProblem{Line: lines.line(key), Problem: campaign.Problem{Key: key, Message: "unknown key"}})
 	}

@@ -17,7 +17,7 @@ func TestExampleConfigIsValid(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if cfg.Campaign.Factors.Dim() != 4 || cfg.Instrument.Parser.Delimiter != ";" || cfg.Campaign.StateDir != filepath.Join("..", "state") {
+	if cfg.Campaign.Factors.Dim() != 4 || cfg.Spec().Delimiter != ";" || cfg.Campaign.StateDir != filepath.Join("..", "state") {
 		t.Errorf("unexpected config %+v", cfg.Campaign)
 	}
 	if w := cfg.Warnings(); len(w) != 0 {
@@ -36,6 +36,7 @@ func TestBadConfigNamesLineAndKey(t *testing.T) {
 	text = strings.Replace(text, `goal = "maximise"`, `goal = "maximize"`, 1)
 	text = strings.Replace(text, "max = 30.0", "max = 1.0", 1)
 	text = strings.Replace(text, "skip_lines = 3", "skip_lines = 3\ncolour = \"red\"", 1)
+	text = strings.Replace(text, "reduce = \"mean\"", "reduce = \"average\"", 1)
 	path := filepath.Join(t.TempDir(), "bad.toml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
@@ -55,9 +56,8 @@ func TestBadConfigNamesLineAndKey(t *testing.T) {
 		return 0
 	}
 	want := map[string]int{
-		"campaign.response.goal":   lineOf(`goal = "maximize"`),
-		"campaign.factor[1].max":   lineOf("max = 1.0"),
-		"instrument.parser.colour": lineOf(`colour = "red"`),
+		"campaign.response.goal": lineOf(`goal = "maximize"`),
+		"campaign.factor[1].max": lineOf("max = 1.0"),
 	}
 	for _, p := range ce.Problems {
 		if l, ok := want[p.Key]; ok {

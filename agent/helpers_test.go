@@ -54,6 +54,7 @@ refine = 2
 name = "bench"
 handoff_dir = "handoff"
 handoff_format = "csv"
+format = "bench_csv"
 
 [instrument.watch]
 dir = "exports"
@@ -61,15 +62,16 @@ pattern = "*.csv"
 settle = "100ms"
 rescan = "200ms"
 
-[instrument.parser]
+[formats.bench_csv]
 delimiter = ";"
 decimal = ","
 skip_lines = 2
 run_id_source = "filename"
 run_id_pattern = "(R[0-9]+)"
 
-[instrument.parser.responses]
-purity = "Purity"
+[formats.bench_csv.values.purity]
+column = "Purity"
+unit = "%"
 
 [log]
 file = ""

@@ -87,6 +87,7 @@ goal = "maximise"
 name = "reactor_sim"
 handoff_dir = "handoff"
 handoff_format = "csv"
+format = "br2_export"
 
 [instrument.watch]
 dir = "exports"
@@ -94,7 +95,9 @@ pattern = "*.csv"
 settle = "250ms"
 rescan = "1s"
 
-[instrument.parser]
+# How the simulated reactor's legacy export is read: a 4-line preamble,
+# semicolons, decimal commas.
+[formats.br2_export]
 format = "delimited"
 delimiter = ";"
 decimal = ","
@@ -105,13 +108,21 @@ run_id_column = "Sample"
 run_id_pattern = "^(R[0-9]+)$"
 reduce = "last"
 
-[instrument.parser.responses]
-strength = "Strength"
+[formats.br2_export.values.strength]
+column = "Strength"
+unit = "%%"
 
-[instrument.parser.factors]
-temperature = "Temp"
-feed_rate = "Feed"
-hold_time = "Hold"
+[formats.br2_export.factors.temperature]
+column = "Temp"
+unit = "degC"
+
+[formats.br2_export.factors.feed_rate]
+column = "Feed"
+unit = "mL/min"
+
+[formats.br2_export.factors.hold_time]
+column = "Hold"
+unit = "min"
 
 # Moves above 90 degC or faster than 4 mL/min are held for a person's
 # sign-off; nothing outside the hard limits is ever handed off.

@@ -15,6 +15,11 @@ var (
 	ErrNoData        = errors.New("no data rows")
 	ErrNoRunID       = errors.New("no run id")
 	ErrSyntax        = errors.New("malformed line")
+	ErrMissingValue  = errors.New("value not found")
+	// ErrIncomplete means the file is not finished yet (no trailer, too
+	// few rows): the agent waits for it, and quarantines it only after
+	// the format's incomplete_timeout.
+	ErrIncomplete = errors.New("file is incomplete")
 )
 
 // ParseError says where in which file parsing failed and why. Line and

@@ -27,6 +27,9 @@ func NewRegistry() *Registry { return &Registry{formats: map[string]Constructor{
 func Default() *Registry {
 	r := NewRegistry()
 	mustRegister(r, FormatDelimited, newDelimited)
+	mustRegister(r, FormatReport, newReport)
+	mustRegister(r, FormatJSON, newJSON)
+	mustRegister(r, FormatXML, newXML)
 	return r
 }
 

@@ -9,7 +9,8 @@
 //	benchtender holds [--config C]      list moves held for sign-off
 //	benchtender approve RUN --by NAME --reason TEXT [--config C]
 //	benchtender reject RUN --by NAME --reason TEXT [--config C]
-//	benchtender status [--config C]     runs so far and the best one
+//	benchtender status [--config C]     runs so far, the model, where the optimum is
+//	benchtender parse --config C [--format NAME] FILE   what a result file would give
 //	benchtender demo [--dir DIR]        an invented campaign on a simulated instrument
 package main
 
@@ -59,6 +60,8 @@ func exitCode(err error, stderr io.Writer) int {
 	case errors.As(err, &ce):
 		fmt.Fprintf(stderr, "benchtender: %v\n", err)
 		return 2
+	case errors.Is(err, errWouldRefuse):
+		return 1 // the reason is printed already
 	default:
 		fmt.Fprintf(stderr, "benchtender: %v\n", err)
 		return 1
@@ -72,6 +75,7 @@ const usage = `usage:
   benchtender approve RUN --by NAME --reason TEXT [--config CONFIG]
   benchtender reject RUN --by NAME --reason TEXT [--config CONFIG]
   benchtender status [--config CONFIG]
+  benchtender parse --config CONFIG [--format NAME] FILE
   benchtender demo [--dir DIR]
 `
 
@@ -91,6 +95,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return cmdSignoff(cmd, rest, stdout)
 	case "status":
 		return cmdStatus(ctx, rest, stdout)
+	case "parse":
+		return cmdParse(rest, stdout)
 	case "demo":
 		return cmdDemo(ctx, rest, stdout)
 	case "help", "-h", "--help":

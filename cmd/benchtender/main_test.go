@@ -174,3 +174,28 @@ func waitUntil(t *testing.T, d time.Duration, what string, ok func() bool) {
 		time.Sleep(100 * time.Millisecond)
 	}
 }
+
+// parse shows what a sample file would give, with lines and columns, and
+// exits non-zero with file, line and reason for a file that would be
+// quarantined.
+func TestParseCommand(t *testing.T) {
+	bin := binary(t)
+	dir := t.TempDir()
+	good := filepath.Join(dir, "yield_R0012_export.csv")
+	os.WriteFile(good, []byte("CR-1 export (invented)\nOperator: day\nDate: 2026-12-01\nSample;Yield [%];Purity [%];T_jacket [F];Cooling;Seed\nR0012;45,5;98,0;104,0;10;0,5\n"), 0o644)
+	out, code := runBin(t, bin, "parse", "--config", "../../config.example.toml", good)
+	if code != 0 {
+		t.Fatalf("exit %d\n%s", code, out)
+	}
+	for _, want := range []string{"run id: R0012, from file name", "yield            45.5 %         line 5, column 7", "jacket_temp      40 degC", "= yield * purity / 100", "the campaign's response yield: 45.5 %"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	bad := filepath.Join(dir, "yield_R0013.csv")
+	os.WriteFile(bad, []byte("a\nb\nc\nSample;Yield [%];Purity [%];T_jacket [F];Cooling;Seed\nR0013;4x;98,0;104,0;10;0,5\n"), 0o644)
+	out, code = runBin(t, bin, "parse", "--config", "../../config.example.toml", bad)
+	if code != 1 || !strings.Contains(out, "yield_R0013.csv:5:7: not a number") || !strings.Contains(out, "would quarantine") {
+		t.Errorf("exit %d\n%s", code, out)
+	}
+}

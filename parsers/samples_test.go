@@ -26,7 +26,7 @@ type outcome struct {
 	} `json:"error,omitempty"`
 }
 
-var sentinels = []error{ErrEmpty, ErrBinary, ErrNoHeader, ErrMissingColumn, ErrBadNumber, ErrNoData, ErrNoRunID, ErrSyntax}
+var sentinels = []error{ErrEmpty, ErrBinary, ErrNoHeader, ErrMissingColumn, ErrBadNumber, ErrNoData, ErrNoRunID, ErrSyntax, ErrMissingValue, ErrIncomplete}
 
 func loadSpec(t testing.TB, path string) Spec {
 	t.Helper()
@@ -41,11 +41,14 @@ func loadSpec(t testing.TB, path string) Spec {
 	return s
 }
 
-// samples returns every sample file under testdata/delimited that has a
+// formats are the folders of testdata, one per format.
+var formats = []string{FormatDelimited, FormatReport, FormatJSON, FormatXML}
+
+// samples returns every sample file under testdata/<format> that has a
 // spec beside it.
-func samples(t testing.TB) []string {
+func samples(t testing.TB, format string) []string {
 	t.Helper()
-	specs, err := filepath.Glob("testdata/delimited/*.spec.toml")
+	specs, err := filepath.Glob("testdata/" + format + "/*.spec.toml")
 	if err != nil || len(specs) == 0 {
 		t.Fatalf("no samples: %v", err)
 	}
@@ -66,8 +69,12 @@ func samples(t testing.TB) []string {
 // beside it. Run with -update to rewrite them, then read the diff.
 func TestSamples(t *testing.T) {
 	reg := Default()
-	for _, file := range samples(t) {
-		t.Run(filepath.Base(file), func(t *testing.T) {
+	var all []string
+	for _, f := range formats {
+		all = append(all, samples(t, f)...)
+	}
+	for _, file := range all {
+		t.Run(filepath.Base(filepath.Dir(file))+"/"+filepath.Base(file), func(t *testing.T) {
 			base := file[:len(file)-len(filepath.Ext(file))]
 			p, err := reg.New(loadSpec(t, base+".spec.toml"))
 			if err != nil {
@@ -133,7 +140,7 @@ func TestRFC4180(t *testing.T) {
 	spec.RunIDSource = RunIDFromColumn
 	spec.RunIDColumn = "id"
 	spec.RunIDPattern = `^(.+)$`
-	spec.Responses = map[string]string{"v": "v"}
+	spec.Values = map[string]ValueSpec{"v": {Column: "v"}}
 	p, err := Default().New(spec)
 	if err != nil {
 		t.Fatal(err)
@@ -159,38 +166,49 @@ func TestRFC4180(t *testing.T) {
 			}
 			// The run id is trimmed of spaces; the rest of the field
 			// is kept as the RFC says.
-			if rec.RunID != strings.TrimSpace(c.id) || rec.Responses["v"].Number != c.v {
-				t.Errorf("got %q = %v, want %q = %v", rec.RunID, rec.Responses["v"].Number, c.id, c.v)
+			if rec.RunID != strings.TrimSpace(c.id) || rec.Values["v"].Number != c.v {
+				t.Errorf("got %q = %v, want %q = %v", rec.RunID, rec.Values["v"].Number, c.id, c.v)
 			}
-			if strings.HasPrefix(c.name, "rule 6") && rec.Responses["v"].Line != 4 {
-				t.Errorf("value on line %d, want 4", rec.Responses["v"].Line)
+			if strings.HasPrefix(c.name, "rule 6") && rec.Values["v"].Line != 4 {
+				t.Errorf("value on line %d, want 4", rec.Values["v"].Line)
 			}
 		})
 	}
 }
 
-func TestDecimalMarks(t *testing.T) {
+func TestNumbers(t *testing.T) {
 	for _, c := range []struct {
-		decimal, cell string
-		want          float64
-		ok            bool
+		decimal, thousands, cell string
+		want                     float64
+		failed                   string
+		ok                       bool
 	}{
-		{".", "12.5", 12.5, true},
-		{".", "-1e-3", -0.001, true},
-		{".", "12,5", 0, false},
-		{",", "12,5", 12.5, true},
-		{",", "12.5", 0, false},
-		{".", "NaN", 0, false},
-		{".", "Inf", 0, false},
-		{".", "", 0, false},
+		{".", "", "12.5", 12.5, "", true},
+		{".", "", "-1e-3", -0.001, "", true},
+		{".", "", "12,5", 0, "", false},
+		{",", "", "12,5", 12.5, "", true},
+		{",", "", "12.5", 0, "", false},
+		{",", ".", "1.234,5", 1234.5, "", true},
+		{".", ",", "1,234.5", 1234.5, "", true},
+		{",", " ", "1 234,5", 1234.5, "", true},
+		{".", "'", "1'234.5", 1234.5, "", true},
+		{".", "", "Inf", 0, "", false},
+		{".", "", "1e999", 0, "", false},
+		{".", "", "NaN", 0, "missing value", true},
+		{".", "", "", 0, "missing value", true},
+		{".", "", "----", 0, "missing value", true},
+		{".", "", "OVER", 0, "over range", true},
+		{".", "", "<<<<", 0, "under range", true},
 	} {
 		spec := DefaultSpec()
-		spec.Decimal = c.decimal
-		spec.Delimiter = ";"
-		p := &delimited{spec: spec}
-		got, err := p.number(c.cell)
-		if (err == nil) != c.ok || (c.ok && got != c.want) {
-			t.Errorf("decimal %q, cell %q: %v, %v; want %v ok=%v", c.decimal, c.cell, got, err, c.want, c.ok)
+		spec.Decimal, spec.Thousands, spec.Delimiter = c.decimal, c.thousands, ";"
+		cm, err := newCommon(spec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, failed, err := cm.number(c.cell)
+		if (err == nil) != c.ok || (c.ok && (got != c.want || !strings.HasPrefix(failed, c.failed))) {
+			t.Errorf("decimal %q thousands %q cell %q: %v %q %v; want %v %q ok=%v", c.decimal, c.thousands, c.cell, got, failed, err, c.want, c.failed, c.ok)
 		}
 	}
 }
@@ -210,44 +228,46 @@ func TestSpecValidate(t *testing.T) {
 	s.Delimiter = ",,"
 	s.Decimal = ","
 	s.RunIDPattern = "(a)(b)"
-	s.Reduce = "median"
+	s.Reduce = "average"
+	s.Encoding = "ebcdic"
+	s.Derived = map[string]string{"x": "nope * 2"}
 	ps := s.Validate(Default())
 	keys := map[string]bool{}
 	for _, p := range ps {
 		keys[p.Key] = true
 	}
-	for _, k := range []string{"delimiter", "run_id_pattern", "reduce", "responses"} {
+	for _, k := range []string{"delimiter", "run_id_pattern", "reduce", "values", "encoding", "derived.x"} {
 		if !keys[k] {
 			t.Errorf("no problem reported for %s; got %v", k, ps)
 		}
 	}
 }
 
-// FuzzDelimited: no input may panic; every failure is a *ParseError.
-func FuzzDelimited(f *testing.F) {
-	for _, file := range samples(f) {
+// fuzzFormat runs every spec of one format's samples over fuzzed input:
+// no input may panic or hang, and every failure is a *ParseError.
+func fuzzFormat(f *testing.F, format string) {
+	reg := Default()
+	var parsers []Parser
+	for _, file := range samples(f, format) {
 		data, err := os.ReadFile(file)
 		if err != nil {
 			f.Fatal(err)
 		}
 		f.Add(data)
-	}
-	specs := []Spec{}
-	for _, s := range []string{"semicolon_decimal_comma", "plain_comma", "tab_comment_rows", "no_header"} {
-		specs = append(specs, loadSpec(f, "testdata/delimited/"+s+".spec.toml"))
-	}
-	reg := Default()
-	parsers := make([]Parser, len(specs))
-	for i, s := range specs {
+		base := file[:len(file)-len(filepath.Ext(file))]
+		s := loadSpec(f, base+".spec.toml")
+		if s.Format == "" {
+			s.Format = format
+		}
 		p, err := reg.New(s)
 		if err != nil {
 			f.Fatal(err)
 		}
-		parsers[i] = p
+		parsers = append(parsers, p)
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		for _, p := range parsers {
-			_, err := p.Parse("R0001.csv", data)
+			_, err := p.Parse("R0001.txt", data)
 			var pe *ParseError
 			if err != nil && !errors.As(err, &pe) {
 				t.Fatalf("error %v is not a *ParseError", err)
@@ -255,3 +275,8 @@ func FuzzDelimited(f *testing.F) {
 		}
 	})
 }
+
+func FuzzDelimited(f *testing.F) { fuzzFormat(f, FormatDelimited) }
+func FuzzReport(f *testing.F)    { fuzzFormat(f, FormatReport) }
+func FuzzJSON(f *testing.F)      { fuzzFormat(f, FormatJSON) }
+func FuzzXML(f *testing.F)       { fuzzFormat(f, FormatXML) }

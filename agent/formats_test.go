@@ -1,0 +1,78 @@
+package agent
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+// A result flagged over range is kept in the journal as a failed run with
+// its reason, never as a number, and the campaign goes on.
+func TestFlaggedResultIsAFailedRun(t *testing.T) {
+	tc := newTestCampaign(t, "3", defaultLimits)
+	events, stop := tc.start(t)
+	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("OVER"))
+	in := waitFor(t, events, "an ingest", kind(KindIngest))
+	if in.Failed == "" || !strings.Contains(in.Failed, "over range") || in.Run != h.Run {
+		t.Fatalf("ingest %+v, want a failed run with the over-range reason", in)
+	}
+	waitFor(t, events, "the next handoff", kind(KindHandoff))
+	stop()
+	st := Replay(readJournalT(t, tc))
+	if st.Runs[h.Run].Status != StatusFailed || len(st.Trials()) != 0 || len(st.FailedPoints()) != 1 {
+		t.Errorf("run %s is %s; %d trials, %d failed", h.Run, st.Runs[h.Run].Status, len(st.Trials()), len(st.FailedPoints()))
+	}
+}
+
+// An incomplete file (no trailer yet) waits; completed, it is ingested.
+// One left incomplete is quarantined after the timeout.
+func TestIncompleteFileWaitsThenTimesOut(t *testing.T) {
+	tc := newTestCampaign(t, "4", defaultLimits)
+	spec := tc.cfg.Formats["bench_csv"]
+	spec.Trailer = "^END"
+	spec.IncompleteTimeout = 700 * time.Millisecond
+	tc.cfg.Formats["bench_csv"] = spec
+	tc.cfg.Planner.Batch = 2
+	events, stop := tc.start(t)
+	h1 := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h2 := waitFor(t, events, "a second handoff", kind(KindHandoff))
+	p1 := tc.writeResult(t, "res_"+h1.Run+".csv", resultFile("50,0"))
+	tc.writeResult(t, "res_"+h2.Run+".csv", resultFile("51,0"))
+	time.Sleep(300 * time.Millisecond) // settled, parsed, waiting
+	if err := os.WriteFile(p1, []byte(resultFile("50,0")+"END\r\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	in := waitFor(t, events, "the completed file's ingest", kind(KindIngest))
+	if in.Run != h1.Run || in.Value != 50 {
+		t.Fatalf("ingest %+v", in)
+	}
+	q := waitFor(t, events, "the abandoned file's quarantine", kind(KindQuarantine))
+	stop()
+	if !strings.Contains(q.Reason, "still incomplete") || filepath.Base(q.File) != "res_"+h2.Run+".csv" {
+		t.Errorf("quarantine %+v", q)
+	}
+}
+
+// For an instrument that writes no run id, a result answers the oldest
+// setpoint handed off and still unanswered.
+func TestResultMatchedToOldestHandoff(t *testing.T) {
+	tc := newTestCampaign(t, "4", defaultLimits)
+	spec := tc.cfg.Formats["bench_csv"]
+	spec.RunIDSource = "oldest_handoff"
+	tc.cfg.Formats["bench_csv"] = spec
+	tc.cfg.Planner.Batch = 2
+	events, stop := tc.start(t)
+	h1 := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h2 := waitFor(t, events, "a second handoff", kind(KindHandoff))
+	tc.writeResult(t, "result_a.csv", resultFile("60,0"))
+	in1 := waitFor(t, events, "an ingest", kind(KindIngest))
+	tc.writeResult(t, "result_b.csv", resultFile("61,0"))
+	in2 := waitFor(t, events, "a second ingest", kind(KindIngest))
+	stop()
+	if in1.Run != h1.Run || in2.Run != h2.Run {
+		t.Errorf("results went to %s and %s, want %s then %s", in1.Run, in2.Run, h1.Run, h2.Run)
+	}
+}
