@@ -30,8 +30,23 @@ type Options struct {
 	// Notify, when set, is called with every journal entry after it is
 	// written, from the agent's goroutine; it must not block for long.
 	Notify func(Entry)
-	// Tick is how often the sign-off inbox is read (default 1 s).
+	// Tick is how often the sign-off inbox, the all-stop file and the
+	// config file are looked at (default 1 s).
 	Tick time.Duration
+	// ConfigPath, when set, is watched: an edit is reloaded, and one that
+	// no longer validates stops every handoff until it is fixed.
+	ConfigPath string
+	// Proposer is the planner (the campaign's planner when nil); tests
+	// inject faults here.
+	Proposer Proposer
+	// Writer writes a file atomically into a folder (writeFileAtomic when
+	// nil); tests inject faults here.
+	Writer func(dir, name string, data []byte) error
+}
+
+// Proposer is what the agent needs of a planner.
+type Proposer interface {
+	Propose(ctx context.Context, req planner.Request) (planner.Result, error)
 }
 
 // Agent runs one campaign.
@@ -42,9 +57,18 @@ type Agent struct {
 	parser  parsers.Parser
 	planner *planner.Planner
 
-	journal *Journal
-	state   *State
-	warm    *gp.Params
+	journal  *Journal
+	audit    *auditLog
+	state    *State
+	warm     *gp.Params
+	gate     *safety.Gate
+	proposer Proposer
+	write    func(dir, name string, data []byte) error
+
+	holdSeen  map[string]time.Time // when each hold began, by this process's clock
+	cfgMod    time.Time            // modification time of the config file last read
+	cfgBroken string               // why the edited config is refused (no handoffs meanwhile)
+	rateSaid  bool
 
 	refusals   int       // consecutive gate refusals
 	planAfter  time.Time // earliest next planning attempt after an error
@@ -74,12 +98,28 @@ func New(cfg Config, opt Options) (*Agent, error) {
 	if err != nil {
 		return nil, fmt.Errorf("agent: parser: %w", err)
 	}
-	return &Agent{
+	a := &Agent{
 		cfg: cfg, opt: opt, parser: p,
 		log:        opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
 		planner:    planner.New(cfg.Campaign, cfg.Planner),
 		incomplete: map[string]time.Time{},
-	}, nil
+		holdSeen:   map[string]time.Time{},
+		gate:       safety.NewGate(cfg.Safety, cfg.Campaign.Factors),
+		proposer:   opt.Proposer,
+		write:      opt.Writer,
+	}
+	if a.proposer == nil {
+		a.proposer = a.planner
+	}
+	if a.write == nil {
+		a.write = func(dir, name string, data []byte) error { return writeFileAtomic(dir, name, data, 0o644) }
+	}
+	if opt.ConfigPath != "" {
+		if fi, err := os.Stat(opt.ConfigPath); err == nil {
+			a.cfgMod = fi.ModTime()
+		}
+	}
+	return a, nil
 }
 
 // Run works the campaign until ctx is cancelled (then it returns nil) or
@@ -90,6 +130,7 @@ func (a *Agent) Run(ctx context.Context) error {
 		return err
 	}
 	defer a.journal.Close()
+	defer a.audit.close()
 
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
@@ -136,14 +177,33 @@ func (a *Agent) open() error {
 	if fi, err := os.Stat(a.cfg.Instrument.HandoffDir); err != nil || !fi.IsDir() {
 		return fmt.Errorf("agent: handoff folder %s does not exist or is not a folder", a.cfg.Instrument.HandoffDir)
 	}
+	audit, err := openAudit(auditPath(sd))
+	if err != nil {
+		return fmt.Errorf("agent: %s: %w; nothing was started (run benchtender audit verify)", auditPath(sd), err)
+	}
+	a.audit = audit
 	j, entries, cut, err := OpenJournal(journalPath(sd))
 	if err != nil {
+		audit.close()
 		return fmt.Errorf("agent: %w", err)
 	}
+	a.journal, a.state = j, Replay(entries)
 	if cut > 0 {
 		a.log.Warn().Int64("bytes", cut).Msg("journal ended in a torn record (a write cut short by a crash); cut it off")
+		if err := a.auditNote("journal repaired", "journal", fmt.Sprintf("a torn last record of %d bytes was cut off at start", cut)); err != nil {
+			return err
+		}
 	}
-	a.journal, a.state = j, Replay(entries)
+	// Holds keep their age across a restart by the wall clock; within
+	// this process, by the monotonic clock.
+	now := a.opt.Now()
+	for _, r := range a.state.Held() {
+		seen := now
+		if age := now.Sub(r.Proposed); age > 0 && !r.Proposed.IsZero() {
+			seen = now.Add(-age)
+		}
+		a.holdSeen[r.ID] = seen
+	}
 	for _, dir := range []string{a.cfg.Instrument.HandoffDir, sd, inboxDir(sd), filepath.Join(sd, "quarantine")} {
 		removed, err := sweepTemp(dir)
 		if err != nil && !errors.Is(err, os.ErrNotExist) {
@@ -156,7 +216,8 @@ func (a *Agent) open() error {
 	return nil
 }
 
-// record appends an entry, updates the state and tells Notify.
+// record appends an entry to the journal and the audit trail, updates the
+// state and tells Notify.
 func (a *Agent) record(e Entry) error {
 	e.Time = a.opt.Now().UTC()
 	e, err := a.journal.Append(e)
@@ -164,22 +225,49 @@ func (a *Agent) record(e Entry) error {
 		a.log.Error().Err(err).Msg("journal write failed; stopping so that nothing happens unrecorded")
 		return fmt.Errorf("agent: %w", err)
 	}
+	if err := a.auditEntry(e); err != nil {
+		return err
+	}
 	a.state.apply(e)
+	if e.Kind == KindProposal && e.Decision != nil && e.Decision.Verdict == safety.Hold {
+		a.holdSeen[e.Run] = a.opt.Now()
+	}
 	if a.opt.Notify != nil {
 		a.opt.Notify(e)
 	}
 	return nil
 }
 
-// step applies sign-offs, hands off cleared runs and plans the next one.
+// step looks at the config and the all-stop, applies sign-offs, lets
+// stale holds lapse, hands off cleared runs and plans the next one.
 func (a *Agent) step(ctx context.Context) error {
+	if err := a.reloadConfig(); err != nil {
+		return err
+	}
+	if err := a.checkAllStop(); err != nil {
+		return err
+	}
 	if err := a.applySignoffs(); err != nil {
+		return err
+	}
+	if err := a.expireHolds(); err != nil {
 		return err
 	}
 	if err := a.handoffReady(); err != nil {
 		return err
 	}
 	return a.plan(ctx)
+}
+
+// halted says why no setpoint may be written now, or "".
+func (a *Agent) halted() string {
+	switch {
+	case a.state.AllStop != "":
+		return "all-stop: " + a.state.AllStop
+	case a.cfgBroken != "":
+		return "the edited config does not validate: " + a.cfgBroken
+	}
+	return ""
 }
 
 // ingest reads one settled result file and records it.
@@ -303,61 +391,39 @@ func (a *Agent) refuseFile(path, sha string, data []byte, reason string) error {
 	return a.record(Entry{Kind: KindQuarantine, File: path, SHA256: sha, Reason: reason, Copy: cp})
 }
 
-// applySignoffs applies the decisions left in the inbox.
-func (a *Agent) applySignoffs() error {
-	items, err := pendingSignoffs(a.cfg.Campaign.StateDir)
-	if err != nil {
-		a.log.Warn().Err(err).Msg("cannot read the sign-off inbox")
-		return nil
-	}
-	for _, it := range items {
-		log := a.log.With().Str("request", it.path).Logger()
-		switch r, ok := a.state.Runs[it.req.Run]; {
-		case it.err != nil:
-			log.Warn().Err(it.err).Msg("sign-off request is not valid; set aside")
-		case !ok || r.Status != StatusHeld:
-			status := "unknown"
-			if ok {
-				status = r.Status
-			}
-			log.Warn().Str("run", it.req.Run).Str("status", status).Msg("sign-off for a run that is not held; set aside")
-		default:
-			if it.req.Action == ActionApprove {
-				// The gate checks the move again: limits may have
-				// changed since it was held.
-				if d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, campaign.Setpoint{RunID: r.ID, Point: r.Point}); d.Verdict == safety.Refuse {
-					log.Error().Str("run", r.ID).Str("gate", d.Summary()).Msg("approval refused: the move now crosses a hard limit")
-					break
-				}
-			}
-			if err := a.record(Entry{Kind: KindSignoff, Run: it.req.Run, Action: it.req.Action, By: it.req.By, Reason: it.req.Reason}); err != nil {
-				return err
-			}
-			log.Info().Str("run", it.req.Run).Str("action", it.req.Action).Str("by", it.req.By).Str("reason", it.req.Reason).Msg("sign-off applied")
-		}
-		if err := os.Remove(it.path); err != nil {
-			log.Warn().Err(err).Msg("cannot remove sign-off request")
-		}
-	}
-	return nil
-}
-
-// handoffReady writes the setpoint file of every run cleared for handoff.
+// handoffReady writes the setpoint file of every run cleared for handoff,
+// unless an all-stop, a broken config or the rate limit says no.
 func (a *Agent) handoffReady() error {
-	if a.opt.Now().Before(a.writeAfter) {
+	if a.opt.Now().Before(a.writeAfter) || a.halted() != "" {
 		return nil
 	}
 	for _, r := range a.state.Ready() {
+		if !a.rateAllows() {
+			return nil
+		}
 		sp := campaign.Setpoint{RunID: r.ID, Point: r.Point}
 		// Gate once more right before writing: fail closed.
-		if d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, sp); d.Verdict == safety.Refuse {
+		d := a.gate.Check(sp, a.state.LastHandoff)
+		if d.Verdict == safety.Refuse {
 			a.log.Error().Str("run", r.ID).Str("gate", d.Summary()).Msg("not handed off: the gate refuses it")
+			if err := a.record(Entry{Kind: KindRegate, Run: r.ID, Decision: &d, Reason: "refused when about to be handed off"}); err != nil {
+				return err
+			}
+			continue
+		}
+		if d.Verdict == safety.Hold && r.ApprovedUnder != a.gate.Version() {
+			// Approved under other limits, or passed before a ramp from
+			// a newer setpoint: a person must look again.
+			a.log.Warn().Str("run", r.ID).Str("gate", d.Summary()).Msg("held again: the limits changed since it was cleared")
+			if err := a.record(Entry{Kind: KindRegate, Run: r.ID, Decision: &d, Reason: "limits or previous setpoint changed since it was cleared"}); err != nil {
+				return err
+			}
 			continue
 		}
 		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
 		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, a.cfg.Instrument.HandoffFormat)
 		if err == nil {
-			err = writeFileAtomic(a.cfg.Instrument.HandoffDir, name, data, 0o644)
+			err = a.write(a.cfg.Instrument.HandoffDir, name, data)
 		}
 		if err != nil {
 			a.writeErrs++
@@ -380,7 +446,7 @@ func (a *Agent) handoffReady() error {
 func (a *Agent) spent() int {
 	n := 0
 	for _, r := range a.state.Runs {
-		if r.Status != StatusRejected && r.Status != StatusRefused && !r.External {
+		if r.Status != StatusRejected && r.Status != StatusRefused && r.Status != StatusExpired && !r.External {
 			n++
 		}
 	}
@@ -395,7 +461,18 @@ const maxRefusals = 3
 // flight, held or ready.
 func (a *Agent) plan(ctx context.Context) error {
 	st := a.state
-	if st.Stopped != "" || len(st.Pending()) >= a.cfg.Planner.Batch {
+	if st.Stopped != "" || a.halted() != "" {
+		return nil
+	}
+	busy := len(st.Pending())
+	var region [][2]float64
+	if a.cfg.Safety.KeepBusy && len(st.Held()) > 0 {
+		// Holds wait for a person; meanwhile the instrument works on
+		// proposals inside every limit.
+		busy -= len(st.Held())
+		region = a.cfg.Safety.ReviewBox(a.cfg.Campaign.Factors)
+	}
+	if busy >= a.cfg.Planner.Batch {
 		return nil
 	}
 	if a.spent() >= a.cfg.Campaign.MaxRuns {
@@ -410,7 +487,7 @@ func (a *Agent) plan(ctx context.Context) error {
 	}
 	start := a.opt.Now()
 	id := fmt.Sprintf("R%04d", st.Proposals+1)
-	res, err := a.propose(ctx, id)
+	res, err := a.propose(ctx, id, region)
 	if err != nil {
 		if ctx.Err() != nil {
 			return nil
@@ -430,8 +507,21 @@ func (a *Agent) plan(ctx context.Context) error {
 	}
 	prop := res.Proposal
 	prop.Point = roundPoint(a.cfg.Campaign.Factors, prop.Point)
-	d := safety.Check(a.cfg.Safety, a.cfg.Campaign.Factors, prop.Setpoint)
-	if err := a.record(Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d}); err != nil {
+	if v := a.planner.Violated(prop.Point); v != "" {
+		a.log.Error().Str("run", id).Str("constraint", v).Msg("planner proposed a setpoint that breaks a constraint; not recorded, no setpoint written")
+		a.planErrs++
+		a.planAfter = a.opt.Now().Add(backoff(a.planErrs))
+		return nil
+	}
+	d := a.gate.Check(prop.Setpoint, a.state.LastHandoff)
+	e := Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d, Limits: d.Limits}
+	if d.Verdict == safety.Hold && region == nil {
+		// Show the person signing off what would run inside the limits.
+		if alt, err := a.propose(ctx, id, a.cfg.Safety.ReviewBox(a.cfg.Campaign.Factors)); err == nil {
+			e.Alternative = roundPoint(a.cfg.Campaign.Factors, alt.Proposal.Point)
+		}
+	}
+	if err := a.record(e); err != nil {
 		return err
 	}
 	ev := a.log.Info()
@@ -455,16 +545,20 @@ func (a *Agent) plan(ctx context.Context) error {
 
 // propose asks the planner, turning a panic into an error: a bug in the
 // planner must not take the daemon down or write a setpoint.
-func (a *Agent) propose(ctx context.Context, id string) (res planner.Result, err error) {
+func (a *Agent) propose(ctx context.Context, id string, region [][2]float64) (res planner.Result, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			err = fmt.Errorf("planner panicked: %v", p)
 		}
 	}()
-	return a.planner.Propose(ctx, planner.Request{
+	res, err = a.proposer.Propose(ctx, planner.Request{
 		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Pending: a.state.Pending(),
-		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm,
+		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm, Region: region,
 	})
+	if err == nil && (res.Proposal.RunID != id || !res.Proposal.Point.Finite() || len(res.Proposal.Point) != a.cfg.Campaign.Factors.Dim()) {
+		err = fmt.Errorf("planner returned an unusable proposal %+v", res.Proposal)
+	}
+	return res, err
 }
 
 // backoff is 2^(n-1) seconds, capped at five minutes.

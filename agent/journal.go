@@ -25,6 +25,10 @@ const (
 	KindSignoff    = "signoff"    // a person approved or rejected a held move
 	KindHandoff    = "handoff"    // a setpoint file written for the instrument
 	KindStop       = "stop"       // the stopping rule says no more runs are worth it
+	KindExpire     = "expire"     // a held move lapsed unsigned
+	KindRegate     = "regate"     // an approved move gated again (limits edited)
+	KindAllStop    = "all-stop"   // the all-stop file appeared: every handoff halted
+	KindResume     = "resume"     // a person cleared the all-stop
 )
 
 // Sign-off actions.
@@ -57,6 +61,18 @@ type Entry struct {
 	// signoff
 	Action string `json:"action,omitempty"`
 	By     string `json:"by,omitempty"`
+	// Name is the printed name of the person signing.
+	Name string `json:"name,omitempty"`
+	// Partial marks the first of two approvals a move needs.
+	Partial bool `json:"partial,omitempty"`
+	// Request is the id of the sign-off request, used once.
+	Request string `json:"request,omitempty"`
+	// Limits is the version of the limits a sign-off or decision was made
+	// under.
+	Limits string `json:"limits,omitempty"`
+	// Alternative is the best proposal inside every limit, shown beside
+	// a held move.
+	Alternative campaign.Point `json:"alternative,omitempty"`
 
 	// Reason is why: a quarantine's parse error, a sign-off's reason.
 	Reason string `json:"reason,omitempty"`

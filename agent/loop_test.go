@@ -192,27 +192,27 @@ hard_max = 5.0
 	if p.Decision.Verdict != safety.Hold {
 		t.Fatalf("verdict %s, want hold (every temp below 79 is held)", p.Decision.Verdict)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: "R9999", Action: ActionApprove, By: "a", Reason: "b"}); err == nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: "R9999", Action: ActionApprove, By: "a", Name: "A", Reason: "b"}); err == nil {
 		t.Error("approving an unknown run was accepted")
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "", Reason: "b"}); err == nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "", Name: "B", Reason: "b"}); err == nil {
 		t.Error("approval without a name was accepted")
 	}
 	if files, _ := filepath.Glob(filepath.Join(tc.cfg.Instrument.HandoffDir, "*.csv")); len(files) != 0 {
 		t.Fatalf("held move was written: %v", files)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionReject, By: "Ada Tech", Reason: "too cold for this batch"}); err != nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionReject, By: "ada", Name: "Ada Tech", Reason: "too cold for this batch"}); err != nil {
 		t.Fatal(err)
 	}
 	s := waitFor(t, events, "the rejection", kind(KindSignoff))
-	if s.Run != p.Run || s.Action != ActionReject || s.By != "Ada Tech" || s.Reason != "too cold for this batch" {
+	if s.Run != p.Run || s.Action != ActionReject || s.By != "ada" || s.Name != "Ada Tech" || s.Reason != "too cold for this batch" {
 		t.Fatalf("sign-off entry %+v", s)
 	}
 	p2 := waitFor(t, events, "the next proposal", kind(KindProposal))
 	if p2.Run == p.Run || campaign.Point(p2.Point).Finite() == false {
 		t.Fatalf("next proposal %+v", p2)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "Ada Tech", Reason: "checked the jacket"}); err != nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "ada", Name: "Ada Tech", Reason: "checked the jacket"}); err != nil {
 		t.Fatal(err)
 	}
 	h := waitFor(t, events, "the handoff", kind(KindHandoff))
@@ -222,7 +222,7 @@ hard_max = 5.0
 	if _, err := os.Stat(filepath.Join(tc.cfg.Instrument.HandoffDir, p.Run+".csv")); !os.IsNotExist(err) {
 		t.Errorf("rejected run %s has a handoff file", p.Run)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "Ada Tech", Reason: "again"}); err == nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "ada", Name: "Ada Tech", Reason: "again"}); err == nil {
 		t.Error("a second approval of a handed-off run was accepted")
 	}
 }

@@ -1,9 +1,12 @@
 package agent
 
 import (
+	"crypto/rand"
+	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -19,12 +22,30 @@ import (
 // daemon, which alone writes the journal. That way approve and reject work
 // while the daemon runs, and are kept when it does not.
 type SignoffRequest struct {
-	Run    string    `json:"run"`
-	Action string    `json:"action"`
+	// ID makes the request usable once.
+	ID  string `json:"id"`
+	Run string `json:"run"`
+	// Action is approve, reject or resume (clear the all-stop).
+	Action string `json:"action"`
+	// By is the person's user id, Name their printed name (21 CFR Part
+	// 11 §11.50: printed name, time and meaning of a signature).
 	By     string    `json:"by"`
+	Name   string    `json:"name"`
 	Reason string    `json:"reason"`
 	Time   time.Time `json:"time"`
+	// Edit sets factor values of the held move before it is approved;
+	// the edited move passes the gate again.
+	Edit map[string]float64 `json:"edit,omitempty"`
+	// Limits and State bind the approval to the version of the limits
+	// and to the number of results recorded when it was given: if either
+	// has changed by the time it is applied, it is refused and the move
+	// must be signed again.
+	Limits string `json:"limits"`
+	State  int    `json:"state"`
 }
+
+// ActionResume clears an all-stop.
+const ActionResume = "resume"
 
 // Validate checks the request on its own; whether the run is held is for
 // the daemon to decide.
@@ -32,16 +53,30 @@ func (r SignoffRequest) Validate() error {
 	if !campaign.ValidRunID(r.Run) {
 		return fmt.Errorf("sign-off: %q is not a run id", r.Run)
 	}
-	if r.Action != ActionApprove && r.Action != ActionReject {
-		return fmt.Errorf("sign-off: action must be %q or %q, got %q", ActionApprove, ActionReject, r.Action)
+	if r.Action != ActionApprove && r.Action != ActionReject && r.Action != ActionResume {
+		return fmt.Errorf("sign-off: action must be %q, %q or %q, got %q", ActionApprove, ActionReject, ActionResume, r.Action)
 	}
 	if strings.TrimSpace(r.By) == "" {
-		return errors.New("sign-off: who signs (--by) is required")
+		return errors.New("sign-off: who signs (--by, a user id) is required")
+	}
+	if strings.TrimSpace(r.Name) == "" {
+		return errors.New("sign-off: the signer's printed name (--name) is required")
+	}
+	if r.ID == "" {
+		return errors.New("sign-off: request has no id")
+	}
+	for k, v := range r.Edit {
+		if !campaign.ValidName(k) || math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("sign-off: edit %s=%v is not a factor and a finite value", k, v)
+		}
+	}
+	if r.Action != ActionApprove && len(r.Edit) > 0 {
+		return errors.New("sign-off: only an approval may edit values")
 	}
 	if strings.TrimSpace(r.Reason) == "" {
 		return errors.New("sign-off: a reason (--reason) is required")
 	}
-	for _, s := range []string{r.By, r.Reason} {
+	for _, s := range []string{r.By, r.Name, r.Reason} {
 		if strings.IndexFunc(s, unicode.IsControl) >= 0 {
 			return errors.New("sign-off: name and reason must be one line of text")
 		}
@@ -49,15 +84,38 @@ func (r SignoffRequest) Validate() error {
 	return nil
 }
 
-func inboxDir(stateDir string) string    { return filepath.Join(stateDir, "signoff") }
+func inboxDir(stateDir string) string { return filepath.Join(stateDir, "signoff") }
+
+// AllStopPath is where the campaign's all-stop file lives.
+func AllStopPath(cfg Config) string { return allStopPath(cfg) }
+
+// allStopPath is where the all-stop file lives.
+func allStopPath(cfg Config) string {
+	p := cfg.Safety.StopFile()
+	if filepath.IsAbs(p) {
+		return p
+	}
+	return filepath.Join(cfg.Campaign.StateDir, p)
+}
 func journalPath(stateDir string) string { return filepath.Join(stateDir, "journal.log") }
 
 // RequestSignoff checks a sign-off against the journal (the run must be
-// held) and leaves it in the inbox for the daemon. It returns the path of
-// the request file.
+// held; a resume needs an all-stop) and leaves it in the inbox for the
+// daemon, bound to the current limits and campaign state. It returns the
+// path of the request file.
 func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	if req.Time.IsZero() {
 		req.Time = time.Now().UTC()
+	}
+	if req.ID == "" {
+		var b [8]byte
+		if _, err := rand.Read(b[:]); err != nil {
+			return "", err
+		}
+		req.ID = hex.EncodeToString(b[:])
+	}
+	if req.Action == ActionResume && req.Run == "" {
+		req.Run = "all-stop"
 	}
 	if err := req.Validate(); err != nil {
 		return "", err
@@ -67,12 +125,24 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 		return "", err
 	}
 	st := Replay(entries)
+	req.Limits, req.State = cfg.Safety.Version(), st.Ingests
 	r, ok := st.Runs[req.Run]
 	switch {
+	case req.Action == ActionResume:
+		// Anyone may stop; only a person, by name, clears the stop:
+		// the request removes the file and the daemon records it.
+		if err := os.Remove(allStopPath(cfg)); err != nil && !errors.Is(err, os.ErrNotExist) {
+			return "", fmt.Errorf("resume: %w", err)
+		}
 	case !ok:
 		return "", fmt.Errorf("sign-off: campaign %s has no run %s", cfg.Campaign.Name, req.Run)
 	case r.Status != StatusHeld:
 		return "", fmt.Errorf("sign-off: run %s is %s, not held", req.Run, r.Status)
+	}
+	for k := range req.Edit {
+		if cfg.Campaign.Factors.Index(k) < 0 {
+			return "", fmt.Errorf("sign-off: edit names %q, which is not a factor", k)
+		}
 	}
 	dir := inboxDir(cfg.Campaign.StateDir)
 	if err := os.MkdirAll(dir, 0o755); err != nil {

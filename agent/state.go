@@ -17,6 +17,7 @@ const (
 	StatusHanded   = "handed off" // setpoint written, result awaited
 	StatusDone     = "done"       // result ingested
 	StatusFailed   = "failed"     // the instrument reported no usable value
+	StatusExpired  = "expired"    // held, and lapsed unsigned
 )
 
 // Run is one run as the journal tells it.
@@ -33,8 +34,17 @@ type Run struct {
 	Failed string
 	// Files are the result files ingested for this run, oldest first.
 	Files []string
-	// SignedBy, SignReason record the sign-off, if any.
+	// SignedBy, SignReason record the sign-off, if any; Approvers every
+	// approval so far (a two-person move needs two).
 	SignedBy, SignReason string
+	Approvers            []string
+	// ApprovedUnder is the limits version of the approval.
+	ApprovedUnder string
+	// PartialPoint is the setpoint the first of two approvers signed.
+	PartialPoint campaign.Point
+	// Alternative is the best proposal inside every limit, for a held
+	// move.
+	Alternative campaign.Point
 	// External marks a run that came from a result file alone, not from
 	// a handoff of ours.
 	External bool
@@ -49,10 +59,21 @@ type State struct {
 	Handoffs  int             // setpoint files written
 	// Stopped, when not empty, says why the planner stopped proposing.
 	Stopped string
+	// AllStop, when not empty, says who or what halted every handoff.
+	AllStop string
+	// Ingests counts the results recorded: the campaign state an
+	// approval is bound to.
+	Ingests int
+	// Requests holds the sign-off requests already used.
+	Requests map[string]bool
+	// LastHandoff is the setpoint most recently handed off.
+	LastHandoff campaign.Point
+	// HandoffTimes are the times of the handoffs, oldest first.
+	HandoffTimes []time.Time
 }
 
 func newState() *State {
-	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}}
+	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}}
 }
 
 // Replay builds the state from journal entries.
@@ -80,7 +101,7 @@ func (s *State) apply(e Entry) {
 	case KindProposal:
 		s.Proposals++
 		r := s.run(e.Run)
-		r.Point, r.Method, r.Proposed = e.Point, e.Method, e.Time
+		r.Point, r.Method, r.Proposed, r.Alternative = e.Point, e.Method, e.Time, e.Alternative
 		if e.Decision != nil {
 			r.Decision = *e.Decision
 		}
@@ -93,17 +114,49 @@ func (s *State) apply(e Entry) {
 			r.Status = StatusRefused
 		}
 	case KindSignoff:
+		if e.Request != "" {
+			s.Requests[e.Request] = true
+		}
 		r := s.run(e.Run)
 		r.SignedBy, r.SignReason = e.By, e.Reason
-		if e.Action == ActionApprove {
-			r.Status = StatusReady
-		} else {
+		switch {
+		case e.Action == ActionApprove && e.Partial:
+			r.Approvers = append(r.Approvers, e.By)
+			r.PartialPoint = r.Point
+			if len(e.Point) > 0 {
+				r.PartialPoint = e.Point
+			}
+		case e.Action == ActionApprove:
+			r.Approvers = append(r.Approvers, e.By)
+			r.Status, r.ApprovedUnder = StatusReady, e.Limits
+			if len(e.Point) > 0 {
+				r.Point = e.Point // approved with edited values
+			}
+			if e.Decision != nil {
+				r.Decision = *e.Decision
+			}
+		default:
 			r.Status = StatusRejected
 		}
+	case KindExpire:
+		s.run(e.Run).Status = StatusExpired
+	case KindRegate:
+		r := s.run(e.Run)
+		r.Status, r.Approvers, r.ApprovedUnder, r.PartialPoint = StatusHeld, nil, "", nil
+		if e.Decision != nil {
+			r.Decision = *e.Decision
+		}
+	case KindAllStop:
+		s.AllStop = e.Reason
+	case KindResume:
+		s.AllStop = ""
 	case KindHandoff:
 		s.Handoffs++
 		s.run(e.Run).Status = StatusHanded
+		s.LastHandoff = e.Point
+		s.HandoffTimes = append(s.HandoffTimes, e.Time)
 	case KindIngest:
+		s.Ingests++
 		s.Hashes[e.SHA256] = true
 		r := s.run(e.Run)
 		if r.Point == nil && len(e.Point) > 0 {
@@ -183,7 +236,9 @@ func (s *State) Pending() []campaign.Point { return s.points(StatusHeld, StatusR
 func (s *State) FailedPoints() []campaign.Point { return s.points(StatusFailed) }
 
 // Avoid returns the setpoints a person rejected or the gate refused.
-func (s *State) Avoid() []campaign.Point { return s.points(StatusRejected, StatusRefused) }
+func (s *State) Avoid() []campaign.Point {
+	return s.points(StatusRejected, StatusRefused, StatusExpired)
+}
 
 // Best returns the best completed run, or nil.
 func (s *State) Best(resp campaign.Response) *Run {

@@ -32,6 +32,9 @@ type Planner struct {
 
 	hasChoice, hasDiscrete bool
 	encDim                 int // inputs of the surrogate
+
+	// region, set on a copy for one request, confines proposals.
+	region [][2]float64
 }
 
 // New returns a planner for the campaign. It panics on an invalid config,
@@ -90,6 +93,10 @@ type Request struct {
 	Avoid []campaign.Point
 	// Warm is the previous fit, used as a warm start.
 	Warm *gp.Params
+	// Region, when not nil, confines the proposal to these per-factor
+	// intervals (in factor units), for example the review limits while a
+	// move outside them waits for sign-off.
+	Region [][2]float64
 }
 
 // Result is a proposal and what the model thought when making it.
@@ -124,6 +131,14 @@ const minFit = 3
 func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	if err := ctx.Err(); err != nil {
 		return Result{}, err
+	}
+	if req.Region != nil {
+		if len(req.Region) != p.space.Dim() {
+			return Result{}, fmt.Errorf("planner: region has %d intervals for %d factors", len(req.Region), p.space.Dim())
+		}
+		q := *p
+		q.region = req.Region
+		p = &q
 	}
 	rng := rand.New(rand.NewPCG(p.seed, uint64(req.Index)+1))
 	unit := func(pts []campaign.Point) [][]float64 {

@@ -116,7 +116,15 @@ func (p *Planner) Violated(pt campaign.Point) string {
 }
 
 // feasibleUnit reports whether the unit-box point satisfies every
-// constraint.
+// constraint and lies in the request's region, if any.
 func (p *Planner) feasibleUnit(u []float64) bool {
+	if p.region != nil {
+		pt := p.space.FromUnit(nil, u)
+		for k, r := range p.region {
+			if pt[k] < r[0] || pt[k] > r[1] {
+				return false
+			}
+		}
+	}
 	return len(p.cons.progs) == 0 || p.Violated(p.space.FromUnit(nil, u)) == ""
 }

@@ -1,43 +1,107 @@
 package safety
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
 	"fmt"
 	"math"
 	"sort"
+	"time"
 
 	"benchtender/campaign"
 )
 
 // Limit holds one factor's limits, in the factor's unit. Hard limits are
-// required; review limits are optional and, when given, lie inside the
-// hard limits.
+// required; the others are optional.
 type Limit struct {
-	HardMin   *float64 `toml:"hard_min"`
-	HardMax   *float64 `toml:"hard_max"`
-	ReviewMin *float64 `toml:"review_min"`
-	ReviewMax *float64 `toml:"review_max"`
+	HardMin   *float64 `toml:"hard_min" json:"hard_min,omitempty"`
+	HardMax   *float64 `toml:"hard_max" json:"hard_max,omitempty"`
+	ReviewMin *float64 `toml:"review_min" json:"review_min,omitempty"`
+	ReviewMax *float64 `toml:"review_max" json:"review_max,omitempty"`
+	// MaxStep is the largest move from the previous setpoint (the last
+	// one handed off) that passes without sign-off: a ramp limit. A
+	// larger move is held.
+	MaxStep *float64 `toml:"max_step" json:"max_step,omitempty"`
+	// Levels, when given, are the only values allowed; any other value is
+	// refused.
+	Levels []float64 `toml:"levels" json:"levels,omitempty"`
 }
 
-// Config is the [safety] section: limits keyed by factor name.
+// Rule actions.
+const (
+	ActionHold   = "hold"
+	ActionRefuse = "refuse"
+)
+
+// Rule is a limit over several factors: When is an expression over the
+// factor names (choice factors as their names), e.g. "temperature > 80 &&
+// pressure > 3"; when it is true the move is held or refused, and Message
+// is shown to the person signing off.
+type Rule struct {
+	Name    string `toml:"name" json:"name"`
+	When    string `toml:"when" json:"when"`
+	Action  string `toml:"action" json:"action"`
+	Message string `toml:"message" json:"message"`
+}
+
+// Config is the [safety] section.
 type Config struct {
-	Limits map[string]Limit `toml:"limits"`
+	Limits map[string]Limit `toml:"limits" json:"limits"`
+	Rules  []Rule           `toml:"rule" json:"rules,omitempty"`
+	// MaxHandoffsPerHour caps the setpoints written per instrument in any
+	// hour (0: no cap).
+	MaxHandoffsPerHour int `toml:"max_handoffs_per_hour" json:"max_handoffs_per_hour,omitempty"`
+	// HoldExpiry is how long a held move waits for sign-off before it
+	// lapses; ApprovalExpiry how long an approval stays good before it is
+	// applied.
+	HoldExpiry     time.Duration `toml:"hold_expiry" json:"hold_expiry"`
+	ApprovalExpiry time.Duration `toml:"approval_expiry" json:"approval_expiry"`
+	// TwoPerson lists the kinds of move that need two different people to
+	// approve: limit names ("review_max", "review_min", "max_step") and
+	// rule names.
+	TwoPerson []string `toml:"two_person" json:"two_person,omitempty"`
+	// KeepBusy: while a move is held, keep the instrument working with
+	// the best proposal inside every limit.
+	KeepBusy bool `toml:"keep_busy" json:"keep_busy,omitempty"`
+	// AllStopFile is the file whose existence halts every handoff at
+	// once; anybody may create it (relative to the state folder unless
+	// absolute). Default "ALL-STOP".
+	AllStopFile string `toml:"all_stop_file" json:"all_stop_file"`
 }
 
-// Default returns an empty config: with no limits, the gate refuses
-// everything.
-func Default() Config { return Config{} }
+// Default returns the defaults: no limits (so the gate refuses
+// everything until limits are given), holds lapse after 12 hours (a night
+// shift; common practice), approvals after 1 hour.
+func Default() Config {
+	return Config{HoldExpiry: 12 * time.Hour, ApprovalExpiry: time.Hour, AllStopFile: "ALL-STOP"}
+}
+
+// Version is a short digest of the limits and rules: an approval is given
+// against one version and is void under another.
+func (c Config) Version() string {
+	canon := struct {
+		Limits map[string]Limit
+		Rules  []Rule
+		Two    []string
+	}{c.Limits, c.Rules, c.TwoPerson}
+	b, _ := json.Marshal(canon) // map keys are sorted by encoding/json
+	sum := sha256.Sum256(b)
+	return hex.EncodeToString(sum[:8])
+}
 
 // Validate reports every problem, keyed relative to the section: every
-// factor needs both hard limits, limits must be finite and ordered, review
-// limits must lie within hard ones, and no limit may name an unknown
-// factor.
+// factor needs both hard limits (a choice factor's choices are its
+// limits), limits must be finite and ordered, review limits must lie
+// within hard ones, no limit may name an unknown factor, rules must
+// compile.
 func (c Config) Validate(space campaign.Space) campaign.Problems {
 	var ps campaign.Problems
 	for _, f := range space {
 		key := "limits." + f.Name
 		l, ok := c.Limits[f.Name]
 		if !ok && f.Kind == campaign.Choice {
-			continue // its valid choices are its limits
+			continue
 		}
 		if !ok {
 			ps.Add(key, "factor %q has no limits; hard_min and hard_max are required", f.Name)
@@ -55,7 +119,51 @@ func (c Config) Validate(space campaign.Space) campaign.Problems {
 			ps.Add("limits."+name, "no factor is named %q (factors: %v)", name, space.Names())
 		}
 	}
+	_, rps := compileRules(c.Rules, space)
+	ps = append(ps, rps...)
+	if c.MaxHandoffsPerHour < 0 {
+		ps.Add("max_handoffs_per_hour", "must not be negative, got %d", c.MaxHandoffsPerHour)
+	}
+	if c.HoldExpiry < 0 {
+		ps.Add("hold_expiry", "must not be negative, got %v", c.HoldExpiry)
+	}
+	if c.ApprovalExpiry < 0 {
+		ps.Add("approval_expiry", "must not be negative, got %v", c.ApprovalExpiry)
+	}
+	known := map[string]bool{"review_min": true, "review_max": true, "max_step": true}
+	for _, r := range c.Rules {
+		known[r.Name] = true
+	}
+	for _, k := range c.TwoPerson {
+		if !known[k] {
+			ps.Add("two_person", "%q is neither review_min, review_max, max_step nor a rule's name", k)
+		}
+	}
 	return ps
+}
+
+// Holds returns the hold expiry, the default when unset.
+func (c Config) Holds() time.Duration {
+	if c.HoldExpiry > 0 {
+		return c.HoldExpiry
+	}
+	return Default().HoldExpiry
+}
+
+// Approvals returns the approval expiry, the default when unset.
+func (c Config) Approvals() time.Duration {
+	if c.ApprovalExpiry > 0 {
+		return c.ApprovalExpiry
+	}
+	return Default().ApprovalExpiry
+}
+
+// StopFile returns the all-stop file's name, the default when unset.
+func (c Config) StopFile() string {
+	if c.AllStopFile != "" {
+		return c.AllStopFile
+	}
+	return Default().AllStopFile
 }
 
 func (l Limit) validate(key string) campaign.Problems {
@@ -63,7 +171,7 @@ func (l Limit) validate(key string) campaign.Problems {
 	for _, v := range []struct {
 		name string
 		p    *float64
-	}{{"hard_min", l.HardMin}, {"hard_max", l.HardMax}, {"review_min", l.ReviewMin}, {"review_max", l.ReviewMax}} {
+	}{{"hard_min", l.HardMin}, {"hard_max", l.HardMax}, {"review_min", l.ReviewMin}, {"review_max", l.ReviewMax}, {"max_step", l.MaxStep}} {
 		if v.p != nil && (math.IsNaN(*v.p) || math.IsInf(*v.p, 0)) {
 			ps.Add(key+"."+v.name, "must be a finite number, got %v", *v.p)
 		}
@@ -90,6 +198,14 @@ func (l Limit) validate(key string) campaign.Problems {
 	if l.ReviewMin != nil && l.ReviewMax != nil && !(*l.ReviewMin < *l.ReviewMax) {
 		ps.Add(key+".review_max", "must be greater than review_min (%v), got %v", *l.ReviewMin, *l.ReviewMax)
 	}
+	if l.MaxStep != nil && !(*l.MaxStep > 0) {
+		ps.Add(key+".max_step", "must be positive, got %v", *l.MaxStep)
+	}
+	for _, v := range l.Levels {
+		if math.IsNaN(v) || math.IsInf(v, 0) || v < lo || v > hi {
+			ps.Add(key+".levels", "level %v is not a finite value inside the hard limits [%v, %v]", v, lo, hi)
+		}
+	}
 	return ps
 }
 
@@ -108,4 +224,27 @@ func (c Config) Warnings(space campaign.Space) []string {
 		}
 	}
 	return out
+}
+
+// ReviewBox returns, per factor, the interval inside every hard and review
+// limit: where a move passes without sign-off (ramp limits aside).
+func (c Config) ReviewBox(space campaign.Space) [][2]float64 {
+	box := make([][2]float64, len(space))
+	for i, f := range space {
+		lo, hi := f.Min, f.Max
+		if l, ok := c.Limits[f.Name]; ok {
+			for _, b := range []*float64{l.HardMin, l.ReviewMin} {
+				if b != nil {
+					lo = math.Max(lo, *b)
+				}
+			}
+			for _, b := range []*float64{l.HardMax, l.ReviewMax} {
+				if b != nil {
+					hi = math.Min(hi, *b)
+				}
+			}
+		}
+		box[i] = [2]float64{lo, hi}
+	}
+	return box
 }

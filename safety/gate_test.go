@@ -76,31 +76,108 @@ func TestInvalidLimitsRefuseEverything(t *testing.T) {
 	}
 }
 
-// Over a million random setpoints, nothing outside a hard limit passes or
-// is held, and nothing outside a review limit passes.
-func TestGateNeverPassesWhatLimitsForbid(t *testing.T) {
+// Property, over two million random setpoints under random limit sets
+// (hard, review, ramp, levels), random previous setpoints and a holding
+// and a refusing rule: nothing outside a hard limit, off the levels or
+// tripping the refusing rule is ever passed or held; everything else
+// outside a review limit, moving more than the ramp limit or tripping the
+// holding rule is held; the rest passes. The oracle below is written
+// independently of the gate.
+func TestGateProperty(t *testing.T) {
 	rng := rand.New(rand.NewPCG(11, 12))
-	n := 1_000_000
+	n := 2_000_000
 	if testing.Short() {
-		n = 20_000
+		n = 50_000
 	}
+	const perConfig = 5000
+	var g *Gate
+	var lim [2]Limit
 	for i := 0; i < n; i++ {
-		p := campaign.Point{rng.Float64()*140 - 10, rng.Float64()*8 - 1}
+		if i%perConfig == 0 {
+			for k := range lim {
+				lo := rng.Float64() * 20
+				hi := lo + 1 + rng.Float64()*80
+				l := Limit{HardMin: f(lo), HardMax: f(hi)}
+				if rng.IntN(2) == 0 {
+					l.ReviewMin = f(lo + rng.Float64()*(hi-lo)/3)
+				}
+				if rng.IntN(2) == 0 {
+					l.ReviewMax = f(hi - rng.Float64()*(hi-lo)/3)
+				}
+				if rng.IntN(2) == 0 {
+					l.MaxStep = f(1 + rng.Float64()*20)
+				}
+				if k == 1 && rng.IntN(4) == 0 {
+					l.Levels = []float64{math.Round(lo + 1), math.Round((lo + hi) / 2), math.Floor(hi)}
+				}
+				lim[k] = l
+			}
+			cfg := Config{Limits: map[string]Limit{"temp": lim[0], "pressure": lim[1]}, Rules: []Rule{
+				{Name: "hot_and_high", When: "temp > 60 and pressure > 50", Action: ActionHold, Message: "m"},
+				{Name: "too_hot_and_high", When: "temp > 90 and pressure > 80", Action: ActionRefuse, Message: "m"},
+			}}
+			g = NewGate(cfg, space120)
+		}
+		p := campaign.Point{rng.Float64()*140 - 10, rng.Float64()*140 - 10}
+		if i%7 == 0 && lim[1].Levels != nil {
+			p[1] = lim[1].Levels[rng.IntN(3)]
+		}
+		var prev campaign.Point
+		if rng.IntN(2) == 0 {
+			prev = campaign.Point{p[0] + rng.NormFloat64()*15, p[1] + rng.NormFloat64()*15}
+		}
 		if i%1000 == 0 {
 			p[i/1000%2] = math.NaN()
 		}
-		d := Check(limits, space, campaign.Setpoint{RunID: "R1", Point: p})
-		insideHard := p[0] >= 10 && p[0] <= 100 && p[1] >= 1 && p[1] <= 6
-		insideReview := insideHard && p[0] <= 80 && p[1] >= 1.5 && p[1] <= 5
-		switch {
-		case !insideHard && d.Verdict != Refuse:
-			t.Fatalf("%v outside hard limits: %s", p, d.Verdict)
-		case insideHard && !insideReview && d.Verdict != Hold:
-			t.Fatalf("%v outside review limits: %s", p, d.Verdict)
-		case insideReview && d.Verdict != Pass:
-			t.Fatalf("%v inside every limit: %s", p, d.Verdict)
+		d := g.Check(campaign.Setpoint{RunID: "R1", Point: p}, prev)
+		want := oracle(lim, p, prev)
+		if d.Verdict != want {
+			t.Fatalf("%v (previous %v) under %+v %+v: gate says %s, oracle %s (%s)", p, prev, lim[0], lim[1], d.Verdict, want, d.Summary())
 		}
 	}
+}
+
+var space120 = campaign.Space{{Name: "temp", Unit: "degC", Min: 0, Max: 120}, {Name: "pressure", Unit: "bar", Min: 0, Max: 120}}
+
+func oracle(lim [2]Limit, p, prev campaign.Point) Verdict {
+	for _, v := range p {
+		if math.IsNaN(v) {
+			return Refuse
+		}
+	}
+	refused, held := false, false
+	for k, l := range lim {
+		v := p[k]
+		if v < *l.HardMin || v > *l.HardMax {
+			refused = true
+		}
+		if l.Levels != nil {
+			ok := false
+			for _, x := range l.Levels {
+				ok = ok || x == v
+			}
+			refused = refused || !ok
+		}
+		if (l.ReviewMin != nil && v < *l.ReviewMin) || (l.ReviewMax != nil && v > *l.ReviewMax) {
+			held = true
+		}
+		if l.MaxStep != nil && prev != nil && math.Abs(v-prev[k]) > *l.MaxStep {
+			held = true
+		}
+	}
+	if p[0] > 90 && p[1] > 80 {
+		refused = true
+	}
+	if p[0] > 60 && p[1] > 50 {
+		held = true
+	}
+	switch {
+	case refused:
+		return Refuse
+	case held:
+		return Hold
+	}
+	return Pass
 }
 
 func TestValidateNamesKeys(t *testing.T) {
@@ -112,6 +189,29 @@ func TestValidateNamesKeys(t *testing.T) {
 	for _, want := range []string{"limits.temp.review_max", "limits.pressure: factor \"pressure\" has no limits", "limits.speed: no factor"} {
 		if !strings.Contains(got, want) {
 			t.Errorf("%q lacks %q", got, want)
+		}
+	}
+}
+
+func TestRulesAndVersion(t *testing.T) {
+	cfg := Config{Limits: limits.Limits, Rules: []Rule{{Name: "hot_and_pressed", When: "temp > 70 && pressure > 4", Action: ActionHold, Message: "seals are rated for 4 bar when hot"}}}
+	d := Check(cfg, space, campaign.Setpoint{RunID: "R1", Point: campaign.Point{75, 4.5}})
+	if d.Verdict != Hold || d.Kinds()[0] != "hot_and_pressed" || !strings.Contains(d.Summary(), "seals are rated") {
+		t.Errorf("decision %+v", d)
+	}
+	if d.Limits == "" || d.Limits != cfg.Version() {
+		t.Errorf("decision made under %q, config version %q", d.Limits, cfg.Version())
+	}
+	edited := cfg
+	edited.Limits = map[string]Limit{"temp": {HardMin: f(10), HardMax: f(99)}, "pressure": limits.Limits["pressure"]}
+	if edited.Version() == cfg.Version() {
+		t.Error("editing a limit did not change the version")
+	}
+	bad := Config{Limits: limits.Limits, Rules: []Rule{{Name: "x", When: "temp >", Action: "stop", Message: ""}}}
+	got := bad.Validate(space).Error()
+	for _, want := range []string{"rule[0].when", "rule[0].action", "rule[0].message"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("%q lacks %s", got, want)
 		}
 	}
 }

@@ -102,7 +102,7 @@ loop:
 				go signOff(ctx, cfg, e.Run, stdout)
 			}
 			if e.Kind == agent.KindSignoff {
-				fmt.Fprintf(stdout, "         %s %s by %s\n", e.Run, e.Action+"d", e.By)
+				fmt.Fprintf(stdout, "         %s %s by %s\n", e.Run, e.Action+"d", e.Name)
 			}
 			if e.Kind == agent.KindIngest || e.Kind == agent.KindQuarantine {
 				p.result(e)
@@ -141,7 +141,7 @@ func signOff(ctx context.Context, cfg agent.Config, run string, stdout io.Writer
 		return
 	case <-time.After(300 * time.Millisecond):
 	}
-	_, err := agent.RequestSignoff(cfg, agent.SignoffRequest{Run: run, Action: agent.ActionApprove, By: demoSigner,
+	_, err := agent.RequestSignoff(cfg, agent.SignoffRequest{Run: run, Action: agent.ActionApprove, By: "demo", Name: demoSigner,
 		Reason: "demo: approved automatically to show the sign-off path"})
 	if err != nil {
 		fmt.Fprintf(stdout, "         sign-off of %s failed: %v\n", run, err)

@@ -7,8 +7,11 @@
 //	benchtender check CONFIG            validate a configuration file
 //	benchtender run CONFIG              run the campaign (the daemon)
 //	benchtender holds [--config C]      list moves held for sign-off
-//	benchtender approve RUN --by NAME --reason TEXT [--config C]
-//	benchtender reject RUN --by NAME --reason TEXT [--config C]
+//	benchtender approve RUN --by ID --name NAME --reason TEXT [--set f=v] [--config C]
+//	benchtender reject RUN --by ID --name NAME --reason TEXT [--config C]
+//	benchtender all-stop [--reason TEXT] [--config C]   halt every handoff now
+//	benchtender resume --by ID --name NAME --reason TEXT  clear the all-stop
+//	benchtender audit verify [--config C]   check the audit trail's hash chain
 //	benchtender status [--config C]     runs so far, the model, where the optimum is
 //	benchtender parse --config C [--format NAME] FILE   what a result file would give
 //	benchtender demo [--dir DIR]        an invented campaign on a simulated instrument
@@ -72,8 +75,11 @@ const usage = `usage:
   benchtender check CONFIG
   benchtender run CONFIG
   benchtender holds [--config CONFIG]
-  benchtender approve RUN --by NAME --reason TEXT [--config CONFIG]
-  benchtender reject RUN --by NAME --reason TEXT [--config CONFIG]
+  benchtender approve RUN --by ID --name NAME --reason TEXT [--set f=v,...] [--config CONFIG]
+  benchtender reject RUN --by ID --name NAME --reason TEXT [--config CONFIG]
+  benchtender all-stop [--reason TEXT] [--by ID] [--config CONFIG]
+  benchtender resume --by ID --name NAME --reason TEXT [--config CONFIG]
+  benchtender audit verify [--config CONFIG]
   benchtender status [--config CONFIG]
   benchtender parse --config CONFIG [--format NAME] FILE
   benchtender demo [--dir DIR]
@@ -91,8 +97,12 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return cmdRun(ctx, rest, stdout, stderr)
 	case "holds":
 		return cmdHolds(rest, stdout)
-	case "approve", "reject":
+	case "approve", "reject", "resume":
 		return cmdSignoff(cmd, rest, stdout)
+	case "all-stop":
+		return cmdAllStop(rest, stdout)
+	case "audit":
+		return cmdAudit(rest, stdout)
 	case "status":
 		return cmdStatus(ctx, rest, stdout)
 	case "parse":

@@ -113,7 +113,7 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	if out, code := runBin(t, bin, "approve", "R0001", "--config", cfgPath); code != 2 {
 		t.Errorf("approve without --by: exit %d\n%s", code, out)
 	}
-	out, code := runBin(t, bin, "approve", "R0001", "--by", "Ada Tech", "--reason", "jacket checked", "--config", cfgPath)
+	out, code := runBin(t, bin, "approve", "R0001", "--by", "ada", "--name", "Ada Tech", "--reason", "jacket checked", "--config", cfgPath)
 	if code != 0 {
 		t.Fatalf("approve: exit %d\n%s", code, out)
 	}
@@ -132,12 +132,22 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	}
 	// The JSON log for lab IT has the same.
 	jl, err := os.ReadFile(filepath.Join(dir, "state", "benchtender.log"))
-	if err != nil || !strings.Contains(string(jl), `"by":"Ada Tech"`) {
+	if err != nil || !strings.Contains(string(jl), `"name":"Ada Tech"`) {
 		t.Errorf("JSON log: %v\n%s", err, jl)
 	}
 	st, _ := runBin(t, bin, "status", "--config", cfgPath)
 	if !strings.Contains(st, "1 handoffs") {
 		t.Errorf("status:\n%s", st)
+	}
+	// The audit trail records the approval with the printed name and its
+	// meaning, and its chain verifies (21 CFR Part 11 §11.10(e), §11.50).
+	av, code := runBin(t, bin, "audit", "verify", "--config", cfgPath)
+	if code != 0 || !strings.Contains(av, "the chain verifies") {
+		t.Errorf("audit verify: exit %d\n%s", code, av)
+	}
+	trail, _ := os.ReadFile(filepath.Join(dir, "state", "audit.log"))
+	if !strings.Contains(string(trail), `"actor":"ada","name":"Ada Tech","action":"approve","subject":"R0001","reason":"jacket checked","meaning":"approval"`) {
+		t.Errorf("audit trail lacks the signed approval:\n%s", trail)
 	}
 }
 

@@ -1,0 +1,174 @@
+package agent
+
+import (
+	"bufio"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"time"
+)
+
+// AuditEntry is one line of the audit trail: who did what to which
+// subject, when and why. Entries are chained: Hash is the SHA-256 of the
+// previous entry's hash and this entry's fields, so any edit, deletion or
+// reordering breaks the chain (what 21 CFR Part 11 §11.10(e) asks of an
+// audit trail: secure, computer-generated, time-stamped, never obscuring
+// earlier entries). A correction is a new entry whose Corrects names the
+// entry it corrects; nothing is edited or deleted.
+type AuditEntry struct {
+	Seq int64 `json:"seq"`
+	// Time is UTC in ISO 8601 (RFC 3339 with nanoseconds).
+	Time    string `json:"time"`
+	Actor   string `json:"actor"`
+	Name    string `json:"name,omitempty"` // printed name of a person signing (§11.50)
+	Action  string `json:"action"`
+	Subject string `json:"subject"`
+	Reason  string `json:"reason,omitempty"`
+	// Meaning is what a signature means (§11.50(a)(3)): "approval",
+	// "rejection", "second approval".
+	Meaning  string          `json:"meaning,omitempty"`
+	Detail   json.RawMessage `json:"detail,omitempty"`
+	Corrects int64           `json:"corrects,omitempty"`
+	Prev     string          `json:"prev"`
+	Hash     string          `json:"hash"`
+}
+
+// The agent's own identity in the trail.
+const actorAgent = "benchtender"
+
+// chainHash is SHA-256(prev hash || JSON of the entry without its hash).
+func chainHash(e AuditEntry) string {
+	e.Hash = ""
+	b, _ := json.Marshal(e)
+	h := sha256.New()
+	h.Write([]byte(e.Prev))
+	h.Write(b)
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+// ErrAuditBroken means the audit trail's chain does not verify.
+var ErrAuditBroken = errors.New("audit trail does not verify")
+
+// VerifyAudit checks the whole chain and returns the number of entries.
+// It names the first entry that breaks it.
+func VerifyAudit(path string) (int, error) {
+	f, err := os.Open(path)
+	if errors.Is(err, os.ErrNotExist) {
+		return 0, nil
+	}
+	if err != nil {
+		return 0, err
+	}
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	sc.Buffer(make([]byte, 1<<20), 1<<26)
+	prev := ""
+	n := 0
+	for sc.Scan() {
+		n++
+		var e AuditEntry
+		if err := json.Unmarshal(sc.Bytes(), &e); err != nil {
+			return n, fmt.Errorf("%w: line %d is not an entry: %v", ErrAuditBroken, n, err)
+		}
+		switch {
+		case e.Seq != int64(n):
+			return n, fmt.Errorf("%w: line %d holds entry %d (an entry was deleted, added or moved)", ErrAuditBroken, n, e.Seq)
+		case e.Prev != prev:
+			return n, fmt.Errorf("%w: entry %d does not follow entry %d (deleted or reordered)", ErrAuditBroken, e.Seq, e.Seq-1)
+		case chainHash(e) != e.Hash:
+			return n, fmt.Errorf("%w: entry %d was changed after it was written", ErrAuditBroken, e.Seq)
+		}
+		if _, err := time.Parse(time.RFC3339Nano, e.Time); err != nil {
+			return n, fmt.Errorf("%w: entry %d has no ISO 8601 time", ErrAuditBroken, e.Seq)
+		}
+		prev = e.Hash
+	}
+	if err := sc.Err(); err != nil {
+		return n, err
+	}
+	return n, nil
+}
+
+// auditLog appends chained entries, fsynced one by one.
+type auditLog struct {
+	f    *os.File
+	seq  int64
+	prev string
+}
+
+func auditPath(stateDir string) string { return filepath.Join(stateDir, "audit.log") }
+
+// openAudit verifies the trail and opens it for appending.
+func openAudit(path string) (*auditLog, error) {
+	n, err := VerifyAudit(path)
+	if err != nil {
+		return nil, err
+	}
+	a := &auditLog{seq: int64(n)}
+	if n > 0 {
+		last, err := lastAudit(path)
+		if err != nil {
+			return nil, err
+		}
+		a.prev = last.Hash
+	}
+	a.f, err = os.OpenFile(path, os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
+	if err != nil {
+		return nil, err
+	}
+	return a, nil
+}
+
+func lastAudit(path string) (AuditEntry, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return AuditEntry{}, err
+	}
+	defer f.Close()
+	sc := bufio.NewScanner(f)
+	sc.Buffer(make([]byte, 1<<20), 1<<26)
+	var last []byte
+	for sc.Scan() {
+		last = append(last[:0], sc.Bytes()...)
+	}
+	var e AuditEntry
+	err = json.Unmarshal(last, &e)
+	return e, err
+}
+
+func (a *auditLog) append(e AuditEntry, now time.Time) (AuditEntry, error) {
+	if a.f == nil {
+		return e, errors.New("audit: append after a failed write")
+	}
+	e.Seq = a.seq + 1
+	e.Time = now.UTC().Format(time.RFC3339Nano)
+	e.Prev = a.prev
+	e.Hash = chainHash(e)
+	b, err := json.Marshal(e)
+	if err != nil {
+		return e, err
+	}
+	if _, err := a.f.Write(append(b, '\n')); err != nil {
+		a.f.Close()
+		a.f = nil
+		return e, fmt.Errorf("audit: write: %w", err)
+	}
+	if err := a.f.Sync(); err != nil {
+		a.f.Close()
+		a.f = nil
+		return e, fmt.Errorf("audit: sync: %w", err)
+	}
+	a.seq, a.prev = e.Seq, e.Hash
+	return e, nil
+}
+
+func (a *auditLog) close() error {
+	if a == nil || a.f == nil {
+		return nil
+	}
+	return a.f.Close()
+}
