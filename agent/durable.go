@@ -17,6 +17,20 @@ const tempPrefix = ".benchtender-"
 // file or the whole file: write a temp file in the same folder, fsync it,
 // rename it into place, fsync the folder.
 func writeFileAtomic(dir, name string, data []byte, perm os.FileMode) error {
+	return atomicWriter{}.write(dir, name, data, perm)
+}
+
+// atomicWriter is writeFileAtomic with its fsync replaceable, so that
+// tests can make the disk fail where real disks fail.
+type atomicWriter struct {
+	sync func(*os.File) error // (*os.File).Sync when nil
+}
+
+func (w atomicWriter) write(dir, name string, data []byte, perm os.FileMode) error {
+	sync := w.sync
+	if sync == nil {
+		sync = (*os.File).Sync
+	}
 	f, err := os.CreateTemp(dir, tempPrefix+name+".*.tmp")
 	if err != nil {
 		return fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
@@ -33,7 +47,9 @@ func writeFileAtomic(dir, name string, data []byte, perm os.FileMode) error {
 	if err := f.Chmod(perm); err != nil && !errors.Is(err, errors.ErrUnsupported) {
 		return fail(err)
 	}
-	if err := f.Sync(); err != nil {
+	// An fsync error means the data may not be on disk: the temp file is
+	// removed and the error returned, never retried as if it worked.
+	if err := sync(f); err != nil {
 		return fail(err)
 	}
 	if err := f.Close(); err != nil {

@@ -265,3 +265,5 @@ func (j *Journal) Close() error {
 	j.f = nil
 	return err
 }
+
+func jsonMarshal(v any) ([]byte, error) { return json.Marshal(v) }

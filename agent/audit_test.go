@@ -1,0 +1,99 @@
+package agent
+
+import (
+	"errors"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+func writeTrail(t *testing.T, n int) (string, []string) {
+	t.Helper()
+	path := filepath.Join(t.TempDir(), "audit.log")
+	a, err := openAudit(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	now := time.Date(2026, 12, 1, 22, 0, 0, 0, time.UTC)
+	for i := 0; i < n; i++ {
+		if _, err := a.append(AuditEntry{Actor: "ada", Name: "Ada Tech", Action: "approve", Subject: "R000" + string(rune('1'+i)), Reason: "checked", Meaning: "approval"}, now.Add(time.Duration(i)*time.Minute)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	a.close()
+	data, _ := os.ReadFile(path)
+	return path, strings.SplitAfter(strings.TrimSuffix(string(data), "\n"), "\n")
+}
+
+// The audit trail's hash chain detects an edited, a deleted and a
+// reordered entry, as 21 CFR Part 11 §11.10(e) asks of an audit trail
+// (secure, computer-generated, time-stamped; changes must not obscure
+// earlier entries), and reopening goes on from the last entry.
+func TestAuditVerifyDetectsTampering(t *testing.T) {
+	path, lines := writeTrail(t, 4)
+	if n, err := VerifyAudit(path); err != nil || n != 4 {
+		t.Fatalf("intact trail: %d entries, %v", n, err)
+	}
+	join := func(ls []string) string {
+		s := strings.Join(ls, "")
+		if !strings.HasSuffix(s, "\n") {
+			s += "\n"
+		}
+		return s
+	}
+	cases := map[string]string{
+		"edited":    join(append(append([]string{}, lines[:2]...), append([]string{strings.Replace(lines[2], `"reason":"checked"`, `"reason":"looks fine"`, 1)}, lines[3:]...)...)),
+		"deleted":   join(append(append([]string{}, lines[:1]...), lines[2:]...)),
+		"reordered": join([]string{lines[0], lines[2], lines[1], lines[3]}),
+		"truncated": join(lines[:3]) + lines[3][:20],
+	}
+	for name, content := range cases {
+		t.Run(name, func(t *testing.T) {
+			p := filepath.Join(t.TempDir(), "audit.log")
+			os.WriteFile(p, []byte(content), 0o644)
+			if _, err := VerifyAudit(p); !errors.Is(err, ErrAuditBroken) {
+				t.Fatalf("%s trail: %v, want ErrAuditBroken", name, err)
+			}
+			if _, err := openAudit(p); err == nil {
+				t.Fatalf("a %s trail was opened for appending", name)
+			}
+		})
+	}
+	a, err := openAudit(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e, err := a.append(AuditEntry{Actor: "benchtender", Action: "handoff", Subject: "R0005"}, time.Now()); err != nil || e.Seq != 5 {
+		t.Fatalf("append after reopen: %+v %v", e, err)
+	}
+	a.close()
+	if n, err := VerifyAudit(path); err != nil || n != 5 {
+		t.Fatalf("after reopen: %d, %v", n, err)
+	}
+}
+
+// The daemon refuses to start on a broken trail, touching nothing.
+func TestAgentRefusesBrokenAudit(t *testing.T) {
+	tc := newTestCampaign(t, "3", defaultLimits)
+	os.MkdirAll(tc.cfg.Campaign.StateDir, 0o755)
+	_, lines := writeTrail(t, 3)
+	broken := lines[0] + lines[2] + "\n"
+	p := auditPath(tc.cfg.Campaign.StateDir)
+	os.WriteFile(p, []byte(broken), 0o644)
+	a, err := New(tc.cfg, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	err = a.Run(t.Context())
+	if !errors.Is(err, ErrAuditBroken) {
+		t.Fatalf("Run: %v, want ErrAuditBroken", err)
+	}
+	if after, _ := os.ReadFile(p); string(after) != broken {
+		t.Error("the broken trail was changed")
+	}
+	if _, err := os.Stat(journalPath(tc.cfg.Campaign.StateDir)); !os.IsNotExist(err) {
+		t.Error("a journal was created despite the broken trail")
+	}
+}

@@ -1,0 +1,334 @@
+package agent
+
+import (
+	"context"
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/rs/zerolog"
+
+	"benchtender/campaign"
+	"benchtender/planner"
+)
+
+// fakeProposer is a planner whose answer the test chooses.
+type fakeProposer struct {
+	propose func(ctx context.Context, req planner.Request) (planner.Result, error)
+}
+
+var _ Proposer = fakeProposer{}
+
+func (f fakeProposer) Propose(ctx context.Context, req planner.Request) (planner.Result, error) {
+	return f.propose(ctx, req)
+}
+
+// startWith runs an agent with the given options on the campaign.
+func (tc *testCampaign) startWith(t *testing.T, opt Options) (<-chan Entry, func()) {
+	t.Helper()
+	events := make(chan Entry, 1024)
+	opt.Logger = zerolog.New(zerolog.NewTestWriter(t))
+	if opt.Tick == 0 {
+		opt.Tick = 50 * time.Millisecond
+	}
+	opt.Notify = func(e Entry) { events <- e }
+	a, err := New(tc.cfg, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan error, 1)
+	go func() { done <- a.Run(ctx) }()
+	var once sync.Once
+	stop := func() {
+		once.Do(func() {
+			cancel()
+			if err := <-done; err != nil {
+				t.Errorf("agent: %v", err)
+			}
+		})
+	}
+	t.Cleanup(stop)
+	return events, stop
+}
+
+func handoffFiles(t *testing.T, tc *testCampaign) []string {
+	t.Helper()
+	entries, err := os.ReadDir(tc.cfg.Instrument.HandoffDir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out []string
+	for _, e := range entries {
+		out = append(out, e.Name())
+	}
+	return out
+}
+
+// Every fault in the planner or the writer ends with no setpoint written:
+// an error, a panic, a NaN, a point outside the space, and a disk whose
+// fsync fails (the temp file is removed, the error not retried as if it
+// had worked).
+func TestFaultsWriteNoSetpoint(t *testing.T) {
+	good := func(ctx context.Context, req planner.Request) (planner.Result, error) {
+		return planner.Result{Proposal: campaign.Proposal{Setpoint: campaign.Setpoint{RunID: req.RunID, Point: campaign.Point{50, 3}}}}, nil
+	}
+	faults := map[string]Options{
+		"planner error": {Proposer: fakeProposer{func(context.Context, planner.Request) (planner.Result, error) {
+			return planner.Result{}, errors.New("injected")
+		}}},
+		"planner panic": {Proposer: fakeProposer{func(context.Context, planner.Request) (planner.Result, error) {
+			panic("injected")
+		}}},
+		"planner NaN": {Proposer: fakeProposer{func(ctx context.Context, req planner.Request) (planner.Result, error) {
+			return planner.Result{Proposal: campaign.Proposal{Setpoint: campaign.Setpoint{RunID: req.RunID, Point: campaign.Point{math.NaN(), 3}}}}, nil
+		}}},
+		"planner wrong size": {Proposer: fakeProposer{func(ctx context.Context, req planner.Request) (planner.Result, error) {
+			return planner.Result{Proposal: campaign.Proposal{Setpoint: campaign.Setpoint{RunID: req.RunID, Point: campaign.Point{50}}}}, nil
+		}}},
+		"writer fails on sync": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) error {
+			return atomicWriter{sync: func(*os.File) error { return errors.New("injected: EIO on fsync") }}.write(dir, name, data, 0o644)
+		}},
+		"writer fails": {Proposer: fakeProposer{good}, Writer: func(string, string, []byte) error { return errors.New("injected") }},
+	}
+	for name, opt := range faults {
+		t.Run(name, func(t *testing.T) {
+			tc := newTestCampaign(t, "3", defaultLimits)
+			events, stop := tc.startWith(t, opt)
+			time.Sleep(400 * time.Millisecond) // several ticks of trying
+			stop()
+			if files := handoffFiles(t, tc); len(files) != 0 {
+				t.Fatalf("handoff folder holds %v", files)
+			}
+			for len(events) > 0 {
+				if e := <-events; e.Kind == KindHandoff {
+					t.Fatalf("a handoff was recorded: %+v", e)
+				}
+			}
+		})
+	}
+}
+
+// heldCampaign starts a campaign whose every move is held (review_min
+// above the whole design), and returns the first held proposal.
+func heldCampaign(t *testing.T, extra string, opt Options) (*testCampaign, <-chan Entry, func(), Entry) {
+	t.Helper()
+	tc := newTestCampaign(t, "4", `
+[safety.limits.temp]
+hard_min = 20.0
+hard_max = 80.0
+review_min = 79.0
+
+[safety.limits.flow]
+hard_min = 1.0
+hard_max = 5.0
+`+extra)
+	events, stop := tc.startWith(t, opt)
+	p := waitFor(t, events, "a held proposal", kind(KindProposal))
+	if p.Decision.Verdict != "hold" {
+		t.Fatalf("verdict %s", p.Decision.Verdict)
+	}
+	return tc, events, stop, p
+}
+
+func approve(t *testing.T, tc *testCampaign, run, by string, edit map[string]float64) {
+	t.Helper()
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: run, Action: ActionApprove, By: by, Name: "Person " + by, Reason: "checked", Edit: edit}); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// waitAudit waits until the audit trail has an entry containing text.
+func waitAudit(t *testing.T, tc *testCampaign, text string) {
+	t.Helper()
+	deadline := time.Now().Add(10 * time.Second)
+	for time.Now().Before(deadline) {
+		b, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+		if strings.Contains(string(b), text) {
+			return
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	t.Fatalf("audit trail never said %q", text)
+}
+
+// A stale approval is refused: given before a new result arrived, given
+// under other limits, or older than approval_expiry; and a replayed
+// request file is refused the second time.
+func TestStaleAndReplayedApprovalsAreRefused(t *testing.T) {
+	t.Run("new result arrived", func(t *testing.T) {
+		tc, _, _, p := heldCampaign(t, "", Options{})
+		req := SignoffRequest{ID: "r1", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: -1}
+		writeRequest(t, tc, req)
+		waitAudit(t, tc, "new result(s) arrived since it was given")
+	})
+	t.Run("limits edited", func(t *testing.T) {
+		tc, _, _, p := heldCampaign(t, "", Options{})
+		req := SignoffRequest{ID: "r2", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now(), Limits: "0123456789abcdef", State: 0}
+		writeRequest(t, tc, req)
+		waitAudit(t, tc, "the limits changed since it was given")
+	})
+	t.Run("expired", func(t *testing.T) {
+		tc, _, _, p := heldCampaign(t, "", Options{})
+		req := SignoffRequest{ID: "r3", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now().Add(-2 * time.Hour), Limits: tc.cfg.Safety.Version()}
+		writeRequest(t, tc, req)
+		waitAudit(t, tc, "longer than approval_expiry")
+	})
+	t.Run("replayed", func(t *testing.T) {
+		tc, events, _, p := heldCampaign(t, "", Options{})
+		req := SignoffRequest{ID: "r4", Run: p.Run, Action: ActionReject, By: "ada", Name: "Ada", Reason: "no", Time: time.Now(), Limits: tc.cfg.Safety.Version()}
+		writeRequest(t, tc, req)
+		waitFor(t, events, "the rejection", kind(KindSignoff))
+		writeRequest(t, tc, req) // the same file again
+		waitAudit(t, tc, "used already (a replay)")
+	})
+	if testing.Short() {
+		return
+	}
+}
+
+func writeRequest(t *testing.T, tc *testCampaign, req SignoffRequest) {
+	t.Helper()
+	dir := inboxDir(tc.cfg.Campaign.StateDir)
+	os.MkdirAll(dir, 0o755)
+	b, _ := jsonMarshal(req)
+	if err := writeFileAtomic(dir, req.ID+".json", b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+}
+
+// An approval with edited values passes the gate again: edited past a hard
+// limit it is refused and nothing is written; edited inside the limits it
+// is handed off with the edited values.
+func TestEditedApprovalIsGatedAgain(t *testing.T) {
+	tc, events, _, p := heldCampaign(t, "", Options{})
+	approve(t, tc, p.Run, "ada", map[string]float64{"temp": 85})
+	waitAudit(t, tc, "the gate refuses the move")
+	if files := handoffFiles(t, tc); len(files) != 0 {
+		t.Fatalf("handoff folder holds %v", files)
+	}
+	approve(t, tc, p.Run, "ada", map[string]float64{"temp": 79.5})
+	h := waitFor(t, events, "the handoff", kind(KindHandoff))
+	if h.Run != p.Run || h.Point[0] != 79.5 {
+		t.Fatalf("handed off %v for %s", h.Point, h.Run)
+	}
+}
+
+// A move of a two-person kind needs two different people.
+func TestTwoPersonRule(t *testing.T) {
+	tc, events, _, p := heldCampaign(t, "\n[safety]\ntwo_person = [\"review_min\"]\n", Options{})
+	approve(t, tc, p.Run, "ada", nil)
+	first := waitFor(t, events, "the first approval", kind(KindSignoff))
+	if !first.Partial {
+		t.Fatalf("first approval %+v is not partial", first)
+	}
+	approve(t, tc, p.Run, "ada", nil)
+	waitAudit(t, tc, "ada approved this move already")
+	if files := handoffFiles(t, tc); len(files) != 0 {
+		t.Fatalf("handed off after one person: %v", files)
+	}
+	approve(t, tc, p.Run, "bo", nil)
+	second := waitFor(t, events, "the second approval", kind(KindSignoff))
+	if second.Partial || second.By != "bo" {
+		t.Fatalf("second approval %+v", second)
+	}
+	waitFor(t, events, "the handoff", kind(KindHandoff))
+}
+
+// The all-stop file halts every handoff within one tick; only a person's
+// resume clears it, and handoffs go on.
+func TestAllStop(t *testing.T) {
+	tc := newTestCampaign(t, "6", defaultLimits)
+	tc.cfg.Planner.Batch = 1
+	events, _ := tc.startWith(t, Options{Tick: 50 * time.Millisecond})
+	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	stopFile := allStopPath(tc.cfg)
+	if err := os.WriteFile(stopFile, []byte("smoke in room 3"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	set := time.Now()
+	as := waitFor(t, events, "the all-stop", kind(KindAllStop))
+	if took := time.Since(set); took > 2*time.Second || !strings.Contains(as.Reason, "smoke in room 3") {
+		t.Errorf("all-stop after %v: %+v", took, as)
+	}
+	// A result arrives: it is ingested, but nothing is handed off.
+	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("70,0"))
+	waitFor(t, events, "the ingest", kind(KindIngest))
+	time.Sleep(300 * time.Millisecond)
+	if n := len(handoffFiles(t, tc)); n != 1 {
+		t.Fatalf("%d handoff files during the all-stop, want the 1 from before", n)
+	}
+	// Deleting the file is not enough: a person must resume.
+	os.Remove(stopFile)
+	time.Sleep(200 * time.Millisecond)
+	if n := len(handoffFiles(t, tc)); n != 1 {
+		t.Fatalf("handoff resumed without a person: %d files", n)
+	}
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Action: ActionResume, By: "ada", Name: "Ada Tech", Reason: "room checked"}); err != nil {
+		t.Fatal(err)
+	}
+	waitFor(t, events, "the resume", kind(KindResume))
+	waitFor(t, events, "a handoff after the resume", kind(KindHandoff))
+}
+
+// A held move lapses after hold_expiry, measured by the injected clock.
+func TestHoldExpires(t *testing.T) {
+	var mu sync.Mutex
+	now := time.Now()
+	clock := func() time.Time { mu.Lock(); defer mu.Unlock(); return now }
+	_, events, _, p := heldCampaign(t, "\n[safety]\nhold_expiry = \"1h\"\n", Options{Now: clock})
+	mu.Lock()
+	now = now.Add(59 * time.Minute)
+	mu.Unlock()
+	time.Sleep(200 * time.Millisecond)
+	mu.Lock()
+	now = now.Add(2 * time.Minute)
+	mu.Unlock()
+	e := waitFor(t, events, "the expiry", kind(KindExpire))
+	if e.Run != p.Run {
+		t.Fatalf("expired %s, want %s", e.Run, p.Run)
+	}
+}
+
+// At most max_handoffs_per_hour setpoints are written in any hour.
+func TestRateLimit(t *testing.T) {
+	tc := newTestCampaign(t, "6", defaultLimits+"\n[safety]\nmax_handoffs_per_hour = 2\n")
+	tc.cfg.Planner.Batch = 4
+	events, stop := tc.startWith(t, Options{})
+	waitFor(t, events, "a handoff", kind(KindHandoff))
+	waitFor(t, events, "a second handoff", kind(KindHandoff))
+	time.Sleep(500 * time.Millisecond)
+	stop()
+	if n := len(handoffFiles(t, tc)); n != 2 {
+		t.Fatalf("%d handoffs within the hour, limit 2", n)
+	}
+}
+
+// An edited config that no longer validates stops every handoff (fail
+// closed) until it is fixed.
+func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
+	tc := newTestCampaign(t, "6", defaultLimits)
+	events, _ := tc.startWith(t, Options{ConfigPath: tc.cfgPath})
+	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	good, _ := os.ReadFile(tc.cfgPath)
+	time.Sleep(20 * time.Millisecond) // a new modification time
+	if err := os.WriteFile(tc.cfgPath, []byte(strings.Replace(string(good), "hard_max = 80.0", "hard_max = 10.0", 1)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	waitAudit(t, tc, "config refused")
+	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("70,0"))
+	waitFor(t, events, "the ingest", kind(KindIngest))
+	time.Sleep(300 * time.Millisecond)
+	if n := len(handoffFiles(t, tc)); n != 1 {
+		t.Fatalf("%d handoff files under a broken config", n)
+	}
+	os.WriteFile(tc.cfgPath, good, 0o644)
+	waitAudit(t, tc, "limits edited")
+	waitFor(t, events, "a handoff once fixed", kind(KindHandoff))
+	_ = filepath.Join
+}
