@@ -97,3 +97,27 @@ func TestAgentRefusesBrokenAudit(t *testing.T) {
 		t.Error("a journal was created despite the broken trail")
 	}
 }
+
+// A correction is a new entry pointing at the corrected one; the corrected
+// entry stays as it was.
+func TestCorrectionIsANewEntry(t *testing.T) {
+	tc := newTestCampaign(t, "3", defaultLimits)
+	events, stop := tc.start(t)
+	waitFor(t, events, "a handoff", kind(KindHandoff))
+	before, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Action: ActionCorrect, Corrects: 1, By: "ada", Name: "Ada Tech", Reason: "proposal 1 was discussed at 08:00, not at night"}); err != nil {
+		t.Fatal(err)
+	}
+	waitFor(t, events, "the correction", kind(KindCorrection))
+	stop()
+	after, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+	if !strings.HasPrefix(string(after), string(before)) {
+		t.Fatal("earlier entries changed")
+	}
+	if !strings.Contains(string(after[len(before):]), `"action":"correction","subject":"audit entry 1"`) || !strings.Contains(string(after), `"corrects":1`) {
+		t.Errorf("correction entry missing:\n%s", after[len(before):])
+	}
+	if _, err := VerifyAudit(auditPath(tc.cfg.Campaign.StateDir)); err != nil {
+		t.Error(err)
+	}
+}

@@ -150,6 +150,9 @@ func (a *Agent) auditEntry(e Entry) error {
 		}
 	case KindResume:
 		ae.Actor, ae.Name, ae.Action, ae.Meaning, ae.Subject = e.By, e.Name, "all-stop cleared", "resumption", "all-stop"
+	case KindCorrection:
+		ae.Actor, ae.Name, ae.Action, ae.Meaning = e.By, e.Name, "correction", "correction of an earlier entry"
+		ae.Subject, ae.Corrects = fmt.Sprintf("audit entry %d", e.Corrects), e.Corrects
 	case KindAllStop:
 		ae.Actor, ae.Action, ae.Subject = e.By, "all-stop", "every handoff"
 	default:

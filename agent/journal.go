@@ -29,6 +29,7 @@ const (
 	KindRegate     = "regate"     // an approved move gated again (limits edited)
 	KindAllStop    = "all-stop"   // the all-stop file appeared: every handoff halted
 	KindResume     = "resume"     // a person cleared the all-stop
+	KindCorrection = "correction" // a person corrects an earlier audit entry
 )
 
 // Sign-off actions.
@@ -78,6 +79,8 @@ type Entry struct {
 	Reason string `json:"reason,omitempty"`
 	// Copy is where a quarantined file was copied.
 	Copy string `json:"copy,omitempty"`
+	// Corrects is the audit entry a correction refers to.
+	Corrects int64 `json:"corrects,omitempty"`
 }
 
 // castagnoli is the CRC-32C table (RFC 3720, appendix B.4).

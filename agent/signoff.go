@@ -36,6 +36,8 @@ type SignoffRequest struct {
 	// Edit sets factor values of the held move before it is approved;
 	// the edited move passes the gate again.
 	Edit map[string]float64 `json:"edit,omitempty"`
+	// Corrects is the audit entry a correction refers to.
+	Corrects int64 `json:"corrects,omitempty"`
 	// Limits and State bind the approval to the version of the limits
 	// and to the number of results recorded when it was given: if either
 	// has changed by the time it is applied, it is refused and the move
@@ -44,8 +46,12 @@ type SignoffRequest struct {
 	State  int    `json:"state"`
 }
 
-// ActionResume clears an all-stop.
-const ActionResume = "resume"
+// Actions besides approve and reject: resume clears an all-stop; correct
+// adds a correction to the audit trail, pointing at the entry it corrects.
+const (
+	ActionResume  = "resume"
+	ActionCorrect = "correct"
+)
 
 // Validate checks the request on its own; whether the run is held is for
 // the daemon to decide.
@@ -53,8 +59,14 @@ func (r SignoffRequest) Validate() error {
 	if !campaign.ValidRunID(r.Run) {
 		return fmt.Errorf("sign-off: %q is not a run id", r.Run)
 	}
-	if r.Action != ActionApprove && r.Action != ActionReject && r.Action != ActionResume {
-		return fmt.Errorf("sign-off: action must be %q, %q or %q, got %q", ActionApprove, ActionReject, ActionResume, r.Action)
+	switch r.Action {
+	case ActionApprove, ActionReject, ActionResume:
+	case ActionCorrect:
+		if r.Corrects < 1 {
+			return errors.New("correction: name the audit entry it corrects (--entry)")
+		}
+	default:
+		return fmt.Errorf("sign-off: action must be %q, %q, %q or %q, got %q", ActionApprove, ActionReject, ActionResume, ActionCorrect, r.Action)
 	}
 	if strings.TrimSpace(r.By) == "" {
 		return errors.New("sign-off: who signs (--by, a user id) is required")
@@ -117,6 +129,9 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	if req.Action == ActionResume && req.Run == "" {
 		req.Run = "all-stop"
 	}
+	if req.Action == ActionCorrect && req.Run == "" {
+		req.Run = "audit"
+	}
 	if err := req.Validate(); err != nil {
 		return "", err
 	}
@@ -128,6 +143,14 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	req.Limits, req.State = cfg.Safety.Version(), st.Ingests
 	r, ok := st.Runs[req.Run]
 	switch {
+	case req.Action == ActionCorrect:
+		n, err := VerifyAudit(auditPath(cfg.Campaign.StateDir))
+		if err != nil {
+			return "", err
+		}
+		if req.Corrects > int64(n) {
+			return "", fmt.Errorf("correction: the audit trail has %d entries, not %d", n, req.Corrects)
+		}
 	case req.Action == ActionResume:
 		// Anyone may stop; only a person, by name, clears the stop:
 		// the request removes the file and the daemon records it.

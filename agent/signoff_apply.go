@@ -55,6 +55,10 @@ func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
 		return Entry{}, fmt.Sprintf("given %v ago, longer than approval_expiry %v", age.Round(1e9), a.cfg.Safety.Approvals())
 	}
 	e := Entry{Kind: KindSignoff, Run: req.Run, Action: req.Action, By: req.By, Name: req.Name, Reason: req.Reason, Request: req.ID, Limits: a.gate.Version()}
+	if req.Action == ActionCorrect {
+		e.Kind, e.Corrects = KindCorrection, req.Corrects
+		return e, ""
+	}
 	if req.Action == ActionResume {
 		if a.state.AllStop == "" {
 			return Entry{}, "no all-stop is in effect"

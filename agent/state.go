@@ -113,7 +113,14 @@ func (s *State) apply(e Entry) {
 		default:
 			r.Status = StatusRefused
 		}
-	case KindSignoff:
+	case KindSignoff, KindResume:
+		if e.Request != "" {
+			s.Requests[e.Request] = true
+		}
+		if e.Kind == KindResume {
+			s.AllStop = ""
+			break
+		}
 		if e.Request != "" {
 			s.Requests[e.Request] = true
 		}
@@ -148,8 +155,10 @@ func (s *State) apply(e Entry) {
 		}
 	case KindAllStop:
 		s.AllStop = e.Reason
-	case KindResume:
-		s.AllStop = ""
+	case KindCorrection:
+		if e.Request != "" {
+			s.Requests[e.Request] = true
+		}
 	case KindHandoff:
 		s.Handoffs++
 		s.run(e.Run).Status = StatusHanded

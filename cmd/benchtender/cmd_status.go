@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"path/filepath"
 	"sort"
 	"strings"
 
@@ -28,6 +29,19 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	for _, s := range []string{agent.StatusDone, agent.StatusFailed, agent.StatusHanded, agent.StatusReady, agent.StatusHeld, agent.StatusRejected, agent.StatusRefused} {
 		if counts[s] > 0 {
 			fmt.Fprintf(stdout, "  %-10s %d\n", s, counts[s])
+		}
+	}
+	if st.AllStop != "" {
+		fmt.Fprintf(stdout, "ALL-STOP: every handoff halted: %s (clear with benchtender resume)\n", st.AllStop)
+	}
+	if trail, err := agent.ReadAudit(filepath.Join(cfg.Campaign.StateDir, "audit.log")); err == nil {
+		for i := len(trail) - 1; i >= 0; i-- {
+			if e := trail[i]; e.Action == "config refused" {
+				fmt.Fprintf(stdout, "HANDOFFS HALTED since %s: the edited config does not validate: %s\n", e.Time, e.Reason)
+				break
+			} else if e.Action == "limits edited" {
+				break
+			}
 		}
 	}
 	if st.Stopped != "" {
