@@ -1,15 +1,11 @@
 package agent
 
 import (
-	"context"
 	"os"
 	"path/filepath"
 	"strings"
-	"sync"
 	"testing"
 	"time"
-
-	"github.com/rs/zerolog"
 )
 
 // testCampaign is a folder with a config, an export folder and a handoff
@@ -108,30 +104,11 @@ func newTestCampaign(t *testing.T, maxRuns string, limits string) *testCampaign 
 	return &testCampaign{dir: dir, cfgPath: path, cfg: cfg}
 }
 
-// start runs an agent on the campaign and returns a channel of its journal
-// entries and a stop function that waits for it.
+// start runs an agent on the campaign with default options and returns a
+// channel of its journal entries and a stop function that waits for it.
 func (tc *testCampaign) start(t *testing.T) (<-chan Entry, func()) {
 	t.Helper()
-	events := make(chan Entry, 1024)
-	a, err := New(tc.cfg, Options{Logger: zerolog.New(zerolog.NewTestWriter(t)), Tick: 50 * time.Millisecond,
-		Notify: func(e Entry) { events <- e }})
-	if err != nil {
-		t.Fatal(err)
-	}
-	ctx, cancel := context.WithCancel(context.Background())
-	done := make(chan error, 1)
-	go func() { done <- a.Run(ctx) }()
-	var once sync.Once
-	stop := func() {
-		once.Do(func() {
-			cancel()
-			if err := <-done; err != nil {
-				t.Errorf("agent: %v", err)
-			}
-		})
-	}
-	t.Cleanup(stop)
-	return events, stop
+	return tc.startWith(t, Options{})
 }
 
 // waitFor reads entries until one satisfies ok, failing after 20 s.

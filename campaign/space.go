@@ -281,3 +281,18 @@ func (p Point) Finite() bool {
 func (p Point) Clone() Point { return append(Point(nil), p...) }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// Env returns the setpoint as named values for expressions over factors
+// (constraints, safety rules): each factor's value by name, a choice
+// factor's as the name of the choice.
+func (s Space) Env(p Point) map[string]any {
+	env := make(map[string]any, len(s))
+	for i, f := range s {
+		if f.Kind == Choice {
+			env[f.Name] = f.Format(p[i])
+		} else {
+			env[f.Name] = p[i]
+		}
+	}
+	return env
+}

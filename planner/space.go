@@ -54,18 +54,6 @@ type constraintSet struct {
 	progs []*vm.Program
 }
 
-func constraintEnv(space campaign.Space, pt campaign.Point) map[string]any {
-	env := make(map[string]any, len(space))
-	for i, f := range space {
-		if f.Kind == campaign.Choice {
-			env[f.Name] = f.Format(pt[i])
-		} else {
-			env[f.Name] = pt[i]
-		}
-	}
-	return env
-}
-
 // CompileConstraints checks every constraint of the campaign against its
 // factors, reporting problems keyed "constraint[i].expression".
 func CompileConstraints(space campaign.Space, cons []campaign.Constraint) (constraintSet, campaign.Problems) {
@@ -76,7 +64,7 @@ func CompileConstraints(space campaign.Space, cons []campaign.Constraint) (const
 	for i, f := range space {
 		sample[i] = f.Min
 	}
-	env := constraintEnv(space, sample)
+	env := space.Env(sample)
 	for i, c := range cons {
 		prog, err := expr.Compile(c.Expression, expr.Env(env), expr.AsBool())
 		if err != nil {
@@ -105,7 +93,7 @@ func (p *Planner) Violated(pt campaign.Point) string {
 	if len(p.cons.progs) == 0 {
 		return ""
 	}
-	env := constraintEnv(p.space, pt)
+	env := p.space.Env(pt)
 	for i, prog := range p.cons.progs {
 		out, err := expr.Run(prog, env)
 		if ok, isBool := out.(bool); err != nil || !isBool || !ok {

@@ -178,7 +178,7 @@ func (g *Gate) check(sp campaign.Setpoint, previous campaign.Point) Decision {
 			}
 		}
 	}
-	env := ruleEnv(g.space, sp.Point)
+	env := g.space.Env(sp.Point)
 	for _, r := range g.rules {
 		out, err := expr.Run(r.prog, env)
 		tripped, isBool := out.(bool)

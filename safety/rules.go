@@ -15,18 +15,6 @@ type compiledRule struct {
 	prog *vm.Program
 }
 
-func ruleEnv(space campaign.Space, pt campaign.Point) map[string]any {
-	env := make(map[string]any, len(space))
-	for i, f := range space {
-		if f.Kind == campaign.Choice {
-			env[f.Name] = f.Format(pt[i])
-		} else {
-			env[f.Name] = pt[i]
-		}
-	}
-	return env
-}
-
 // compileRules compiles the rules' expressions against the factor names
 // (with github.com/expr-lang/expr).
 func compileRules(rules []Rule, space campaign.Space) ([]compiledRule, campaign.Problems) {
@@ -36,7 +24,7 @@ func compileRules(rules []Rule, space campaign.Space) ([]compiledRule, campaign.
 	for i, f := range space {
 		sample[i] = f.Min
 	}
-	env := ruleEnv(space, sample)
+	env := space.Env(sample)
 	seen := map[string]bool{}
 	var out []compiledRule
 	for i, r := range rules {
