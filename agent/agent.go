@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/rs/zerolog"
@@ -69,6 +70,7 @@ type Agent struct {
 	cfgMod    time.Time            // modification time of the config file last read
 	cfgBroken string               // why the edited config is refused (no handoffs meanwhile)
 	rateSaid  bool
+	unlock    func()
 
 	refusals   int       // consecutive gate refusals
 	planAfter  time.Time // earliest next planning attempt after an error
@@ -126,7 +128,11 @@ func New(cfg Config, opt Options) (*Agent, error) {
 // the journal can no longer be written (then it returns the error: nothing
 // may go on without a record).
 func (a *Agent) Run(ctx context.Context) error {
-	if err := a.open(); err != nil {
+	err := a.open()
+	if a.unlock != nil {
+		defer a.unlock()
+	}
+	if err != nil {
 		return err
 	}
 	defer a.journal.Close()
@@ -174,10 +180,18 @@ func (a *Agent) open() error {
 	if err := os.MkdirAll(sd, 0o755); err != nil {
 		return fmt.Errorf("agent: state folder: %w", err)
 	}
+	if err := checkLocalFS(sd); err != nil {
+		return fmt.Errorf("agent: %w", err)
+	}
+	unlock, err := lockState(sd)
+	if err != nil {
+		return fmt.Errorf("agent: %w", err)
+	}
+	a.unlock = unlock
 	if fi, err := os.Stat(a.cfg.Instrument.HandoffDir); err != nil || !fi.IsDir() {
 		return fmt.Errorf("agent: handoff folder %s does not exist or is not a folder", a.cfg.Instrument.HandoffDir)
 	}
-	audit, err := openAudit(auditPath(sd))
+	audit, tornAudit, err := openAudit(auditPath(sd))
 	if err != nil {
 		return fmt.Errorf("agent: %s: %w; nothing was started (run benchtender audit verify)", auditPath(sd), err)
 	}
@@ -188,6 +202,24 @@ func (a *Agent) open() error {
 		return fmt.Errorf("agent: %w", err)
 	}
 	a.journal, a.state = j, Replay(entries)
+	if tornAudit {
+		a.log.Warn().Msg("audit trail ended in a torn entry (a write cut short by a crash); cut it off")
+		if err := a.auditNote("audit trail repaired", "audit trail", "a torn last entry was cut off at start"); err != nil {
+			return err
+		}
+	}
+	// Entries journalled but not audited before a crash are audited now.
+	audited, err := lastJournalSeq(auditPath(sd))
+	if err != nil {
+		return fmt.Errorf("agent: %w", err)
+	}
+	for _, e := range entries {
+		if e.Seq > audited {
+			if err := a.auditEntry(e); err != nil {
+				return err
+			}
+		}
+	}
 	if cut > 0 {
 		a.log.Warn().Int64("bytes", cut).Msg("journal ended in a torn record (a write cut short by a crash); cut it off")
 		if err := a.auditNote("journal repaired", "journal", fmt.Sprintf("a torn last record of %d bytes was cut off at start", cut)); err != nil {
@@ -204,6 +236,7 @@ func (a *Agent) open() error {
 		}
 		a.holdSeen[r.ID] = seen
 	}
+	swept := map[string]bool{}
 	for _, dir := range []string{a.cfg.Instrument.HandoffDir, sd, inboxDir(sd), filepath.Join(sd, "quarantine")} {
 		removed, err := sweepTemp(dir)
 		if err != nil && !errors.Is(err, os.ErrNotExist) {
@@ -211,6 +244,43 @@ func (a *Agent) open() error {
 		}
 		for _, n := range removed {
 			a.log.Info().Str("file", filepath.Join(dir, n)).Msg("removed a temp file left by an earlier run")
+			if dir == a.cfg.Instrument.HandoffDir {
+				swept[tempTarget(n)] = true
+			}
+		}
+	}
+	return a.recoverHandoffs(swept)
+}
+
+// recoverHandoffs settles handoffs a crash left unconfirmed. The file in
+// place with its action id: it was sent. A temp file of it swept just now:
+// the rename never happened, so the run is ready to send again. Neither:
+// the instrument took it (or, in a window of microseconds, it was never
+// written); it is treated as sent and awaits its result, because sending
+// it again could run it twice.
+func (a *Agent) recoverHandoffs(swept map[string]bool) error {
+	for _, r := range a.state.InFlight() {
+		if r.Confirmed || r.ActionID == "" {
+			continue
+		}
+		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
+		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
+		data, err := os.ReadFile(path)
+		switch {
+		case err == nil && strings.Contains(string(data), r.ActionID):
+			if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "found in place after a restart"}); err != nil {
+				return err
+			}
+		case swept[name]:
+			a.log.Warn().Str("run", r.ID).Msg("handoff was cut short by a crash before the file was in place; sending it again")
+			if err := a.record(Entry{Kind: KindHandoffNo, Run: r.ID, ActionID: r.ActionID, Reason: "cut short by a crash before the rename; the instrument never saw it"}); err != nil {
+				return err
+			}
+		default:
+			a.log.Warn().Str("run", r.ID).Str("action", r.ActionID).Msg("handoff unconfirmed after a restart: the file is gone, presumably taken by the instrument; not sent again, waiting for its result")
+			if err := a.auditNote("handoff unconfirmed", r.ID, "the file was gone at restart; not sent again"); err != nil {
+				return err
+			}
 		}
 	}
 	return nil
@@ -421,19 +491,27 @@ func (a *Agent) handoffReady() error {
 			continue
 		}
 		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
-		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, a.cfg.Instrument.HandoffFormat)
-		if err == nil {
-			err = a.write(a.cfg.Instrument.HandoffDir, name, data)
-		}
+		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
+		// The intent is journalled first, with the action id the file
+		// will carry: a crash after it can never send the run twice, and
+		// no file ever reaches the instrument unrecorded.
+		action := fmt.Sprintf("%s-%d", r.ID, a.journal.seq+1)
+		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, a.cfg.Instrument.HandoffFormat, action)
 		if err != nil {
+			a.log.Error().Err(err).Str("run", r.ID).Msg("cannot render the setpoint file; no setpoint written")
+			continue
+		}
+		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point, ActionID: action}); err != nil {
+			return err
+		}
+		if err := a.write(a.cfg.Instrument.HandoffDir, name, data); err != nil {
 			a.writeErrs++
 			a.writeAfter = a.opt.Now().Add(backoff(a.writeErrs))
 			a.log.Error().Err(err).Str("run", r.ID).Dur("retry_in", backoff(a.writeErrs)).Msg("handoff failed; no setpoint written")
-			return nil
+			return a.record(Entry{Kind: KindHandoffNo, Run: r.ID, ActionID: action, Reason: err.Error()})
 		}
 		a.writeErrs = 0
-		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
-		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point}); err != nil {
+		if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: action, File: path, Point: r.Point}); err != nil {
 			return err
 		}
 		a.log.Info().Str("run", r.ID).Str("file", path).Interface("setpoint", named(a.cfg.Campaign.Factors, r.Point)).Msg("setpoint handed off")

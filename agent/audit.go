@@ -2,11 +2,13 @@ package agent
 
 import (
 	"bufio"
+	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"time"
@@ -53,6 +55,11 @@ func chainHash(e AuditEntry) string {
 // ErrAuditBroken means the audit trail's chain does not verify.
 var ErrAuditBroken = errors.New("audit trail does not verify")
 
+// ErrAuditTorn means the trail's last line is incomplete: a write cut
+// short by a crash. The agent cuts it off at start and says so in the
+// trail; everything before it verifies.
+var ErrAuditTorn = errors.New("audit trail ends in a torn entry")
+
 // VerifyAudit checks the whole chain and returns the number of entries.
 // It names the first entry that breaks it.
 func VerifyAudit(path string) (int, error) {
@@ -64,14 +71,23 @@ func VerifyAudit(path string) (int, error) {
 		return 0, err
 	}
 	defer f.Close()
-	sc := bufio.NewScanner(f)
-	sc.Buffer(make([]byte, 1<<20), 1<<26)
+	r := bufio.NewReaderSize(f, 1<<16)
 	prev := ""
 	n := 0
-	for sc.Scan() {
+	for {
+		line, rerr := r.ReadBytes('\n')
+		if len(line) == 0 && rerr == io.EOF {
+			break
+		}
+		if rerr != nil && rerr != io.EOF {
+			return n, rerr
+		}
+		if line[len(line)-1] != '\n' {
+			return n, fmt.Errorf("%w after entry %d", ErrAuditTorn, n)
+		}
 		n++
 		var e AuditEntry
-		if err := json.Unmarshal(sc.Bytes(), &e); err != nil {
+		if err := json.Unmarshal(line, &e); err != nil {
 			return n, fmt.Errorf("%w: line %d is not an entry: %v", ErrAuditBroken, n, err)
 		}
 		switch {
@@ -87,9 +103,6 @@ func VerifyAudit(path string) (int, error) {
 		}
 		prev = e.Hash
 	}
-	if err := sc.Err(); err != nil {
-		return n, err
-	}
 	return n, nil
 }
 
@@ -102,12 +115,44 @@ type auditLog struct {
 
 func auditPath(stateDir string) string { return filepath.Join(stateDir, "audit.log") }
 
-// openAudit verifies the trail and opens it for appending.
-func openAudit(path string) (*auditLog, error) {
+// openAudit verifies the trail and opens it for appending. A torn last
+// entry (a crash while writing) is cut off and reported by torn; any other
+// damage is an error and nothing is changed.
+func openAudit(path string) (a *auditLog, torn bool, err error) {
 	n, err := VerifyAudit(path)
-	if err != nil {
-		return nil, err
+	if errors.Is(err, ErrAuditTorn) {
+		good, serr := auditPrefixLen(path, n)
+		if serr != nil {
+			return nil, false, serr
+		}
+		if err := os.Truncate(path, good); err != nil {
+			return nil, false, fmt.Errorf("audit: cut torn entry: %w", err)
+		}
+		torn, err = true, nil
 	}
+	if err != nil {
+		return nil, false, err
+	}
+	a, err = openAuditAt(path, n)
+	return a, torn, err
+}
+
+// auditPrefixLen is the byte length of the first n lines.
+func auditPrefixLen(path string, n int) (int64, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return 0, err
+	}
+	var off int64
+	for i := 0; i < n; i++ {
+		j := bytes.IndexByte(data[off:], '\n')
+		off += int64(j) + 1
+	}
+	return off, nil
+}
+
+func openAuditAt(path string, n int) (*auditLog, error) {
+	var err error
 	a := &auditLog{seq: int64(n)}
 	if n > 0 {
 		last, err := lastAudit(path)
@@ -194,4 +239,27 @@ func ReadAudit(path string) ([]AuditEntry, error) {
 		}
 	}
 	return out, sc.Err()
+}
+
+// lastJournalSeq returns the highest journal seq the trail records, so
+// that entries journalled but not yet audited when a crash came can be
+// audited at the next start.
+func lastJournalSeq(path string) (int64, error) {
+	entries, err := ReadAudit(path)
+	if err != nil {
+		return 0, err
+	}
+	var last int64
+	for _, e := range entries {
+		if len(e.Detail) == 0 {
+			continue
+		}
+		var j struct {
+			Seq int64 `json:"seq"`
+		}
+		if json.Unmarshal(e.Detail, &j) == nil && j.Seq > last {
+			last = j.Seq
+		}
+	}
+	return last, nil
 }

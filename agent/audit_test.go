@@ -12,7 +12,7 @@ import (
 func writeTrail(t *testing.T, n int) (string, []string) {
 	t.Helper()
 	path := filepath.Join(t.TempDir(), "audit.log")
-	a, err := openAudit(path)
+	a, _, err := openAudit(path)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -44,10 +44,10 @@ func TestAuditVerifyDetectsTampering(t *testing.T) {
 		return s
 	}
 	cases := map[string]string{
-		"edited":    join(append(append([]string{}, lines[:2]...), append([]string{strings.Replace(lines[2], `"reason":"checked"`, `"reason":"looks fine"`, 1)}, lines[3:]...)...)),
-		"deleted":   join(append(append([]string{}, lines[:1]...), lines[2:]...)),
-		"reordered": join([]string{lines[0], lines[2], lines[1], lines[3]}),
-		"truncated": join(lines[:3]) + lines[3][:20],
+		"edited":        join(append(append([]string{}, lines[:2]...), append([]string{strings.Replace(lines[2], `"reason":"checked"`, `"reason":"looks fine"`, 1)}, lines[3:]...)...)),
+		"deleted":       join(append(append([]string{}, lines[:1]...), lines[2:]...)),
+		"reordered":     join([]string{lines[0], lines[2], lines[1], lines[3]}),
+		"cut mid-entry": join(append(append([]string{}, lines[:2]...), lines[2][:40]+"\n", lines[3])),
 	}
 	for name, content := range cases {
 		t.Run(name, func(t *testing.T) {
@@ -56,12 +56,12 @@ func TestAuditVerifyDetectsTampering(t *testing.T) {
 			if _, err := VerifyAudit(p); !errors.Is(err, ErrAuditBroken) {
 				t.Fatalf("%s trail: %v, want ErrAuditBroken", name, err)
 			}
-			if _, err := openAudit(p); err == nil {
+			if _, _, err := openAudit(p); err == nil {
 				t.Fatalf("a %s trail was opened for appending", name)
 			}
 		})
 	}
-	a, err := openAudit(path)
+	a, _, err := openAudit(path)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -103,7 +103,7 @@ func TestAgentRefusesBrokenAudit(t *testing.T) {
 func TestCorrectionIsANewEntry(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	waitFor(t, events, "a handoff", kind(KindHandoff))
+	waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	before, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
 	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Action: ActionCorrect, Corrects: 1, By: "ada", Name: "Ada Tech", Reason: "proposal 1 was discussed at 08:00, not at night"}); err != nil {
 		t.Fatal(err)
@@ -119,5 +119,24 @@ func TestCorrectionIsANewEntry(t *testing.T) {
 	}
 	if _, err := VerifyAudit(auditPath(tc.cfg.Campaign.StateDir)); err != nil {
 		t.Error(err)
+	}
+}
+
+// A last entry torn by a crash (no line end) is cut off at open, and the
+// entries before it keep verifying; verify alone reports it as torn.
+func TestAuditTornTailIsCut(t *testing.T) {
+	path, lines := writeTrail(t, 3)
+	torn := strings.Join(lines[:2], "") + lines[2][:30]
+	os.WriteFile(path, []byte(torn), 0o644)
+	if _, err := VerifyAudit(path); !errors.Is(err, ErrAuditTorn) {
+		t.Fatalf("verify: %v, want ErrAuditTorn", err)
+	}
+	a, cut, err := openAudit(path)
+	if err != nil || !cut {
+		t.Fatalf("open: cut %v, %v", cut, err)
+	}
+	a.close()
+	if n, err := VerifyAudit(path); err != nil || n != 2 {
+		t.Fatalf("after the cut: %d entries, %v", n, err)
 	}
 }

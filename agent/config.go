@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"sort"
 	"strings"
+	"time"
 
 	"github.com/BurntSushi/toml"
 
@@ -45,6 +46,9 @@ type InstrumentConfig struct {
 	// Format names the entry of [formats] that reads this instrument's
 	// result files.
 	Format string `toml:"format"`
+	// LookEvery is how often the agent looks at its sign-off inbox, the
+	// all-stop file and its config (default 1 s).
+	LookEvery time.Duration `toml:"look_every"`
 }
 
 // Spec returns the parser spec of the instrument's format.
@@ -97,6 +101,9 @@ func (ic InstrumentConfig) validate() campaign.Problems {
 	}
 	if ic.HandoffDir == "" {
 		ps.Add("handoff_dir", "must name the folder the instrument reads setpoints from")
+	}
+	if ic.LookEvery < 0 || (ic.LookEvery > 0 && ic.LookEvery < 10*time.Millisecond) {
+		ps.Add("look_every", "must be at least 10ms, got %v", ic.LookEvery)
 	}
 	if ic.HandoffFormat != HandoffCSV && ic.HandoffFormat != HandoffJSON {
 		ps.Add("handoff_format", "must be %q or %q, got %q", HandoffCSV, HandoffJSON, ic.HandoffFormat)

@@ -84,3 +84,13 @@ func sweepTemp(dir string) ([]string, error) {
 	}
 	return removed, nil
 }
+
+// tempTarget returns the file name a temp file was for:
+// ".benchtender-R0001.csv.123.tmp" -> "R0001.csv".
+func tempTarget(temp string) string {
+	t := strings.TrimSuffix(strings.TrimPrefix(temp, tempPrefix), ".tmp")
+	if i := strings.LastIndexByte(t, '.'); i >= 0 {
+		t = t[:i]
+	}
+	return t
+}

@@ -13,13 +13,13 @@ import (
 func TestFlaggedResultIsAFailedRun(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("OVER"))
 	in := waitFor(t, events, "an ingest", kind(KindIngest))
 	if in.Failed == "" || !strings.Contains(in.Failed, "over range") || in.Run != h.Run {
 		t.Fatalf("ingest %+v, want a failed run with the over-range reason", in)
 	}
-	waitFor(t, events, "the next handoff", kind(KindHandoff))
+	waitFor(t, events, "the next handoff", kind(KindHandoffOK))
 	stop()
 	st := Replay(readJournalT(t, tc))
 	if st.Runs[h.Run].Status != StatusFailed || len(st.Trials()) != 0 || len(st.FailedPoints()) != 1 {
@@ -37,8 +37,8 @@ func TestIncompleteFileWaitsThenTimesOut(t *testing.T) {
 	tc.cfg.Formats["bench_csv"] = spec
 	tc.cfg.Planner.Batch = 2
 	events, stop := tc.start(t)
-	h1 := waitFor(t, events, "a handoff", kind(KindHandoff))
-	h2 := waitFor(t, events, "a second handoff", kind(KindHandoff))
+	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
 	p1 := tc.writeResult(t, "res_"+h1.Run+".csv", resultFile("50,0"))
 	tc.writeResult(t, "res_"+h2.Run+".csv", resultFile("51,0"))
 	time.Sleep(300 * time.Millisecond) // settled, parsed, waiting
@@ -65,8 +65,8 @@ func TestResultMatchedToOldestHandoff(t *testing.T) {
 	tc.cfg.Formats["bench_csv"] = spec
 	tc.cfg.Planner.Batch = 2
 	events, stop := tc.start(t)
-	h1 := waitFor(t, events, "a handoff", kind(KindHandoff))
-	h2 := waitFor(t, events, "a second handoff", kind(KindHandoff))
+	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
 	tc.writeResult(t, "result_a.csv", resultFile("60,0"))
 	in1 := waitFor(t, events, "an ingest", kind(KindIngest))
 	tc.writeResult(t, "result_b.csv", resultFile("61,0"))

@@ -105,10 +105,23 @@ func TestFaultsWriteNoSetpoint(t *testing.T) {
 			if files := handoffFiles(t, tc); len(files) != 0 {
 				t.Fatalf("handoff folder holds %v", files)
 			}
+			intents := 0
 			for len(events) > 0 {
-				if e := <-events; e.Kind == KindHandoff {
-					t.Fatalf("a handoff was recorded: %+v", e)
+				switch e := <-events; e.Kind {
+				case KindHandoffOK:
+					t.Fatalf("a handoff was recorded as written: %+v", e)
+				case KindHandoff:
+					intents++
+				case KindHandoffNo:
+					intents--
 				}
+			}
+			// A handoff begun and failed is journalled as not written.
+			if intents != 0 {
+				t.Errorf("%d handoff intents without their failure recorded", intents)
+			}
+			if n := len(Replay(readJournalT(t, tc)).InFlight()); n != 0 {
+				t.Errorf("%d runs count as handed off", n)
 			}
 		})
 	}
@@ -213,7 +226,7 @@ func TestEditedApprovalIsGatedAgain(t *testing.T) {
 		t.Fatalf("handoff folder holds %v", files)
 	}
 	approve(t, tc, p.Run, "ada", map[string]float64{"temp": 79.5})
-	h := waitFor(t, events, "the handoff", kind(KindHandoff))
+	h := waitFor(t, events, "the handoff", kind(KindHandoffOK))
 	if h.Run != p.Run || h.Point[0] != 79.5 {
 		t.Fatalf("handed off %v for %s", h.Point, h.Run)
 	}
@@ -237,7 +250,7 @@ func TestTwoPersonRule(t *testing.T) {
 	if second.Partial || second.By != "bo" {
 		t.Fatalf("second approval %+v", second)
 	}
-	waitFor(t, events, "the handoff", kind(KindHandoff))
+	waitFor(t, events, "the handoff", kind(KindHandoffOK))
 }
 
 // The all-stop file halts every handoff within one tick; only a person's
@@ -246,7 +259,7 @@ func TestAllStop(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits)
 	tc.cfg.Planner.Batch = 1
 	events, _ := tc.startWith(t, Options{Tick: 50 * time.Millisecond})
-	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	stopFile := allStopPath(tc.cfg)
 	if err := os.WriteFile(stopFile, []byte("smoke in room 3"), 0o644); err != nil {
 		t.Fatal(err)
@@ -273,7 +286,7 @@ func TestAllStop(t *testing.T) {
 		t.Fatal(err)
 	}
 	waitFor(t, events, "the resume", kind(KindResume))
-	waitFor(t, events, "a handoff after the resume", kind(KindHandoff))
+	waitFor(t, events, "a handoff after the resume", kind(KindHandoffOK))
 }
 
 // A held move lapses after hold_expiry, measured by the injected clock.
@@ -300,8 +313,8 @@ func TestRateLimit(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits+"\n[safety]\nmax_handoffs_per_hour = 2\n")
 	tc.cfg.Planner.Batch = 4
 	events, stop := tc.startWith(t, Options{})
-	waitFor(t, events, "a handoff", kind(KindHandoff))
-	waitFor(t, events, "a second handoff", kind(KindHandoff))
+	waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	waitFor(t, events, "a second handoff", kind(KindHandoffOK))
 	time.Sleep(500 * time.Millisecond)
 	stop()
 	if n := len(handoffFiles(t, tc)); n != 2 {
@@ -314,7 +327,7 @@ func TestRateLimit(t *testing.T) {
 func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits)
 	events, _ := tc.startWith(t, Options{ConfigPath: tc.cfgPath})
-	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	good, _ := os.ReadFile(tc.cfgPath)
 	time.Sleep(20 * time.Millisecond) // a new modification time
 	if err := os.WriteFile(tc.cfgPath, []byte(strings.Replace(string(good), "hard_max = 80.0", "hard_max = 10.0", 1)), 0o644); err != nil {
@@ -329,6 +342,6 @@ func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
 	}
 	os.WriteFile(tc.cfgPath, good, 0o644)
 	waitAudit(t, tc, "limits edited")
-	waitFor(t, events, "a handoff once fixed", kind(KindHandoff))
+	waitFor(t, events, "a handoff once fixed", kind(KindHandoffOK))
 	_ = filepath.Join
 }

@@ -29,8 +29,9 @@ func roundPoint(space campaign.Space, p campaign.Point) campaign.Point {
 }
 
 // renderHandoff returns the content of a setpoint file: a CSV header row
-// and one data row, or a JSON object.
-func renderHandoff(space campaign.Space, sp campaign.Setpoint, format string) ([]byte, error) {
+// and one data row, or a JSON object. Both carry the handoff's action id
+// (the last CSV column, "action").
+func renderHandoff(space campaign.Space, sp campaign.Setpoint, format, actionID string) ([]byte, error) {
 	if err := sp.Validate(space); err != nil {
 		return nil, err
 	}
@@ -38,11 +39,12 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format string) ([
 	case HandoffCSV:
 		var b bytes.Buffer
 		w := csv.NewWriter(&b)
-		header := append([]string{"run"}, space.Names()...)
+		header := append(append([]string{"run"}, space.Names()...), "action")
 		row := []string{sp.RunID}
 		for i, v := range sp.Point {
 			row = append(row, space[i].Format(v))
 		}
+		row = append(row, actionID)
 		if err := w.WriteAll([][]string{header, row}); err != nil {
 			return nil, err
 		}
@@ -56,8 +58,9 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format string) ([
 		}
 		doc := struct {
 			Run       string  `json:"run"`
+			Action    string  `json:"action"`
 			Setpoints []value `json:"setpoints"`
-		}{Run: sp.RunID}
+		}{Run: sp.RunID, Action: actionID}
 		for i, f := range space {
 			if math.IsNaN(sp.Point[i]) {
 				return nil, fmt.Errorf("handoff %s: NaN for %s", sp.RunID, f.Name)

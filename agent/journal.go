@@ -23,7 +23,9 @@ const (
 	KindDuplicate  = "duplicate"  // content already ingested under another name
 	KindProposal   = "proposal"   // a setpoint proposed and gated
 	KindSignoff    = "signoff"    // a person approved or rejected a held move
-	KindHandoff    = "handoff"    // a setpoint file written for the instrument
+	KindHandoff    = "handoff"    // a setpoint file about to be written (intent, with its action id)
+	KindHandoffOK  = "handoff-ok" // the setpoint file is in place
+	KindHandoffNo  = "handoff-no" // the setpoint file was not written: the run is ready again
 	KindStop       = "stop"       // the stopping rule says no more runs are worth it
 	KindExpire     = "expire"     // a held move lapsed unsigned
 	KindRegate     = "regate"     // an approved move gated again (limits edited)
@@ -81,10 +83,20 @@ type Entry struct {
 	Copy string `json:"copy,omitempty"`
 	// Corrects is the audit entry a correction refers to.
 	Corrects int64 `json:"corrects,omitempty"`
+	// ActionID names one handoff; the setpoint file carries it, so that
+	// after a crash the journal can tell whether the file was written.
+	ActionID string `json:"action_id,omitempty"`
 }
 
 // castagnoli is the CRC-32C table (RFC 3720, appendix B.4).
 var castagnoli = crc32.MakeTable(crc32.Castagnoli)
+
+// ErrLocked means another agent holds the state folder; ErrNetworkFS that
+// the state folder is on a network file system.
+var (
+	ErrLocked    = errors.New("another benchtender runs on this state folder")
+	ErrNetworkFS = errors.New("state folder on a network file system")
+)
 
 // ErrCorrupt means a journal record other than the last is damaged: the
 // journal cannot be trusted and nothing may start on it.

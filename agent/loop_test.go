@@ -35,7 +35,7 @@ hard_max = 5.0
 		if prop.Decision.Verdict != safety.Pass {
 			t.Fatalf("proposal %s: %v, want pass (no review limits)", prop.Run, prop.Decision.Summary())
 		}
-		h := waitFor(t, events, "a handoff", kind(KindHandoff))
+		h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 		handoffs = append(handoffs, h)
 		if h.Run != prop.Run {
 			t.Fatalf("handoff of %s after proposal of %s", h.Run, prop.Run)
@@ -49,7 +49,7 @@ hard_max = 5.0
 		if err != nil {
 			t.Fatal(err)
 		}
-		if len(rows) != 2 || strings.Join(rows[0], ",") != "run,temp,flow" || rows[1][0] != prop.Run {
+		if len(rows) != 2 || strings.Join(rows[0], ",") != "run,temp,flow,action" || rows[1][0] != prop.Run || !strings.HasPrefix(rows[1][3], prop.Run+"-") {
 			t.Fatalf("handoff %s: %q", h.File, data)
 		}
 		for k := 0; k < 2; k++ {
@@ -95,7 +95,7 @@ hard_max = 5.0
 func TestMalformedResultIsQuarantinedAndNothingIsLost(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	bad := "Instrument: test bench\r\nDate: 01.12.2026\r\nSample;Purity;Unit\r\nx;12,3,4;%\r\n"
 	path := tc.writeResult(t, "res_"+h.Run+"_a.csv", bad)
 	q := waitFor(t, events, "a quarantine", kind(KindQuarantine))
@@ -118,7 +118,7 @@ func TestMalformedResultIsQuarantinedAndNothingIsLost(t *testing.T) {
 	if in.Run != h.Run || in.Value != 55.5 {
 		t.Fatalf("ingest %s %v", in.Run, in.Value)
 	}
-	waitFor(t, events, "the next handoff", kind(KindHandoff))
+	waitFor(t, events, "the next handoff", kind(KindHandoffOK))
 	stop()
 
 	// After a restart neither the quarantined nor the ingested content is
@@ -215,7 +215,7 @@ hard_max = 5.0
 	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "ada", Name: "Ada Tech", Reason: "checked the jacket"}); err != nil {
 		t.Fatal(err)
 	}
-	h := waitFor(t, events, "the handoff", kind(KindHandoff))
+	h := waitFor(t, events, "the handoff", kind(KindHandoffOK))
 	if h.Run != p2.Run {
 		t.Fatalf("handed off %s, want %s", h.Run, p2.Run)
 	}
@@ -232,11 +232,11 @@ hard_max = 5.0
 func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	h := waitFor(t, events, "a handoff", kind(KindHandoff))
+	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	body := resultFile("70,0")
 	tc.writeResult(t, "res_"+h.Run+".csv", body)
 	waitFor(t, events, "an ingest", kind(KindIngest))
-	waitFor(t, events, "the next handoff", kind(KindHandoff))
+	waitFor(t, events, "the next handoff", kind(KindHandoffOK))
 	stop()
 	n := len(readJournalT(t, tc))
 	// Restart; the old file is still there and a copy appears.
@@ -268,8 +268,8 @@ func TestBatchOfTwoInFlight(t *testing.T) {
 	tc := newTestCampaign(t, "4", defaultLimits)
 	tc.cfg.Planner.Batch = 2
 	events, stop := tc.start(t)
-	h1 := waitFor(t, events, "a handoff", kind(KindHandoff))
-	h2 := waitFor(t, events, "a second handoff", kind(KindHandoff))
+	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
 	stop()
 	if h1.Run == h2.Run || (h1.Point[0] == h2.Point[0] && h1.Point[1] == h2.Point[1]) {
 		t.Fatalf("two handoffs %v %v", h1, h2)

@@ -48,6 +48,10 @@ type Run struct {
 	// External marks a run that came from a result file alone, not from
 	// a handoff of ours.
 	External bool
+	// ActionID is the id of the run's handoff; Confirmed says the file
+	// was seen in place.
+	ActionID  string
+	Confirmed bool
 }
 
 // State is the campaign as replayed from its journal.
@@ -161,9 +165,19 @@ func (s *State) apply(e Entry) {
 		}
 	case KindHandoff:
 		s.Handoffs++
-		s.run(e.Run).Status = StatusHanded
+		r := s.run(e.Run)
+		r.Status, r.ActionID, r.Confirmed = StatusHanded, e.ActionID, false
 		s.LastHandoff = e.Point
 		s.HandoffTimes = append(s.HandoffTimes, e.Time)
+	case KindHandoffOK:
+		s.run(e.Run).Confirmed = true
+	case KindHandoffNo:
+		s.Handoffs--
+		r := s.run(e.Run)
+		r.Status, r.ActionID = StatusReady, ""
+		if n := len(s.HandoffTimes); n > 0 {
+			s.HandoffTimes = s.HandoffTimes[:n-1]
+		}
 	case KindIngest:
 		s.Ingests++
 		s.Hashes[e.SHA256] = true

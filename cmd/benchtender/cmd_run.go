@@ -35,7 +35,7 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	for _, w := range cfg.Warnings() {
 		log.Warn().Msg(w)
 	}
-	a, err := agent.New(cfg, agent.Options{Logger: log, ConfigPath: pos[0]})
+	a, err := agent.New(cfg, agent.Options{Logger: log, ConfigPath: pos[0], Tick: cfg.Instrument.LookEvery})
 	if err != nil {
 		return err
 	}

@@ -120,7 +120,7 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	handoff := filepath.Join(dir, "handoff", "R0001.csv")
 	waitUntil(t, 20*time.Second, "the handoff file", func() bool { _, err := os.Stat(handoff); return err == nil })
 	data, _ := os.ReadFile(handoff)
-	if !strings.HasPrefix(string(data), "run,jacket_temp,cooling_rate,seed_load,antisolvent\nR0001,") {
+	if !strings.HasPrefix(string(data), "run,jacket_temp,cooling_rate,seed_load,antisolvent,action\nR0001,") {
 		t.Errorf("handoff content %q", data)
 	}
 	daemon.Process.Signal(syscall.SIGTERM)

@@ -102,6 +102,12 @@ func (in *Instrument) runOne(ctx context.Context, name, taken string, rng *rand.
 	if err := os.Rename(path, filepath.Join(taken, name)); err != nil {
 		return fmt.Errorf("sim: take %s: %w", name, err)
 	}
+	// Every setpoint taken is logged, so that a test can tell whether a
+	// run was ever sent twice.
+	if f, err := os.OpenFile(filepath.Join(in.HandoffDir, "taken.log"), os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644); err == nil {
+		fmt.Fprintf(f, "%s\n", run)
+		f.Close()
+	}
 	select {
 	case <-ctx.Done():
 		return ctx.Err()
@@ -121,7 +127,7 @@ func (in *Instrument) readSetpoint(path string) (string, campaign.Point, error) 
 	if err != nil {
 		return "", nil, err
 	}
-	if len(rows) != 2 || len(rows[0]) != len(in.Factors)+1 || len(rows[1]) != len(rows[0]) {
+	if len(rows) != 2 || len(rows[0]) < len(in.Factors)+1 || len(rows[1]) != len(rows[0]) {
 		return "", nil, errors.New("want a header row and one data row with run and every factor")
 	}
 	pt := make(campaign.Point, len(in.Factors))

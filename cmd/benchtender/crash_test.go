@@ -1,0 +1,146 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"math/rand/v2"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"syscall"
+	"testing"
+	"time"
+
+	"benchtender/agent"
+	"benchtender/examples"
+	"benchtender/examples/sim"
+)
+
+// The crash test: the real binary runs the demo's campaign against its
+// simulated instrument and is killed with SIGKILL at random moments, 100
+// times, restarted each time, then left to finish. Afterwards every result
+// file was ingested exactly once, no run was handed off twice, every
+// setpoint the instrument took has its journal entry, and the audit chain
+// verifies.
+func TestCrashAndRestart(t *testing.T) {
+	if testing.Short() || runtime.GOOS == "windows" {
+		t.Skip("kills the real binary 100 times")
+	}
+	kills := 100
+	bin := binary(t)
+	dir := t.TempDir()
+	for _, d := range []string{"exports", "handoff", "state"} {
+		os.MkdirAll(filepath.Join(dir, d), 0o755)
+	}
+	const runs = 40
+	text := examples.Config(runs, 3)
+	text = strings.Replace(text, "handoff_format = \"csv\"", "handoff_format = \"csv\"\nlook_every = \"100ms\"", 1)
+	text = strings.Replace(text, "review_max = 90.0\n", "", 1)
+	text = strings.Replace(text, "review_max = 4.0\n", "", 1)
+	text = strings.Replace(text, "initial_runs = 8", "initial_runs = 8\n", 1)
+	cfgPath := filepath.Join(dir, "benchtender.toml")
+	os.WriteFile(cfgPath, []byte(text), 0o644)
+	cfg, err := agent.LoadConfig(cfgPath, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	instr := &sim.Instrument{HandoffDir: cfg.Instrument.HandoffDir, ExportDir: cfg.Instrument.Watch.Dir,
+		Factors: cfg.Campaign.Factors, Columns: []string{"Temp", "Feed", "Hold"},
+		Law: examples.ColourStrength, Noise: 0.3, Delay: 50 * time.Millisecond, Seed: 3, Name: "BR-2 (simulated)"}
+	simDone := make(chan error, 1)
+	go func() { simDone <- instr.Run(ctx) }()
+
+	rng := rand.New(rand.NewPCG(7, 7))
+	start := func() *exec.Cmd {
+		c := exec.Command(bin, "run", cfgPath)
+		c.Stdout, c.Stderr = nil, nil
+		if err := c.Start(); err != nil {
+			t.Fatal(err)
+		}
+		return c
+	}
+	for i := 0; i < kills; i++ {
+		c := start()
+		time.Sleep(time.Duration(50+rng.IntN(700)) * time.Millisecond)
+		c.Process.Signal(syscall.SIGKILL)
+		c.Wait()
+	}
+	// Let it finish the campaign.
+	c := start()
+	deadline := time.Now().Add(90 * time.Second)
+	for time.Now().Before(deadline) {
+		es, _ := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+		st := agent.Replay(es)
+		if len(st.Trials())+len(st.FailedPoints()) >= runs && len(st.InFlight()) == 0 {
+			break
+		}
+		time.Sleep(200 * time.Millisecond)
+	}
+	c.Process.Signal(syscall.SIGTERM)
+	c.Wait()
+	cancel()
+	<-simDone
+
+	es, err := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	st := agent.Replay(es)
+	// Every result file ingested exactly once.
+	ingests := map[string]int{}
+	intents := map[string]int{}
+	for _, e := range es {
+		switch e.Kind {
+		case agent.KindIngest:
+			ingests[filepath.Base(e.File)]++
+		case agent.KindQuarantine:
+			t.Errorf("quarantined %s: %s", e.File, e.Reason)
+		case agent.KindHandoff:
+			intents[e.Run]++
+		case agent.KindHandoffNo:
+			intents[e.Run]--
+		}
+	}
+	results, _ := filepath.Glob(filepath.Join(cfg.Instrument.Watch.Dir, "*.csv"))
+	for _, r := range results {
+		if n := ingests[filepath.Base(r)]; n != 1 {
+			t.Errorf("result %s ingested %d times", filepath.Base(r), n)
+		}
+	}
+	// No run handed off twice, as the instrument saw it and as the
+	// journal says; every setpoint taken has its journal entry.
+	taken := map[string]int{}
+	if f, err := os.Open(filepath.Join(cfg.Instrument.HandoffDir, "taken.log")); err == nil {
+		sc := bufio.NewScanner(f)
+		for sc.Scan() {
+			taken[sc.Text()]++
+		}
+		f.Close()
+	}
+	for run, n := range taken {
+		if n != 1 {
+			t.Errorf("the instrument took %s %d times", run, n)
+		}
+		if intents[run] != 1 {
+			t.Errorf("%s was taken but the journal holds %d live handoffs of it", run, intents[run])
+		}
+	}
+	for run, n := range intents {
+		if n > 1 {
+			t.Errorf("%s handed off %d times", run, n)
+		}
+	}
+	n, err := agent.VerifyAudit(filepath.Join(cfg.Campaign.StateDir, "audit.log"))
+	if err != nil {
+		t.Errorf("audit trail: %v", err)
+	}
+	t.Logf("%d kills; %d setpoints taken by the instrument, %d result files, %d ingested, %d runs done, %d journal entries, %d audit entries",
+		kills, len(taken), len(results), len(ingests), len(st.Trials()), len(es), n)
+	if len(st.Trials()) < runs/2 {
+		t.Errorf("only %d runs done across the kills", len(st.Trials()))
+	}
+}
