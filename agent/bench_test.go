@@ -1,0 +1,127 @@
+package agent
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/rs/zerolog"
+
+	"benchtender/campaign"
+	"benchtender/safety"
+)
+
+// benchCampaign writes a campaign with d factors whose journal already
+// holds n completed runs, and one run in flight.
+func benchCampaign(b *testing.B, n, d int) (*testCampaign, string) {
+	b.Helper()
+	dir := b.TempDir()
+	for _, s := range []string{"exports", "handoff", "state"} {
+		os.MkdirAll(filepath.Join(dir, s), 0o755)
+	}
+	var sb strings.Builder
+	fmt.Fprintf(&sb, "[campaign]\nname = \"bench\"\nstate_dir = \"state\"\nseed = 1\nmax_runs = %d\ninitial_runs = 5\n", n+1000)
+	for k := 0; k < d; k++ {
+		fmt.Fprintf(&sb, "[[campaign.factor]]\nname = \"x%d\"\nmin = 0.0\nmax = 1.0\n", k)
+	}
+	sb.WriteString("[campaign.response]\nname = \"y\"\ngoal = \"minimise\"\n")
+	sb.WriteString("[instrument]\nname = \"bench\"\nhandoff_dir = \"handoff\"\nformat = \"f\"\nlook_every = \"20ms\"\n")
+	sb.WriteString("[instrument.watch]\ndir = \"exports\"\npattern = \"*.csv\"\nsettle = \"0s\"\nrescan = \"1s\"\n")
+	sb.WriteString("[formats.f]\nrun_id_pattern = \"(R[0-9]+)\"\n[formats.f.values.y]\ncolumn = \"y\"\n")
+	for k := 0; k < d; k++ {
+		fmt.Fprintf(&sb, "[safety.limits.x%d]\nhard_min = 0.0\nhard_max = 1.0\n", k)
+	}
+	sb.WriteString("[log]\nfile = \"\"\n")
+	cfgPath := filepath.Join(dir, "c.toml")
+	os.WriteFile(cfgPath, []byte(sb.String()), 0o644)
+	cfg, err := LoadConfig(cfgPath, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	// The history: n runs of a smooth function, then one in flight.
+	j, _, _, err := OpenJournal(journalPath(cfg.Campaign.StateDir))
+	if err != nil {
+		b.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))
+	pass := safety.Decision{Verdict: safety.Pass}
+	add := func(e Entry) {
+		if _, err := j.Append(e); err != nil {
+			b.Fatal(err)
+		}
+	}
+	for i := 0; i <= n; i++ {
+		run := fmt.Sprintf("R%05d", i+1)
+		pt := make(campaign.Point, d)
+		var y float64
+		for k := range pt {
+			pt[k] = rng.Float64()
+			y += math.Sin(3*pt[k]+float64(k)) * float64(k+1)
+		}
+		add(Entry{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
+		add(Entry{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
+		add(Entry{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"})
+		if i < n {
+			add(Entry{Kind: KindIngest, Run: run, File: run + ".csv", SHA256: fmt.Sprint(i), Value: y})
+		}
+	}
+	j.Close()
+	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}, fmt.Sprintf("R%05d", n+1)
+}
+
+// BenchmarkArrivalToHandoff: the time from a result file's arrival in the
+// export folder to the next setpoint file written, with n runs in the
+// journal and d factors (settle 0, so it measures the agent's own work:
+// read, parse, journal, fit, propose, gate, write). Peak memory is
+// reported as peak-MB (runtime's total heap obtained from the system).
+//
+//	go test ./agent -run XXX -bench ArrivalToHandoff -benchtime 3x
+func BenchmarkArrivalToHandoff(b *testing.B) {
+	for _, n := range []int{50, 200, 1000} {
+		for _, d := range []int{2, 6} {
+			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
+				tc, inflight := benchCampaign(b, n, d)
+				events := make(chan Entry, 64)
+				a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 20 * time.Millisecond, Notify: func(e Entry) {
+					select {
+					case events <- e:
+					default:
+					}
+				}})
+				if err != nil {
+					b.Fatal(err)
+				}
+				ctx, cancel := context.WithCancel(context.Background())
+				done := make(chan error, 1)
+				go func() { done <- a.Run(ctx) }()
+				defer func() { cancel(); <-done }()
+				next := inflight
+				b.ResetTimer()
+				for i := 0; i < b.N; i++ {
+					path := filepath.Join(tc.cfg.Instrument.Watch.Dir, next+".csv")
+					if err := os.WriteFile(path, []byte(fmt.Sprintf("run,y\n%s,%d.5\n", next, i)), 0o644); err != nil {
+						b.Fatal(err)
+					}
+					for {
+						e := <-events
+						if e.Kind == KindHandoffOK {
+							next = e.Run
+							break
+						}
+					}
+				}
+				b.StopTimer()
+				var ms runtime.MemStats
+				runtime.ReadMemStats(&ms)
+				b.ReportMetric(float64(ms.Sys)/1e6, "peak-MB")
+			})
+		}
+	}
+}
