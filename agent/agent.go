@@ -71,6 +71,8 @@ type Agent struct {
 	cfgBroken string               // why the edited config is refused (no handoffs meanwhile)
 	rateSaid  bool
 	unlock    func()
+	storage   string   // why the journal cannot be written now ("" when it can)
+	retry     []string // result files to ingest once it can
 
 	refusals   int       // consecutive gate refusals
 	planAfter  time.Time // earliest next planning attempt after an error
@@ -135,8 +137,10 @@ func (a *Agent) Run(ctx context.Context) error {
 	if err != nil {
 		return err
 	}
-	defer a.journal.Close()
-	defer a.audit.close()
+	defer a.closeStores()
+	if err := makeReserve(a.cfg.Campaign.StateDir); err != nil {
+		a.log.Warn().Err(err).Msg("cannot set aside room for the journal")
+	}
 
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
@@ -154,7 +158,9 @@ func (a *Agent) Run(ctx context.Context) error {
 	a.log.Info().Int("runs", len(a.state.Order)).Int("handoffs", a.state.Handoffs).
 		Str("export_dir", a.cfg.Instrument.Watch.Dir).Str("handoff_dir", a.cfg.Instrument.HandoffDir).Msg("campaign started")
 	for {
-		if err := a.step(ctx); err != nil {
+		if a.storage != "" {
+			a.tryRecover()
+		} else if err := a.noteStorage(a.step(ctx), ""); err != nil {
 			return err
 		}
 		select {
@@ -162,11 +168,18 @@ func (a *Agent) Run(ctx context.Context) error {
 			a.log.Info().Msg("stopping")
 			return nil
 		case f := <-files:
-			if err := a.ingest(f.Path); err != nil {
+			if a.storage != "" {
+				a.retry = append(a.retry, f.Path)
+				continue
+			}
+			if err := a.noteStorage(a.ingest(f.Path), f.Path); err != nil {
 				return err
 			}
 		case <-tick.C:
-			if err := a.recheckIncomplete(); err != nil {
+			if a.storage != "" {
+				continue
+			}
+			if err := a.noteStorage(a.recheckIncomplete(), ""); err != nil {
 				return err
 			}
 		}
@@ -290,13 +303,16 @@ func (a *Agent) recoverHandoffs(swept map[string]bool) error {
 // state and tells Notify.
 func (a *Agent) record(e Entry) error {
 	e.Time = a.opt.Now().UTC()
+	if a.storage != "" || a.journal == nil || a.journal.f == nil {
+		return storageError{fmt.Errorf("journal not writable: %s", a.storage)}
+	}
 	e, err := a.journal.Append(e)
 	if err != nil {
-		a.log.Error().Err(err).Msg("journal write failed; stopping so that nothing happens unrecorded")
-		return fmt.Errorf("agent: %w", err)
+		a.log.Error().Err(err).Msg("journal write failed; nothing more happens until it can be recorded")
+		return storageError{fmt.Errorf("agent: %w", err)}
 	}
 	if err := a.auditEntry(e); err != nil {
-		return err
+		return storageError{err}
 	}
 	a.state.apply(e)
 	if e.Kind == KindProposal && e.Decision != nil && e.Decision.Verdict == safety.Hold {
@@ -336,6 +352,8 @@ func (a *Agent) halted() string {
 		return "all-stop: " + a.state.AllStop
 	case a.cfgBroken != "":
 		return "the edited config does not validate: " + a.cfgBroken
+	case a.storage != "":
+		return "the journal cannot be written: " + a.storage
 	}
 	return ""
 }

@@ -197,7 +197,13 @@ func TestStaleAndReplayedApprovalsAreRefused(t *testing.T) {
 		req := SignoffRequest{ID: "r4", Run: p.Run, Action: ActionReject, By: "ada", Name: "Ada", Reason: "no", Time: time.Now(), Limits: tc.cfg.Safety.Version()}
 		writeRequest(t, tc, req)
 		waitFor(t, events, "the rejection", kind(KindSignoff))
-		writeRequest(t, tc, req) // the same file again
+		// Once the agent has taken the first copy away, the same request
+		// comes again.
+		first := filepath.Join(inboxDir(tc.cfg.Campaign.StateDir), req.ID+".json")
+		for _, err := os.Stat(first); err == nil; _, err = os.Stat(first) {
+			time.Sleep(10 * time.Millisecond)
+		}
+		writeRequest(t, tc, req)
 		waitAudit(t, tc, "used already (a replay)")
 	})
 	if testing.Short() {

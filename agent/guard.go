@@ -160,17 +160,23 @@ func (a *Agent) auditEntry(e Entry) error {
 	}
 	detail, _ := json.Marshal(e)
 	ae.Detail = detail
+	if a.audit == nil {
+		return storageError{fmt.Errorf("agent: audit trail not open")}
+	}
 	if _, err := a.audit.append(ae, a.opt.Now()); err != nil {
-		a.log.Error().Err(err).Msg("audit trail write failed; stopping so that nothing happens unrecorded")
-		return fmt.Errorf("agent: %w", err)
+		a.log.Error().Err(err).Msg("audit trail write failed; nothing more happens until it can be recorded")
+		return storageError{fmt.Errorf("agent: %w", err)}
 	}
 	return nil
 }
 
 // auditNote writes an audit entry that has no journal entry.
 func (a *Agent) auditNote(action, subject, reason string) error {
+	if a.audit == nil {
+		return storageError{fmt.Errorf("agent: audit trail not open")}
+	}
 	if _, err := a.audit.append(AuditEntry{Actor: actorAgent, Action: action, Subject: subject, Reason: reason}, a.opt.Now()); err != nil {
-		return fmt.Errorf("agent: %w", err)
+		return storageError{fmt.Errorf("agent: %w", err)}
 	}
 	return nil
 }

@@ -43,6 +43,14 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 				break
 			}
 		}
+		for i := len(trail) - 1; i >= 0; i-- {
+			if e := trail[i]; e.Action == "storage trouble" {
+				fmt.Fprintf(stdout, "HANDOFFS HALTED since %s: the state folder's disk: %s\n", e.Time, e.Reason)
+				break
+			} else if e.Action == "storage recovered" {
+				break
+			}
+		}
 	}
 	if st.Stopped != "" {
 		fmt.Fprintf(stdout, "proposals stopped: %s\n", st.Stopped)
