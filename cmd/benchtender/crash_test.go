@@ -31,26 +31,10 @@ func TestCrashAndRestart(t *testing.T) {
 	kills := 100
 	bin := binary(t)
 	dir := t.TempDir()
-	for _, d := range []string{"exports", "handoff", "state"} {
-		os.MkdirAll(filepath.Join(dir, d), 0o755)
-	}
 	const runs = 40
-	text := examples.Config(runs, 3)
-	text = strings.Replace(text, "handoff_format = \"csv\"", "handoff_format = \"csv\"\nlook_every = \"100ms\"", 1)
-	text = strings.Replace(text, "review_max = 90.0\n", "", 1)
-	text = strings.Replace(text, "review_max = 4.0\n", "", 1)
-	text = strings.Replace(text, "initial_runs = 8", "initial_runs = 8\n", 1)
-	cfgPath := filepath.Join(dir, "benchtender.toml")
-	os.WriteFile(cfgPath, []byte(text), 0o644)
-	cfg, err := agent.LoadConfig(cfgPath, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	cfgPath, cfg, instr := unattendedCampaign(t, dir, runs, 3)
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
-	instr := &sim.Instrument{HandoffDir: cfg.Instrument.HandoffDir, ExportDir: cfg.Instrument.Watch.Dir,
-		Factors: cfg.Campaign.Factors, Columns: []string{"Temp", "Feed", "Hold"},
-		Law: examples.ColourStrength, Noise: 0.3, Delay: 50 * time.Millisecond, Seed: 3, Name: "BR-2 (simulated)"}
 	simDone := make(chan error, 1)
 	go func() { simDone <- instr.Run(ctx) }()
 
@@ -143,4 +127,30 @@ func TestCrashAndRestart(t *testing.T) {
 	if len(st.Trials()) < runs/2 {
 		t.Errorf("only %d runs done across the kills", len(st.Trials()))
 	}
+}
+
+// unattendedCampaign writes the demo's campaign into dir with nothing held
+// for sign-off and a fast look interval, and returns its config and the
+// simulated instrument (not started) that answers it.
+func unattendedCampaign(t *testing.T, dir string, runs int, seed uint64) (string, agent.Config, *sim.Instrument) {
+	t.Helper()
+	for _, d := range []string{"exports", "handoff", "state"} {
+		os.MkdirAll(filepath.Join(dir, d), 0o755)
+	}
+	text := examples.Config(runs, seed)
+	text = strings.Replace(text, "handoff_format = \"csv\"", "handoff_format = \"csv\"\nlook_every = \"100ms\"", 1)
+	text = strings.Replace(text, "review_max = 90.0\n", "", 1)
+	text = strings.Replace(text, "review_max = 4.0\n", "", 1)
+	cfgPath := filepath.Join(dir, "benchtender.toml")
+	if err := os.WriteFile(cfgPath, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cfg, err := agent.LoadConfig(cfgPath, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	instr := &sim.Instrument{HandoffDir: cfg.Instrument.HandoffDir, ExportDir: cfg.Instrument.Watch.Dir,
+		Factors: cfg.Campaign.Factors, Columns: []string{"Temp", "Feed", "Hold"},
+		Law: examples.ColourStrength, Noise: 0.3, Delay: 50 * time.Millisecond, Seed: seed, Name: "BR-2 (simulated)"}
+	return cfgPath, cfg, instr
 }

@@ -9,11 +9,8 @@ import (
 	"runtime"
 	"strings"
 	"testing"
-	"time"
 
 	"benchtender/agent"
-	"benchtender/examples"
-	"benchtender/examples/sim"
 )
 
 // Disk full: the state folder is a 2 MB tmpfs mounted inside a user and
@@ -31,24 +28,10 @@ func TestDiskFullHaltsAndResumes(t *testing.T) {
 	}
 	bin := binary(t)
 	dir := t.TempDir()
-	for _, d := range []string{"exports", "handoff", "state", "out"} {
-		os.MkdirAll(filepath.Join(dir, d), 0o755)
-	}
-	text := examples.Config(30, 4)
-	text = strings.Replace(text, "handoff_format = \"csv\"", "handoff_format = \"csv\"\nlook_every = \"100ms\"", 1)
-	text = strings.Replace(text, "review_max = 90.0\n", "", 1)
-	text = strings.Replace(text, "review_max = 4.0\n", "", 1)
-	cfgPath := filepath.Join(dir, "benchtender.toml")
-	os.WriteFile(cfgPath, []byte(text), 0o644)
-	cfg, err := agent.LoadConfig(cfgPath, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	os.MkdirAll(filepath.Join(dir, "out"), 0o755)
+	cfgPath, cfg, instr := unattendedCampaign(t, dir, 30, 4)
 	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
-	instr := &sim.Instrument{HandoffDir: cfg.Instrument.HandoffDir, ExportDir: cfg.Instrument.Watch.Dir,
-		Factors: cfg.Campaign.Factors, Columns: []string{"Temp", "Feed", "Hold"},
-		Law: examples.ColourStrength, Noise: 0.3, Delay: 50 * time.Millisecond, Seed: 4, Name: "BR-2 (simulated)"}
 	go instr.Run(ctx)
 
 	out := filepath.Join(dir, "out")
