@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -370,9 +371,16 @@ func (a *Agent) ingest(path string) error {
 	sum := sha256.Sum256(data)
 	sha := hex.EncodeToString(sum[:])
 	if a.state.Hashes[sha] {
-		log.Debug().Str("sha256", sha).Msg("content already in the journal")
 		delete(a.incomplete, path)
-		return nil
+		seen := a.state.Seen[sha]
+		if slices.Contains(seen, path) {
+			log.Debug().Str("sha256", sha).Msg("content already in the journal")
+			return nil
+		}
+		// The same content under another name: recorded, never fed
+		// twice.
+		log.Info().Str("same_as", seen[0]).Msg("duplicate result file: same content as one already recorded")
+		return a.record(Entry{Kind: KindDuplicate, File: path, SHA256: sha, Reason: "same content as " + seen[0]})
 	}
 	rec, err := a.parser.Parse(path, data)
 	if errors.Is(err, parsers.ErrIncomplete) {

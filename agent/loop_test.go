@@ -260,6 +260,19 @@ func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 	if ingests != 2 {
 		t.Errorf("%d ingests, want 2 (the copy and the old file must not count): %d entries before restart, %d after", ingests, n, len(es))
 	}
+	// The copy is recorded as a duplicate of the first file, once.
+	dups := 0
+	for _, e := range es {
+		if e.Kind == KindDuplicate {
+			dups++
+			if !strings.Contains(e.File, "copy_of_res_") || !strings.Contains(e.Reason, "same content as") {
+				t.Errorf("duplicate entry %+v", e)
+			}
+		}
+	}
+	if dups != 1 {
+		t.Errorf("%d duplicate entries, want 1", dups)
+	}
 }
 
 // With planner.batch = 2 two setpoints are handed off before any result

@@ -56,11 +56,13 @@ type Run struct {
 
 // State is the campaign as replayed from its journal.
 type State struct {
-	Runs      map[string]*Run
-	Order     []string        // run ids in the order first seen
-	Hashes    map[string]bool // content hashes already ingested or quarantined
-	Proposals int             // proposals made (the planner's index)
-	Handoffs  int             // setpoint files written
+	Runs   map[string]*Run
+	Order  []string        // run ids in the order first seen
+	Hashes map[string]bool // content hashes already ingested or quarantined
+	// Seen maps a content hash to the files it has been recorded under.
+	Seen      map[string][]string
+	Proposals int // proposals made (the planner's index)
+	Handoffs  int // setpoint files written
 	// Stopped, when not empty, says why the planner stopped proposing.
 	Stopped string
 	// AllStop, when not empty, says who or what halted every handoff.
@@ -77,7 +79,7 @@ type State struct {
 }
 
 func newState() *State {
-	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}}
+	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}, Seen: map[string][]string{}}
 }
 
 // Replay builds the state from journal entries.
@@ -181,6 +183,7 @@ func (s *State) apply(e Entry) {
 	case KindIngest:
 		s.Ingests++
 		s.Hashes[e.SHA256] = true
+		s.Seen[e.SHA256] = append(s.Seen[e.SHA256], e.File)
 		r := s.run(e.Run)
 		if r.Point == nil && len(e.Point) > 0 {
 			r.Point, r.External = e.Point, true
@@ -193,6 +196,7 @@ func (s *State) apply(e Entry) {
 		}
 	case KindQuarantine, KindDuplicate:
 		s.Hashes[e.SHA256] = true
+		s.Seen[e.SHA256] = append(s.Seen[e.SHA256], e.File)
 	case KindStop:
 		s.Stopped = e.Reason
 	}
