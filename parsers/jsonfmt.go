@@ -24,14 +24,8 @@ func newJSON(s Spec) (Parser, error) {
 	if err != nil {
 		return nil, err
 	}
-	p := &jsonFormat{common: c, paths: map[string][]string{}}
-	for key, vs := range allValues(s) {
-		p.paths[key] = strings.Split(vs.Path, ".")
-	}
-	if s.RunIDSource == RunIDFromPath {
-		p.paths["r:"] = strings.Split(s.RunIDPath, ".")
-	}
-	return p, nil
+	split := func(path string) []string { return strings.Split(path, ".") }
+	return &jsonFormat{common: c, paths: pathsOf(s, split)}, nil
 }
 
 func (p *jsonFormat) Parse(name string, data []byte) (Record, error) {
@@ -148,6 +142,19 @@ func skipSeparators(text string, off int) int {
 		off++
 	}
 	return off
+}
+
+// pathsOf splits the path of every value and factor (keyed as in
+// allValues) and of the run id (keyed "r:") into steps.
+func pathsOf(s Spec, split func(string) []string) map[string][]string {
+	paths := map[string][]string{}
+	for key, vs := range allValues(s) {
+		paths[key] = split(vs.Path)
+	}
+	if s.RunIDSource == RunIDFromPath {
+		paths["r:"] = split(s.RunIDPath)
+	}
+	return paths
 }
 
 // matchPath reports whether a concrete path matches the steps, "*"

@@ -23,14 +23,8 @@ func newXML(s Spec) (Parser, error) {
 	if err != nil {
 		return nil, err
 	}
-	p := &xmlFormat{common: c, paths: map[string][]string{}}
-	for key, vs := range allValues(s) {
-		p.paths[key] = strings.Split(strings.Trim(vs.Path, "/"), "/")
-	}
-	if s.RunIDSource == RunIDFromPath {
-		p.paths["r:"] = strings.Split(strings.Trim(s.RunIDPath, "/"), "/")
-	}
-	return p, nil
+	split := func(path string) []string { return strings.Split(strings.Trim(path, "/"), "/") }
+	return &xmlFormat{common: c, paths: pathsOf(s, split)}, nil
 }
 
 func (p *xmlFormat) Parse(name string, data []byte) (Record, error) {
