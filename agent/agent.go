@@ -41,9 +41,10 @@ type Options struct {
 	// Proposer is the planner (the campaign's planner when nil); tests
 	// inject faults here.
 	Proposer Proposer
-	// Writer writes a file atomically into a folder (writeFileAtomic when
-	// nil); tests inject faults here.
-	Writer func(dir, name string, data []byte) error
+	// Writer stages a setpoint file in the handoff folder: written and
+	// synced under a temp name, put in place by Commit (a temp file
+	// beside the target when nil); tests inject faults here.
+	Writer func(dir, name string, data []byte) (Staged, error)
 }
 
 // Proposer is what the agent needs of a planner.
@@ -65,7 +66,7 @@ type Agent struct {
 	warm     *gp.Params
 	gate     *safety.Gate
 	proposer Proposer
-	write    func(dir, name string, data []byte) error
+	write    func(dir, name string, data []byte) (Staged, error)
 
 	holdSeen  map[string]time.Time // when each hold began, by this process's clock
 	cfgMod    time.Time            // modification time of the config file last read
@@ -117,7 +118,9 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		a.proposer = a.planner
 	}
 	if a.write == nil {
-		a.write = func(dir, name string, data []byte) error { return writeFileAtomic(dir, name, data, 0o644) }
+		a.write = func(dir, name string, data []byte) (Staged, error) {
+			return atomicWriter{}.stage(dir, name, data, 0o644)
+		}
 	}
 	if opt.ConfigPath != "" {
 		if fi, err := os.Stat(opt.ConfigPath); err == nil {
@@ -250,29 +253,33 @@ func (a *Agent) open() error {
 		}
 		a.holdSeen[r.ID] = seen
 	}
-	swept := map[string]bool{}
+	// What the handoff folder's temp files held, by target name, is read
+	// before they are swept: a temp file carrying an unconfirmed
+	// handoff's action id proves its rename never happened.
+	swept := map[string][]string{}
 	for _, dir := range []string{a.cfg.Instrument.HandoffDir, sd, inboxDir(sd), filepath.Join(sd, "quarantine")} {
 		removed, err := sweepTemp(dir)
 		if err != nil && !errors.Is(err, os.ErrNotExist) {
 			a.log.Warn().Err(err).Str("dir", dir).Msg("cannot sweep temp files")
 		}
-		for _, n := range removed {
-			a.log.Info().Str("file", filepath.Join(dir, n)).Msg("removed a temp file left by an earlier run")
+		for _, t := range removed {
+			a.log.Info().Str("file", filepath.Join(dir, t.name)).Msg("removed a temp file left by an earlier run")
 			if dir == a.cfg.Instrument.HandoffDir {
-				swept[tempTarget(n)] = true
+				target := tempTarget(t.name)
+				swept[target] = append(swept[target], t.head)
 			}
 		}
 	}
 	return a.recoverHandoffs(swept)
 }
 
-// recoverHandoffs settles handoffs a crash left unconfirmed. The file in
-// place with its action id: it was sent. A temp file of it swept just now:
-// the rename never happened, so the run is ready to send again. Neither:
-// the instrument took it (or, in a window of microseconds, it was never
-// written); it is treated as sent and awaits its result, because sending
-// it again could run it twice.
-func (a *Agent) recoverHandoffs(swept map[string]bool) error {
+// recoverHandoffs settles handoffs a crash left unconfirmed. A handoff's
+// temp file is written and synced before its intent is journalled, so:
+// the file in place with its action id means it was sent; its temp file
+// (swept just now) means the rename never happened and the run is ready to
+// send again; neither means the rename happened and the instrument took
+// the file, so the run awaits its result and is never sent twice.
+func (a *Agent) recoverHandoffs(swept map[string][]string) error {
 	for _, r := range a.state.InFlight() {
 		if r.Confirmed || r.ActionID == "" {
 			continue
@@ -280,19 +287,20 @@ func (a *Agent) recoverHandoffs(swept map[string]bool) error {
 		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
 		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
 		data, err := os.ReadFile(path)
+		staged := slices.ContainsFunc(swept[name], func(head string) bool { return strings.Contains(head, r.ActionID) })
 		switch {
 		case err == nil && strings.Contains(string(data), r.ActionID):
 			if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "found in place after a restart"}); err != nil {
 				return err
 			}
-		case swept[name]:
+		case staged:
 			a.log.Warn().Str("run", r.ID).Msg("handoff was cut short by a crash before the file was in place; sending it again")
 			if err := a.record(Entry{Kind: KindHandoffNo, Run: r.ID, ActionID: r.ActionID, Reason: "cut short by a crash before the rename; the instrument never saw it"}); err != nil {
 				return err
 			}
 		default:
-			a.log.Warn().Str("run", r.ID).Str("action", r.ActionID).Msg("handoff unconfirmed after a restart: the file is gone, presumably taken by the instrument; not sent again, waiting for its result")
-			if err := a.auditNote("handoff unconfirmed", r.ID, "the file was gone at restart; not sent again"); err != nil {
+			a.log.Warn().Str("run", r.ID).Str("action", r.ActionID).Msg("handoff unconfirmed after a restart: the file is gone, taken by the instrument; not sent again, waiting for its result")
+			if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "gone at restart: taken by the instrument before the confirmation was journalled"}); err != nil {
 				return err
 			}
 		}
@@ -518,23 +526,33 @@ func (a *Agent) handoffReady() error {
 		}
 		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
 		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
-		// The intent is journalled first, with the action id the file
-		// will carry: a crash after it can never send the run twice, and
-		// no file ever reaches the instrument unrecorded.
+		// Three steps, each durable before the next: the file is staged
+		// under a temp name with the action id it carries, the intent is
+		// journalled, the file is renamed into place. A crash between any
+		// two is settled at restart without ever sending a run twice,
+		// and no file reaches the instrument unrecorded.
 		action := fmt.Sprintf("%s-%d", r.ID, a.journal.seq+1)
 		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, a.cfg.Instrument.HandoffFormat, action)
 		if err != nil {
 			a.log.Error().Err(err).Str("run", r.ID).Msg("cannot render the setpoint file; no setpoint written")
 			continue
 		}
+		st, err := a.write(a.cfg.Instrument.HandoffDir, name, data)
+		if err != nil {
+			a.writeFailed(r.ID, err)
+			return nil
+		}
 		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point, ActionID: action}); err != nil {
+			st.Abort()
 			return err
 		}
-		if err := a.write(a.cfg.Instrument.HandoffDir, name, data); err != nil {
-			a.writeErrs++
-			a.writeAfter = a.opt.Now().Add(backoff(a.writeErrs))
-			a.log.Error().Err(err).Str("run", r.ID).Dur("retry_in", backoff(a.writeErrs)).Msg("handoff failed; no setpoint written")
+		if err := st.Commit(); err != nil && !errors.Is(err, ErrInPlace) {
+			a.writeFailed(r.ID, err)
 			return a.record(Entry{Kind: KindHandoffNo, Run: r.ID, ActionID: action, Reason: err.Error()})
+		} else if err != nil {
+			// Visible to the instrument: it counts as sent, so that it
+			// can never be sent twice.
+			a.log.Error().Err(err).Str("run", r.ID).Msg("setpoint file in place but its folder could not be synced; counted as handed off")
 		}
 		a.writeErrs = 0
 		if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: action, File: path, Point: r.Point}); err != nil {
@@ -543,6 +561,13 @@ func (a *Agent) handoffReady() error {
 		a.log.Info().Str("run", r.ID).Str("file", path).Interface("setpoint", named(a.cfg.Campaign.Factors, r.Point)).Msg("setpoint handed off")
 	}
 	return nil
+}
+
+// writeFailed backs off after a setpoint file could not be written.
+func (a *Agent) writeFailed(run string, err error) {
+	a.writeErrs++
+	a.writeAfter = a.opt.Now().Add(backoff(a.writeErrs))
+	a.log.Error().Err(err).Str("run", run).Dur("retry_in", backoff(a.writeErrs)).Msg("handoff failed; no setpoint written")
 }
 
 // spent counts the runs that use up the budget: every proposal that was

@@ -3,6 +3,7 @@ package agent
 import (
 	"errors"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -20,6 +21,22 @@ func writeFileAtomic(dir, name string, data []byte, perm os.FileMode) error {
 	return atomicWriter{}.write(dir, name, data, perm)
 }
 
+// Staged is a file written and synced under a temp name beside its
+// target: complete on disk, not yet visible under its own name.
+type Staged interface {
+	// Commit renames the file into place and syncs the folder. After an
+	// error wrapping ErrInPlace the file is visible although the
+	// folder's sync failed; after any other error it is not, and the
+	// temp file is gone.
+	Commit() error
+	// Abort removes the temp file.
+	Abort()
+}
+
+// ErrInPlace marks a Commit error after the rename: the file is visible
+// under its name, but the rename may not survive a power cut.
+var ErrInPlace = errors.New("file in place, folder not synced")
+
 // atomicWriter is writeFileAtomic with its fsync replaceable, so that
 // tests can make the disk fail where real disks fail.
 type atomicWriter struct {
@@ -27,19 +44,30 @@ type atomicWriter struct {
 }
 
 func (w atomicWriter) write(dir, name string, data []byte, perm os.FileMode) error {
+	st, err := w.stage(dir, name, data, perm)
+	if err != nil {
+		return err
+	}
+	return st.Commit()
+}
+
+// stage writes data to a temp file in dir and fsyncs it. A handoff is
+// staged before its intent is journalled, so that after a crash a missing
+// temp file and a missing target together mean the instrument took it.
+func (w atomicWriter) stage(dir, name string, data []byte, perm os.FileMode) (Staged, error) {
 	sync := w.sync
 	if sync == nil {
 		sync = (*os.File).Sync
 	}
 	f, err := os.CreateTemp(dir, tempPrefix+name+".*.tmp")
 	if err != nil {
-		return fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
+		return nil, fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
 	}
 	tmp := f.Name()
-	fail := func(err error) error {
+	fail := func(err error) (Staged, error) {
 		f.Close()
 		os.Remove(tmp)
-		return fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
+		return nil, fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
 	}
 	if _, err := f.Write(data); err != nil {
 		return fail(err)
@@ -54,35 +82,62 @@ func (w atomicWriter) write(dir, name string, data []byte, perm os.FileMode) err
 	}
 	if err := f.Close(); err != nil {
 		os.Remove(tmp)
-		return fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
+		return nil, fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
 	}
-	if err := os.Rename(tmp, filepath.Join(dir, name)); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
+	return stagedFile{dir: dir, name: name, tmp: tmp}, nil
+}
+
+type stagedFile struct{ dir, name, tmp string }
+
+func (s stagedFile) Commit() error {
+	target := filepath.Join(s.dir, s.name)
+	if err := os.Rename(s.tmp, target); err != nil {
+		os.Remove(s.tmp)
+		return fmt.Errorf("write %s: %w", target, err)
 	}
-	if err := syncDir(dir); err != nil {
-		return fmt.Errorf("write %s: sync folder: %w", filepath.Join(dir, name), err)
+	if err := syncDir(s.dir); err != nil {
+		return fmt.Errorf("write %s: sync folder: %w: %w", target, ErrInPlace, err)
 	}
 	return nil
 }
 
+func (s stagedFile) Abort() { os.Remove(s.tmp) }
+
+// sweptFile is a temp file removed by sweepTemp, with its first bytes.
+type sweptFile struct{ name, head string }
+
 // sweepTemp removes temp files left in dir by an earlier run that died
-// while writing, and returns their names.
-func sweepTemp(dir string) ([]string, error) {
+// while writing, and returns their names and first 4 KiB.
+func sweepTemp(dir string) ([]sweptFile, error) {
 	entries, err := os.ReadDir(dir)
 	if err != nil {
 		return nil, err
 	}
-	var removed []string
+	var removed []sweptFile
 	for _, e := range entries {
 		if e.Type().IsRegular() && strings.HasPrefix(e.Name(), tempPrefix) && strings.HasSuffix(e.Name(), ".tmp") {
-			if err := os.Remove(filepath.Join(dir, e.Name())); err != nil {
+			path := filepath.Join(dir, e.Name())
+			head := readHead(path, 4096)
+			if err := os.Remove(path); err != nil {
 				return removed, err
 			}
-			removed = append(removed, e.Name())
+			removed = append(removed, sweptFile{name: e.Name(), head: head})
 		}
 	}
 	return removed, nil
+}
+
+// readHead returns up to n bytes from the start of a file ("" when it
+// cannot be read).
+func readHead(path string, n int) string {
+	f, err := os.Open(path)
+	if err != nil {
+		return ""
+	}
+	defer f.Close()
+	b := make([]byte, n)
+	k, _ := io.ReadFull(f, b)
+	return string(b[:k])
 }
 
 // tempTarget returns the file name a temp file was for:

@@ -29,12 +29,12 @@ func TestWriteFileAtomicLeavesNoTemp(t *testing.T) {
 func TestSweepTempRemovesOnlyOurTempFiles(t *testing.T) {
 	dir := t.TempDir()
 	for _, n := range []string{".benchtender-R0001.csv.123.tmp", "R0002.csv", ".other.tmp", ".benchtender-notes.txt"} {
-		if err := os.WriteFile(filepath.Join(dir, n), nil, 0o644); err != nil {
+		if err := os.WriteFile(filepath.Join(dir, n), []byte("run,action\nR0001,R0001-9\n"), 0o644); err != nil {
 			t.Fatal(err)
 		}
 	}
 	removed, err := sweepTemp(dir)
-	if err != nil || len(removed) != 1 || removed[0] != ".benchtender-R0001.csv.123.tmp" {
+	if err != nil || len(removed) != 1 || removed[0].name != ".benchtender-R0001.csv.123.tmp" || removed[0].head != "run,action\nR0001,R0001-9\n" {
 		t.Fatalf("removed %v, %v", removed, err)
 	}
 	left, _ := os.ReadDir(dir)

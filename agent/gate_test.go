@@ -18,6 +18,15 @@ import (
 )
 
 // fakeProposer is a planner whose answer the test chooses.
+// failingCommit stages for real and fails the rename, as a handoff folder
+// whose permissions changed under the agent would.
+type failingCommit struct{ Staged }
+
+func (f failingCommit) Commit() error {
+	f.Abort()
+	return errors.New("injected: rename refused")
+}
+
 type fakeProposer struct {
 	propose func(ctx context.Context, req planner.Request) (planner.Result, error)
 }
@@ -91,10 +100,14 @@ func TestFaultsWriteNoSetpoint(t *testing.T) {
 		"planner wrong size": {Proposer: fakeProposer{func(ctx context.Context, req planner.Request) (planner.Result, error) {
 			return planner.Result{Proposal: campaign.Proposal{Setpoint: campaign.Setpoint{RunID: req.RunID, Point: campaign.Point{50}}}}, nil
 		}}},
-		"writer fails on sync": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) error {
-			return atomicWriter{sync: func(*os.File) error { return errors.New("injected: EIO on fsync") }}.write(dir, name, data, 0o644)
+		"writer fails on sync": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) (Staged, error) {
+			return atomicWriter{sync: func(*os.File) error { return errors.New("injected: EIO on fsync") }}.stage(dir, name, data, 0o644)
 		}},
-		"writer fails": {Proposer: fakeProposer{good}, Writer: func(string, string, []byte) error { return errors.New("injected") }},
+		"writer fails": {Proposer: fakeProposer{good}, Writer: func(string, string, []byte) (Staged, error) { return nil, errors.New("injected") }},
+		"rename fails": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) (Staged, error) {
+			st, err := atomicWriter{}.stage(dir, name, data, 0o644)
+			return failingCommit{st}, err
+		}},
 	}
 	for name, opt := range faults {
 		t.Run(name, func(t *testing.T) {
