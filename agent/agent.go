@@ -41,10 +41,23 @@ type Options struct {
 	// Proposer is the planner (the campaign's planner when nil); tests
 	// inject faults here.
 	Proposer Proposer
+	// Observer, when set, is told what the agent measures (for metrics).
+	Observer Observer
 	// Writer stages a setpoint file in the handoff folder: written and
 	// synced under a temp name, put in place by Commit (a temp file
 	// beside the target when nil); tests inject faults here.
 	Writer func(dir, name string, data []byte) (Staged, error)
+}
+
+// Observer receives the agent's measurements; every method is called from
+// the agent's goroutines and must return quickly.
+type Observer interface {
+	// Planned: one planning step (fit and proposal) took d.
+	Planned(d time.Duration)
+	// Ingested: a result was recorded lag after its file last changed.
+	Ingested(lag time.Duration)
+	// WatchTrouble: the watcher met an error and carries on.
+	WatchTrouble(err error)
 }
 
 // Proposer is what the agent needs of a planner.
@@ -152,6 +165,9 @@ func (a *Agent) Run(ctx context.Context) error {
 	if err != nil {
 		return fmt.Errorf("agent: %w", err)
 	}
+	if a.opt.Observer != nil {
+		w.Trouble = a.opt.Observer.WatchTrouble
+	}
 	files := make(chan watch.File)
 	watchDone := make(chan error, 1)
 	go func() { watchDone <- w.Run(ctx, files) }()
@@ -176,8 +192,12 @@ func (a *Agent) Run(ctx context.Context) error {
 				a.retry = append(a.retry, f.Path)
 				continue
 			}
+			before := a.state.Ingests
 			if err := a.noteStorage(a.ingest(f.Path), f.Path); err != nil {
 				return err
+			}
+			if a.opt.Observer != nil && a.state.Ingests > before {
+				a.opt.Observer.Ingested(a.opt.Now().Sub(f.ModTime))
 			}
 		case <-tick.C:
 			if a.storage != "" {
@@ -669,6 +689,9 @@ func (a *Agent) plan(ctx context.Context) error {
 	}
 	ev.Str("run", id).Str("method", prop.Method).Interface("setpoint", named(a.cfg.Campaign.Factors, prop.Point)).
 		Str("gate", d.Summary()).Dur("took", a.opt.Now().Sub(start)).Msg("proposal")
+	if a.opt.Observer != nil {
+		a.opt.Observer.Planned(a.opt.Now().Sub(start))
+	}
 	return nil
 }
 

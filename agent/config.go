@@ -3,9 +3,11 @@ package agent
 import (
 	"errors"
 	"fmt"
+	"net"
 	"os"
 	"path/filepath"
 	"sort"
+	"strconv"
 	"strings"
 	"time"
 
@@ -27,6 +29,58 @@ type Config struct {
 	Formats map[string]parsers.Spec `toml:"-"`
 	Safety  safety.Config           `toml:"safety"`
 	Log     LogConfig               `toml:"log"`
+	Console ConsoleConfig           `toml:"console"`
+}
+
+// ConsoleConfig is the [console] section: the web console the daemon
+// serves for sign-off and for looking at the campaign.
+type ConsoleConfig struct {
+	// Listen is host:port; "" serves no console. Only a loopback address
+	// may be used without TokensFile.
+	Listen string `toml:"listen"`
+	// TokensFile holds one access token a line: "TOKEN USER-ID PRINTED
+	// NAME". It must not be readable by group or others.
+	TokensFile string `toml:"tokens_file"`
+	// Hosts are further names the console may be reached by (the Host
+	// header is checked against them, against DNS rebinding).
+	Hosts []string `toml:"hosts"`
+}
+
+// Loopback reports whether Listen binds to a loopback address only.
+func (c ConsoleConfig) Loopback() bool {
+	host, _, err := net.SplitHostPort(c.Listen)
+	if err != nil {
+		return false
+	}
+	if host == "localhost" {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
+}
+
+func (c ConsoleConfig) validate() campaign.Problems {
+	var ps campaign.Problems
+	if c.Listen == "" {
+		return ps
+	}
+	_, port, err := net.SplitHostPort(c.Listen)
+	if err != nil {
+		ps.Add("listen", "must be host:port, e.g. 127.0.0.1:8470: %v", err)
+		return ps
+	}
+	if n, err := strconv.Atoi(port); err != nil || n < 0 || n > 65535 {
+		ps.Add("listen", "port %q is not a port number", port)
+	}
+	if !c.Loopback() && c.TokensFile == "" {
+		ps.Add("tokens_file", "must be set to listen on %s: only a loopback address may serve the console without access tokens", c.Listen)
+	}
+	for i, h := range c.Hosts {
+		if strings.TrimSpace(h) == "" || strings.ContainsAny(h, "/ :") {
+			ps.Add(fmt.Sprintf("hosts[%d]", i), "%q is not a host name", h)
+		}
+	}
+	return ps
 }
 
 // Handoff formats.
@@ -86,6 +140,7 @@ func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	ps = append(ps, c.Instrument.validate().Prefix("instrument")...)
 	ps = append(ps, c.validateFormats(reg)...)
 	ps = append(ps, c.Safety.Validate(c.Campaign.Factors).Prefix("safety")...)
+	ps = append(ps, c.Console.validate().Prefix("console")...)
 	switch c.Log.Level {
 	case "debug", "info", "warn", "error":
 	default:
@@ -270,6 +325,7 @@ func (c *Config) resolve(base string) {
 	c.Campaign.StateDir = abs(c.Campaign.StateDir)
 	c.Instrument.HandoffDir = abs(c.Instrument.HandoffDir)
 	c.Instrument.Watch.Dir = abs(c.Instrument.Watch.Dir)
+	c.Console.TokensFile = abs(c.Console.TokensFile)
 	if c.Log.File != "" && !filepath.IsAbs(c.Log.File) {
 		c.Log.File = filepath.Join(c.Campaign.StateDir, c.Log.File)
 	}

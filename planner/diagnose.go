@@ -25,6 +25,9 @@ type CheckPoint struct {
 	// SD is the predictive standard deviation in the model's own units
 	// (see Diagnostics.Units).
 	SD float64
+	// Low and High bound the central 95% predictive band (noise
+	// included), in the response's unit.
+	Low, High float64
 	// Standardised is (measured − predicted)/SD in the model's units;
 	// about 95% of them lie within ±2 when the model fits.
 	Standardised float64
@@ -107,7 +110,10 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 	out := 0
 	for i := range trials {
 		pred := p.resp.Measured(f.loss(loo.Mean[i]))
-		d.Checks = append(d.Checks, CheckPoint{Index: i, Measured: trials[i].Value, Predicted: pred, SD: loo.SD[i], Standardised: sign * loo.Standardised[i]})
+		a := p.resp.Measured(f.loss(loo.Mean[i] - 1.96*loo.SD[i]))
+		b := p.resp.Measured(f.loss(loo.Mean[i] + 1.96*loo.SD[i]))
+		d.Checks = append(d.Checks, CheckPoint{Index: i, Measured: trials[i].Value, Predicted: pred, SD: loo.SD[i],
+			Low: math.Min(a, b), High: math.Max(a, b), Standardised: sign * loo.Standardised[i]})
 		ss += (trials[i].Value - pred) * (trials[i].Value - pred)
 		if math.Abs(loo.Standardised[i]) > 2 {
 			out++

@@ -34,6 +34,16 @@ type Watcher struct {
 	cfg Config
 	log zerolog.Logger
 	now func() time.Time
+	// Trouble, when set, is called with every error the watcher logs and
+	// recovers from (for metrics); it must return quickly.
+	Trouble func(error)
+}
+
+// trouble reports a recovered error to Trouble.
+func (w *Watcher) trouble(err error) {
+	if w.Trouble != nil && err != nil {
+		w.Trouble(err)
+	}
 }
 
 // New returns a watcher for cfg. now is the clock (time.Now when nil).
@@ -54,6 +64,7 @@ func (w *Watcher) Run(ctx context.Context, out chan<- File) error {
 	fw, err := fsnotify.NewWatcher()
 	if err != nil {
 		// Without events the scan still finds everything, only later.
+		w.trouble(err)
 		w.log.Warn().Err(err).Msg("no file events; relying on the periodic scan")
 		fw = nil
 	}
@@ -69,6 +80,7 @@ func (w *Watcher) Run(ctx context.Context, out chan<- File) error {
 			return
 		}
 		if err := fw.Add(w.cfg.Dir); err != nil {
+			w.trouble(err)
 			w.log.Warn().Err(err).Msg("cannot watch folder for events; scanning only")
 			return
 		}
@@ -110,6 +122,7 @@ func (w *Watcher) Run(ctx context.Context, out chan<- File) error {
 			}
 			// Lost events (for example a queue overflow) are made good
 			// by scanning at once.
+			w.trouble(err)
 			w.log.Warn().Err(err).Msg("file event error; rescanning")
 			w.scan(&st)
 		case <-scan.C:
@@ -151,6 +164,7 @@ func (s *state) nextDue() time.Time {
 func (w *Watcher) scan(st *state) {
 	entries, err := os.ReadDir(w.cfg.Dir)
 	if err != nil {
+		w.trouble(err)
 		w.log.Warn().Err(err).Msg("cannot scan folder")
 		return
 	}
@@ -176,6 +190,7 @@ func (w *Watcher) look(st *state, path string) {
 	fi, err := os.Lstat(path)
 	if err != nil || !fi.Mode().IsRegular() {
 		if err != nil && !errors.Is(err, fs.ErrNotExist) {
+			w.trouble(err)
 			w.log.Warn().Err(err).Str("path", path).Msg("cannot stat file")
 		}
 		delete(st.pending, path)

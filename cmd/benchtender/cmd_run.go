@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -11,6 +12,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"benchtender/agent"
+	"benchtender/console"
 )
 
 // cmdRun runs the campaign until SIGINT or SIGTERM.
@@ -35,11 +37,40 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	for _, w := range cfg.Warnings() {
 		log.Warn().Msg(w)
 	}
-	a, err := agent.New(cfg, agent.Options{Logger: log, ConfigPath: pos[0], Tick: cfg.Instrument.LookEvery})
+	opt := agent.Options{Logger: log, ConfigPath: pos[0], Tick: cfg.Instrument.LookEvery}
+	if cfg.Console.Listen == "" {
+		a, err := agent.New(cfg, opt)
+		if err != nil {
+			return err
+		}
+		return a.Run(ctx)
+	}
+	// The console is part of the daemon: it must bind before the
+	// campaign starts, and when either ends, both do.
+	metrics := console.NewMetrics(cfg)
+	srv, err := console.New(cfg, console.Options{Logger: log, ConfigPath: pos[0], Metrics: metrics})
 	if err != nil {
 		return err
 	}
-	return a.Run(ctx)
+	if err := srv.Listen(); err != nil {
+		return err
+	}
+	opt.Notify, opt.Observer = metrics.Entry, metrics
+	a, err := agent.New(cfg, opt)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(stdout, "console: http://%s/\n", srv.Addr())
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	served := make(chan error, 1)
+	go func() { served <- srv.Serve(ctx) }()
+	err = a.Run(ctx)
+	cancel()
+	if serr := <-served; err == nil && serr != nil && !errors.Is(serr, context.Canceled) {
+		err = serr
+	}
+	return err
 }
 
 // newLogger returns a logger writing JSON lines to the configured log file

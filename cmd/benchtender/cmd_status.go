@@ -6,7 +6,6 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
-	"path/filepath"
 	"sort"
 	"strings"
 
@@ -31,26 +30,8 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 			fmt.Fprintf(stdout, "  %-10s %d\n", s, counts[s])
 		}
 	}
-	if st.AllStop != "" {
-		fmt.Fprintf(stdout, "ALL-STOP: every handoff halted: %s (clear with benchtender resume)\n", st.AllStop)
-	}
-	if trail, err := agent.ReadAudit(filepath.Join(cfg.Campaign.StateDir, "audit.log")); err == nil {
-		for i := len(trail) - 1; i >= 0; i-- {
-			if e := trail[i]; e.Action == "config refused" {
-				fmt.Fprintf(stdout, "HANDOFFS HALTED since %s: the edited config does not validate: %s\n", e.Time, e.Reason)
-				break
-			} else if e.Action == "limits edited" {
-				break
-			}
-		}
-		for i := len(trail) - 1; i >= 0; i-- {
-			if e := trail[i]; e.Action == "storage trouble" {
-				fmt.Fprintf(stdout, "HANDOFFS HALTED since %s: the state folder's disk: %s\n", e.Time, e.Reason)
-				break
-			} else if e.Action == "storage recovered" {
-				break
-			}
-		}
+	for _, h := range agent.Halts(cfg, st) {
+		fmt.Fprintln(stdout, h)
 	}
 	if st.Stopped != "" {
 		fmt.Fprintf(stdout, "proposals stopped: %s\n", st.Stopped)

@@ -13,6 +13,7 @@
 //	benchtender resume --by ID --name NAME --reason TEXT  clear the all-stop
 //	benchtender audit verify [--config C]   check the audit trail's hash chain
 //	benchtender status [--config C]     runs so far, the model, where the optimum is
+//	benchtender report [--config C] [--out report.html]   the campaign in one HTML file
 //	benchtender parse --config C [--format NAME] FILE   what a result file would give
 //	benchtender demo [--dir DIR]        an invented campaign on a simulated instrument
 package main
@@ -81,6 +82,7 @@ const usage = `usage:
   benchtender resume --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender audit verify [--config CONFIG]
   benchtender status [--config CONFIG]
+  benchtender report [--config CONFIG] [--out report.html] [--x FACTOR --y FACTOR]
   benchtender parse --config CONFIG [--format NAME] FILE
   benchtender demo [--dir DIR]
 `
@@ -105,6 +107,8 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return cmdAudit(rest, stdout)
 	case "status":
 		return cmdStatus(ctx, rest, stdout)
+	case "report":
+		return cmdReport(ctx, rest, stdout)
 	case "parse":
 		return cmdParse(rest, stdout)
 	case "demo":

@@ -1,0 +1,101 @@
+package console
+
+import (
+	"net/http"
+	"path/filepath"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"benchtender/agent"
+)
+
+// Metrics are the campaign's figures for lab IT in the Prometheus text
+// format (github.com/prometheus/client_golang, the reference client),
+// on the console's /metrics. Counters count from the daemon's start;
+// gauges are read from the journal when scraped.
+type Metrics struct {
+	reg       *prometheus.Registry
+	entries   *prometheus.CounterVec
+	planSecs  prometheus.Histogram
+	scanLag   prometheus.Histogram
+	watchTrbl prometheus.Counter
+}
+
+// NewMetrics registers the campaign's metrics; the gauges replay the
+// journal in cfg's state folder at every scrape.
+func NewMetrics(cfg agent.Config) *Metrics {
+	reg := prometheus.NewRegistry()
+	labels := prometheus.Labels{"campaign": cfg.Campaign.Name}
+	m := &Metrics{
+		reg: reg,
+		entries: prometheus.NewCounterVec(prometheus.CounterOpts{
+			Name: "benchtender_journal_entries_total", ConstLabels: labels,
+			Help: "Journal entries recorded since the daemon started, by kind (ingest, quarantine, duplicate, proposal, hold, signoff-approve, signoff-reject, handoff, handoff-ok, ...).",
+		}, []string{"kind"}),
+		planSecs: prometheus.NewHistogram(prometheus.HistogramOpts{
+			Name: "benchtender_plan_seconds", ConstLabels: labels,
+			Help:    "Time of one planning step: fitting the surrogate and choosing the next setpoint.",
+			Buckets: []float64{0.01, 0.03, 0.1, 0.3, 1, 3, 10, 30, 100},
+		}),
+		scanLag: prometheus.NewHistogram(prometheus.HistogramOpts{
+			Name: "benchtender_ingest_lag_seconds", ConstLabels: labels,
+			Help:    "Time from a result file's last change to its ingest (settle time included).",
+			Buckets: []float64{0.5, 1, 2, 3, 5, 10, 30, 60, 300},
+		}),
+		watchTrbl: prometheus.NewCounter(prometheus.CounterOpts{
+			Name: "benchtender_watcher_errors_total", ConstLabels: labels,
+			Help: "Errors the folder watcher met and recovered from (unreadable folder, lost events).",
+		}),
+	}
+	reg.MustRegister(m.entries, m.planSecs, m.scanLag, m.watchTrbl)
+	journal := filepath.Join(cfg.Campaign.StateDir, "journal.log")
+	gauge := func(name, help string, f func(*agent.State) float64) {
+		reg.MustRegister(prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: name, Help: help, ConstLabels: labels}, func() float64 {
+			es, err := agent.ReadJournal(journal)
+			if err != nil {
+				return -1
+			}
+			return f(agent.Replay(es))
+		}))
+	}
+	gauge("benchtender_runs_held", "Moves waiting for sign-off now.", func(s *agent.State) float64 { return float64(len(s.Held())) })
+	gauge("benchtender_runs_in_flight", "Runs handed off and awaiting their result.", func(s *agent.State) float64 { return float64(len(s.InFlight())) })
+	gauge("benchtender_runs_done", "Runs with a recorded result.", func(s *agent.State) float64 { return float64(len(s.TrialRuns())) })
+	gauge("benchtender_all_stop", "1 while an all-stop halts every handoff.", func(s *agent.State) float64 {
+		if s.AllStop != "" {
+			return 1
+		}
+		return 0
+	})
+	return m
+}
+
+// Entry counts a journal entry; give it to agent.Options.Notify. A
+// proposal counts as a hold too when held; a sign-off by its action, as an approval or a
+// rejection.
+func (m *Metrics) Entry(e agent.Entry) {
+	kind := e.Kind
+	switch {
+	case e.Kind == agent.KindProposal && e.Decision != nil && e.Decision.Verdict == "hold":
+		m.entries.WithLabelValues("hold").Inc()
+	case e.Kind == agent.KindSignoff:
+		kind = "signoff-" + e.Action
+	}
+	m.entries.WithLabelValues(kind).Inc()
+}
+
+// Planned implements agent.Observer.
+func (m *Metrics) Planned(d time.Duration) { m.planSecs.Observe(d.Seconds()) }
+
+// Ingested implements agent.Observer.
+func (m *Metrics) Ingested(lag time.Duration) { m.scanLag.Observe(lag.Seconds()) }
+
+// WatchTrouble implements agent.Observer.
+func (m *Metrics) WatchTrouble(error) { m.watchTrbl.Inc() }
+
+// Handler serves the metrics.
+func (m *Metrics) Handler() http.Handler {
+	return promhttp.HandlerFor(m.reg, promhttp.HandlerOpts{})
+}

@@ -1,0 +1,392 @@
+package console
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"time"
+
+	"benchtender/agent"
+	"benchtender/campaign"
+	"benchtender/planner"
+	"benchtender/plots"
+)
+
+// View is everything the console's pages and the report show, read from
+// the campaign's journal, audit trail and folders at one moment.
+type View struct {
+	Campaign  string
+	Generated time.Time
+	Factors   campaign.Space
+	Response  campaign.Response
+	Limits    string // limits version sign-offs are bound to
+	Budget    int
+	Proposals int
+	Handoffs  int
+	Counts    []Count
+	Halts     []string
+	// Stopping says whether proposals stopped and why; StopRule says what
+	// rule is configured.
+	Stopping, StopRule string
+	Best               *RunRow
+	Runs               []RunRow
+	Held               []HeldRow
+	Instrument         Instrument
+	Model              *Model
+	ModelNote          string // why there is no model yet
+	Optimum            *Optimum
+	Figures            []plots.Figure
+	// PairX, PairY index the factors of the 2-D optimum plot (-1: none).
+	PairX, PairY int
+	Audit        []agent.AuditEntry // newest first
+	AuditTotal   int
+}
+
+// Count is the number of runs with one status.
+type Count struct {
+	Status string
+	N      int
+}
+
+// RunRow is one line of the runs table.
+type RunRow struct {
+	ID, Status, Method string
+	Setpoint           []Value
+	Result             string // the response, or why it failed
+	Files              []string
+	Proposed           time.Time
+	SignedBy           string
+}
+
+// Value is one factor's value, formatted.
+type Value struct{ Factor, Text, Unit string }
+
+// HeldRow is a move waiting for sign-off.
+type HeldRow struct {
+	RunRow
+	Reasons     []string
+	Alternative []Value
+	NeedsTwo    bool
+	Approvers   []string
+	Lapses      time.Time
+}
+
+// Instrument is what the folders say about the instrument and the watcher.
+type Instrument struct {
+	Name, ExportDir, Pattern, HandoffDir string
+	ExportProblem                        string // "" when the export folder can be listed
+	LastResult                           time.Time
+	LastFile                             string
+	LastHandoff                          time.Time
+	Waiting                              []string // setpoint files not yet taken
+	InFlight                             []string // runs handed off, result awaited
+}
+
+// Model describes the fitted surrogate.
+type Model struct {
+	Kernel, Units     string
+	Runs              int
+	LogLikelihood     float64
+	Scales            []string
+	SignalSD, NoiseSD float64
+	LOORMSE, Outside2 float64
+	Worst             []string
+}
+
+// Optimum is where the optimum probably is and how good it is.
+type Optimum struct {
+	Samples               int
+	Box                   []BoxRow
+	BoxMass               float64
+	Median, Low, High     float64
+	BestWithin, Tolerance float64
+}
+
+// BoxRow is one factor's side of the 90% credible box.
+type BoxRow struct{ Factor, Low, High, Unit string }
+
+// BuildOptions choose what Build computes.
+type BuildOptions struct {
+	// Model fits the surrogate and draws the figures (about a second for
+	// a few hundred runs).
+	Model bool
+	// PairX and PairY name the factors of the 2-D optimum plot ("": the
+	// first two).
+	PairX, PairY string
+	// AuditTail is how many audit entries to keep (0: all).
+	AuditTail int
+	Now       func() time.Time
+}
+
+// Build reads the campaign and computes its view.
+func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, error) {
+	if opt.Now == nil {
+		opt.Now = time.Now
+	}
+	sd := cfg.Campaign.StateDir
+	entries, err := agent.ReadJournal(filepath.Join(sd, "journal.log"))
+	if err != nil && !os.IsNotExist(err) {
+		return nil, fmt.Errorf("console: %w", err)
+	}
+	st := agent.Replay(entries)
+	space := cfg.Campaign.Factors
+	v := &View{
+		Campaign: cfg.Campaign.Name, Generated: opt.Now().UTC(), Factors: space, Response: cfg.Campaign.Response,
+		Limits: cfg.Safety.Version(), Budget: cfg.Campaign.MaxRuns, Proposals: st.Proposals, Handoffs: st.Handoffs,
+		Halts: agent.Halts(cfg, st), PairX: -1, PairY: -1,
+	}
+	counts := map[string]int{}
+	for _, id := range st.Order {
+		r := st.Runs[id]
+		counts[r.Status]++
+		v.Runs = append(v.Runs, runRow(space, cfg.Campaign.Response, r))
+	}
+	for _, s := range []string{agent.StatusDone, agent.StatusFailed, agent.StatusHanded, agent.StatusReady, agent.StatusHeld, agent.StatusRejected, agent.StatusRefused, agent.StatusExpired} {
+		if counts[s] > 0 {
+			v.Counts = append(v.Counts, Count{s, counts[s]})
+		}
+	}
+	for _, r := range st.Held() {
+		h := HeldRow{RunRow: runRow(space, cfg.Campaign.Response, r), NeedsTwo: r.Decision.NeedsTwo(cfg.Safety),
+			Approvers: r.Approvers, Lapses: r.Proposed.Add(cfg.Safety.Holds())}
+		for _, why := range r.Decision.Reasons {
+			h.Reasons = append(h.Reasons, why.Message)
+		}
+		if r.Alternative != nil {
+			h.Alternative = values(space, r.Alternative)
+		}
+		v.Held = append(v.Held, h)
+	}
+	if b := st.Best(cfg.Campaign.Response); b != nil {
+		row := runRow(space, cfg.Campaign.Response, b)
+		v.Best = &row
+	}
+	v.Stopping, v.StopRule = stopping(cfg, st)
+	v.Instrument = instrument(cfg, st, entries)
+	if trail, err := agent.ReadAudit(filepath.Join(sd, "audit.log")); err == nil {
+		v.AuditTotal = len(trail)
+		if opt.AuditTail > 0 && len(trail) > opt.AuditTail {
+			trail = trail[len(trail)-opt.AuditTail:]
+		}
+		for i := len(trail) - 1; i >= 0; i-- {
+			v.Audit = append(v.Audit, trail[i])
+		}
+	}
+	if opt.Model {
+		if err := v.model(ctx, cfg, st, opt); err != nil {
+			v.ModelNote = err.Error()
+		}
+	}
+	return v, nil
+}
+
+func values(space campaign.Space, p campaign.Point) []Value {
+	out := make([]Value, 0, len(p))
+	for i, f := range space {
+		if i >= len(p) {
+			break
+		}
+		out = append(out, Value{Factor: f.Name, Text: format(f, p[i]), Unit: f.Unit})
+	}
+	return out
+}
+
+// format writes a factor value with 4 significant digits, or its level or
+// choice.
+func format(f campaign.Factor, v float64) string {
+	if f.Kind == "" || f.Kind == campaign.Continuous {
+		return fmt.Sprintf("%.4g", v)
+	}
+	return f.Format(v)
+}
+
+func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
+	row := RunRow{ID: r.ID, Status: r.Status, Method: r.Method, Proposed: r.Proposed, SignedBy: r.SignedBy}
+	if r.Point != nil {
+		row.Setpoint = values(space, r.Point)
+	}
+	switch r.Status {
+	case agent.StatusDone:
+		row.Result = strings.TrimSpace(fmt.Sprintf("%.4g %s", r.Value, resp.Unit))
+	case agent.StatusFailed:
+		row.Result = "no value: " + r.Failed
+	}
+	for _, f := range r.Files {
+		row.Files = append(row.Files, filepath.Base(f))
+	}
+	return row
+}
+
+func stopping(cfg agent.Config, st *agent.State) (string, string) {
+	s := cfg.Planner.Stop
+	var rule []string
+	rule = append(rule, fmt.Sprintf("budget of %d runs", cfg.Campaign.MaxRuns))
+	if len(s.Tolerance) > 0 {
+		var parts []string
+		for _, f := range cfg.Campaign.Factors {
+			if w, ok := s.Tolerance[f.Name]; ok {
+				parts = append(parts, strings.TrimSpace(fmt.Sprintf("%s %g %s", f.Name, w, f.Unit)))
+			}
+		}
+		rule = append(rule, "optimum's location known to within "+strings.Join(parts, ", "))
+	}
+	if s.EIBelow > 0 {
+		rule = append(rule, fmt.Sprintf("expected improvement below %g %s", s.EIBelow, cfg.Campaign.Response.Unit))
+	}
+	if s.ValueTolerance > 0 {
+		rule = append(rule, fmt.Sprintf("best run within %g %s of the optimum with high probability", s.ValueTolerance, cfg.Campaign.Response.Unit))
+	}
+	used := 0
+	for _, r := range st.Runs {
+		if r.Status != agent.StatusRejected && r.Status != agent.StatusRefused && r.Status != agent.StatusExpired && !r.External {
+			used++
+		}
+	}
+	state := fmt.Sprintf("proposing: %d of %d runs used", used, cfg.Campaign.MaxRuns)
+	switch {
+	case st.Stopped != "":
+		state = "stopped: " + st.Stopped
+	case used >= cfg.Campaign.MaxRuns:
+		state = fmt.Sprintf("stopped: the budget of %d runs is spent", cfg.Campaign.MaxRuns)
+	}
+	return state, strings.Join(rule, "; ")
+}
+
+func instrument(cfg agent.Config, st *agent.State, entries []agent.Entry) Instrument {
+	ic := cfg.Instrument
+	in := Instrument{Name: ic.Name, ExportDir: ic.Watch.Dir, Pattern: ic.Watch.Pattern, HandoffDir: ic.HandoffDir}
+	if _, err := os.ReadDir(ic.Watch.Dir); err != nil {
+		in.ExportProblem = err.Error()
+	}
+	for _, e := range entries {
+		switch e.Kind {
+		case agent.KindIngest:
+			in.LastResult, in.LastFile = e.Time, filepath.Base(e.File)
+		case agent.KindHandoffOK:
+			in.LastHandoff = e.Time
+		}
+	}
+	if des, err := os.ReadDir(ic.HandoffDir); err == nil {
+		for _, d := range des {
+			if d.Type().IsRegular() && !strings.HasPrefix(d.Name(), ".") && (strings.HasSuffix(d.Name(), "."+ic.HandoffFormat)) {
+				in.Waiting = append(in.Waiting, d.Name())
+			}
+		}
+	}
+	for _, r := range st.InFlight() {
+		in.InFlight = append(in.InFlight, r.ID)
+	}
+	return in
+}
+
+// model fits the surrogate, finds where the optimum probably is and
+// draws the figures.
+func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt BuildOptions) error {
+	trials := st.Trials()
+	runs := st.TrialRuns()
+	resp := cfg.Campaign.Response
+	space := cfg.Campaign.Factors
+	values := make([]float64, len(trials))
+	for i, t := range trials {
+		values[i] = t.Value
+	}
+	if len(trials) > 0 {
+		if f, err := plots.BestSoFar(resp, values); err == nil {
+			v.Figures = append(v.Figures, f)
+		}
+	}
+	pl := planner.New(cfg.Campaign, cfg.Planner)
+	d, fitted, err := pl.Diagnose(ctx, trials)
+	if err != nil {
+		return fmt.Errorf("no model yet: %v", err)
+	}
+	m := &Model{Kernel: d.Kernel, Units: d.Units, Runs: d.Runs, LogLikelihood: d.LogLikelihood,
+		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, LOORMSE: d.LOORMSE, Outside2: d.Outside2}
+	for _, s := range d.LengthScales {
+		m.Scales = append(m.Scales, strings.TrimSpace(fmt.Sprintf("%s %.3g %s", s.Factor, s.Value, s.Unit)))
+	}
+	worst := append([]planner.CheckPoint(nil), d.Checks...)
+	sort.Slice(worst, func(i, j int) bool { return math.Abs(worst[i].Standardised) > math.Abs(worst[j].Standardised) })
+	for _, c := range worst[:min(3, len(worst))] {
+		m.Worst = append(m.Worst, fmt.Sprintf("%s measured %.4g, predicted from the others %.4g (standardised error %+.2f)", runs[c.Index].ID, c.Measured, c.Predicted, c.Standardised))
+	}
+	v.Model = m
+	o, err := pl.OptimumOf(ctx, fitted, cfg.Planner.Samples, rand.New(rand.NewPCG(cfg.Campaign.Seed, 0x0b7)))
+	if err != nil {
+		return fmt.Errorf("optimum not computed: %v", err)
+	}
+	ov := &Optimum{Samples: o.Samples, BoxMass: o.BoxMass, Median: o.ValueMedian, Low: o.ValueLow, High: o.ValueHigh,
+		BestWithin: o.BestWithin, Tolerance: cfg.Planner.Stop.ValueTolerance}
+	for k, f := range space {
+		ov.Box = append(ov.Box, BoxRow{Factor: f.Name, Low: format(f, o.Box[k][0]), High: format(f, o.Box[k][1]), Unit: f.Unit})
+	}
+	v.Optimum = ov
+	// The slices run through the predicted optimum: the median of the
+	// draws' minimisers, snapped to a valid setpoint.
+	centre := make(campaign.Point, len(space))
+	for k := range space {
+		col := make([]float64, len(o.Minimisers))
+		for i, p := range o.Minimisers {
+			col[i] = p[k]
+		}
+		sort.Float64s(col)
+		centre[k] = col[len(col)/2]
+	}
+	centre = space.Snap(centre)
+	add := func(f plots.Figure, err error) {
+		if err == nil {
+			v.Figures = append(v.Figures, f)
+		}
+	}
+	for k, f := range space {
+		bands, err := pl.Slice(fitted, centre, k, 121)
+		if err != nil {
+			continue
+		}
+		add(plots.Slice(f, resp, bands, trials, k))
+	}
+	for k, f := range space {
+		if k < len(o.Marginals) {
+			add(plots.Location(f, o.Marginals[k]))
+		}
+	}
+	if len(space) >= 2 {
+		v.PairX, v.PairY = 0, 1
+		if i := space.Index(opt.PairX); i >= 0 {
+			v.PairX = i
+		}
+		if j := space.Index(opt.PairY); j >= 0 && j != v.PairX {
+			v.PairY = j
+		} else if v.PairY == v.PairX {
+			v.PairY = (v.PairX + 1) % len(space)
+		}
+		xs := make([]float64, len(o.Minimisers))
+		ys := make([]float64, len(o.Minimisers))
+		for i, p := range o.Minimisers {
+			xs[i], ys[i] = p[v.PairX], p[v.PairY]
+		}
+		add(plots.Pair(space[v.PairX], space[v.PairY], xs, ys, trials, v.PairX, v.PairY))
+	}
+	best := math.NaN()
+	if v.Best != nil {
+		best = st.Best(resp).Value
+	}
+	add(plots.BestValue(resp, o.Values, best))
+	add(plots.LeaveOneOut(resp, d.Checks))
+	return nil
+}
+
+// Figure returns the figure with the given name, or nil.
+func (v *View) Figure(name string) *plots.Figure {
+	for i := range v.Figures {
+		if v.Figures[i].Name == name {
+			return &v.Figures[i]
+		}
+	}
+	return nil
+}
