@@ -41,12 +41,9 @@ func BestSoFar(resp campaign.Response, values []float64) (Figure, error) {
 		return Figure{}, err
 	}
 	p.Add(l, s)
-	p.Legend.Add("best so far", l)
-	p.Legend.Add("each run", s)
-	p.Legend.Top = resp.Goal == campaign.Maximise
 	svg, err := render(p)
 	return Figure{Name: "best-so-far", Title: "Best so far", SVG: svg,
-		Caption: fmt.Sprintf("Each completed run's %s (circles) and the best so far (line). A line gone flat means recent runs found nothing better.", resp.Name)}, err
+		Caption: fmt.Sprintf("Teal dots: each completed run's %s; ochre line: the best so far. A line gone flat means recent runs found nothing better.", resp.Name)}, err
 }
 
 // Slice plots the surrogate along one factor through the predicted
@@ -82,8 +79,6 @@ func Slice(f campaign.Factor, resp campaign.Response, bands []planner.Band, runs
 	}
 	l.Color, l.Width = ochre, vg.Points(1.6)
 	p.Add(poly, l)
-	p.Legend.Add("95% band", poly)
-	p.Legend.Add("model median", l)
 	if len(runs) > 0 {
 		pts := make(plotter.XYs, len(runs))
 		for i, r := range runs {
@@ -94,11 +89,10 @@ func Slice(f campaign.Factor, resp campaign.Response, bands []planner.Band, runs
 			return Figure{}, err
 		}
 		p.Add(s)
-		p.Legend.Add("runs", s)
 	}
 	svg, err := render(p)
 	return Figure{Name: "slice-" + f.Name, Title: "Model along " + f.Name, SVG: svg,
-		Caption: fmt.Sprintf("The model's %s as %s varies and every other factor stays at the predicted optimum; the band is where the true response lies with 95%% probability. Runs are drawn at their own %s; their other factors differ.", resp.Name, f.Name, f.Name)}, err
+		Caption: fmt.Sprintf("Ochre line: the model's %s as %s varies, every other factor held at the predicted optimum; sand band: where the true response lies with 95%% probability. Teal dots: the runs at their own %s (their other factors differ, so they need not lie on the line).", resp.Name, f.Name, f.Name)}, err
 }
 
 // Location plots where the optimum probably is along one factor: a
@@ -127,7 +121,6 @@ func Location(f campaign.Factor, m planner.Marginal) (Figure, error) {
 		h.Width = w
 	}
 	p.Add(h)
-	p.Legend.Add("posterior draws", h)
 	if len(m.Grid) > 1 && len(m.Grid) == len(m.Density) {
 		pts := make(plotter.XYs, len(m.Grid))
 		for i := range m.Grid {
@@ -139,11 +132,10 @@ func Location(f campaign.Factor, m planner.Marginal) (Figure, error) {
 		}
 		l.Color, l.Width = ink, vg.Points(1.4)
 		p.Add(l)
-		p.Legend.Add("density estimate", l)
 	}
 	svg, err := render(p)
 	return Figure{Name: "optimum-" + f.Name, Title: "Where the optimum is: " + f.Name, SVG: svg,
-		Caption: fmt.Sprintf("Where the best %s lies in each of %d functions drawn from the model. Narrow: the runs so far pin it down; wide or with several peaks: more runs are needed.", f.Name, total)}, err
+		Caption: fmt.Sprintf("Bars: where the best %s lies in each of %d functions drawn from the model; dark line: their smoothed density. Narrow: the runs so far pin it down; wide or with several peaks: more runs are needed.", f.Name, total)}, err
 }
 
 // density2 is a 2-D Gaussian kernel density estimate on a grid.
@@ -235,12 +227,11 @@ func Pair(fx, fy campaign.Factor, xs, ys []float64, runs []campaign.Trial, kx, k
 			return Figure{}, err
 		}
 		p.Add(s)
-		p.Legend.Add("runs", s)
 	}
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = fx.Min, fx.Max, fy.Min, fy.Max
 	svg, err := render(p)
 	return Figure{Name: "optimum-" + fx.Name + "-" + fy.Name, Title: "Where the optimum is: " + fx.Name + " and " + fy.Name, SVG: svg,
-		Caption: fmt.Sprintf("Darker means the optimum more probably lies there, from %d functions drawn from the model; the circles are the runs so far.", len(xs))}, err
+		Caption: fmt.Sprintf("Darker means the optimum more probably lies there, from %d functions drawn from the model; teal dots: the runs so far.", len(xs))}, err
 }
 
 // BestValue plots the distribution of the best achievable response, one
@@ -264,7 +255,6 @@ func BestValue(resp campaign.Response, values []float64, bestRun float64) (Figur
 	h.FillColor = band
 	h.LineStyle.Color, h.LineStyle.Width = ochre, vg.Points(0.5)
 	p.Add(h)
-	p.Legend.Add("posterior draws", h)
 	if finite(bestRun) {
 		_, _, _, ymax := h.DataRange()
 		l, err := plotter.NewLine(plotter.XYs{{X: bestRun, Y: 0}, {X: bestRun, Y: ymax}})
@@ -274,11 +264,10 @@ func BestValue(resp campaign.Response, values []float64, bestRun float64) (Figur
 		l.Color, l.Width = teal, vg.Points(1.6)
 		l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
 		p.Add(l)
-		p.Legend.Add("best run so far", l)
 	}
 	svg, err := render(p)
 	return Figure{Name: "best-value", Title: "Best achievable " + resp.Name, SVG: svg,
-		Caption: fmt.Sprintf("How good the best %s in the space probably is (%d functions drawn from the model). When the best run so far sits at the good end of it, further runs are unlikely to gain much.", resp.Name, len(vs))}, err
+		Caption: fmt.Sprintf("Bars: how good the best %s in the space probably is (%d functions drawn from the model); dashed teal line: the best run so far. When that line sits at the good end of the bars, further runs are unlikely to gain much.", resp.Name, len(vs))}, err
 }
 
 // LeaveOneOut plots each run's measured response against the model's
@@ -318,11 +307,7 @@ func LeaveOneOut(resp campaign.Response, checks []planner.CheckPoint) (Figure, e
 		return Figure{}, err
 	}
 	p.Add(diag, bars, s)
-	p.Legend.Add("agreement", diag)
-	p.Legend.Add("runs", s)
-	p.Legend.Top = true
-	p.Legend.Left = true
 	svg, err := render(p)
 	return Figure{Name: "leave-one-out", Title: "Leave-one-out check", SVG: svg,
-		Caption: "Each run as measured and as the model predicts it without that run, with its 95% predictive bar. When the model fits, about 19 runs in 20 have their bar crossing the dashed line."}, err
+		Caption: "Teal dots: each run as measured and as the model predicts it from the other runs; ochre bars: 95% predictive intervals; dashed line: perfect agreement. When the model fits, about 19 runs in 20 have their bar crossing the dashed line."}, err
 }

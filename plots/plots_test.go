@@ -22,8 +22,7 @@ var (
 )
 
 // checkSVG parses the figure as XML and checks that it has text for both
-// axes' labels and the expected number of run markers (plus the one in
-// the legend).
+// axes' labels and the expected number of run markers.
 func checkSVG(t *testing.T, f Figure, labels []string, runs int) {
 	t.Helper()
 	if len(f.SVG) < 500 || !bytes.HasPrefix(f.SVG, []byte("<svg")) {
@@ -61,12 +60,8 @@ func checkSVG(t *testing.T, f Figure, labels []string, runs int) {
 	if n := len(regexp.MustCompile(`(?m)^-?[0-9.]+$`).FindAllString(all, -1)); n < 4 {
 		t.Errorf("%s: %d numeric tick labels", f.Name, n)
 	}
-	want := runs
-	if runs > 0 {
-		want++ // the legend's sample
-	}
-	if n := len(glyphs.FindAll(f.SVG, -1)); n != want {
-		t.Errorf("%s: %d run markers, want %d", f.Name, n, want)
+	if n := len(glyphs.FindAll(f.SVG, -1)); n != runs {
+		t.Errorf("%s: %d run markers, want %d", f.Name, n, runs)
 	}
 	if f.Caption == "" || f.Title == "" {
 		t.Errorf("%s: no title or caption", f.Name)

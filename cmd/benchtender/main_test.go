@@ -3,12 +3,15 @@ package main
 import (
 	"bytes"
 	"context"
+	"io"
+	"net/http"
 	"os"
 	"os/exec"
 	"path/filepath"
 	"regexp"
 	"runtime"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 	"time"
@@ -88,14 +91,15 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 		os.Mkdir(filepath.Join(dir, d), 0o755)
 	}
 	src, _ := os.ReadFile("../../config.example.toml")
-	cfg := strings.Replace(string(src), "review_max = 50.0", "review_min = 59.0", 1) // every jacket_temp below 59 is held
+	cfg := strings.Replace(string(src), "review_max = 50.0", "review_min = 59.0", 1)     // every jacket_temp below 59 is held
+	cfg = strings.Replace(cfg, `listen = "127.0.0.1:8470"`, `listen = "127.0.0.1:0"`, 1) // a free port
 	cfgPath := filepath.Join(dir, "c.toml")
 	os.WriteFile(cfgPath, []byte(cfg), 0o644)
 
 	ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
 	defer cancel()
 	daemon := exec.CommandContext(ctx, bin, "run", cfgPath)
-	var logs bytes.Buffer
+	var logs syncBuffer
 	daemon.Stdout, daemon.Stderr = &logs, &logs
 	if err := daemon.Start(); err != nil {
 		t.Fatal(err)
@@ -109,6 +113,23 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	})
 	if !strings.Contains(holds, "held because jacket_temp") || !strings.Contains(holds, "below review_min 59") {
 		t.Errorf("holds output:\n%s", holds)
+	}
+	// The daemon serves its console: the held move is on the holds
+	// page and counted in the metrics.
+	addr := regexp.MustCompile(`console: (http://127\.0\.0\.1:[0-9]+/)`).FindStringSubmatch(logs.String())
+	if addr == nil {
+		t.Fatalf("the daemon did not say where its console is:\n%s", logs.String())
+	}
+	for path, want := range map[string]string{"holds": "Approve R0001", "metrics": "benchtender_runs_held{campaign=\"crystalliser_yield\"} 1"} {
+		resp, err := http.Get(addr[1] + path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		b, _ := io.ReadAll(resp.Body)
+		resp.Body.Close()
+		if resp.StatusCode != http.StatusOK || !strings.Contains(string(b), want) {
+			t.Errorf("console /%s: %d, lacks %q", path, resp.StatusCode, want)
+		}
 	}
 	if out, code := runBin(t, bin, "approve", "R0001", "--config", cfgPath); code != 2 {
 		t.Errorf("approve without --by: exit %d\n%s", code, out)
@@ -172,6 +193,52 @@ func TestDemo(t *testing.T) {
 	if len(results) != 12 || len(taken) != 12 {
 		t.Errorf("%d result files and %d taken setpoints, want 12 and 12", len(results), len(taken))
 	}
+
+	// The report of the same campaign: one self-contained file with
+	// every figure inline (3 factors: best so far, 3 slices, 3 optimum
+	// marginals, 1 pair, best value, leave-one-out = 10).
+	report := filepath.Join(dir, "report.html")
+	out, code = runBin(t, bin, "report", "--config", filepath.Join(dir, "benchtender.toml"), "--out", report, "--x", "feed_rate", "--y", "hold_time")
+	if code != 0 || !strings.Contains(out, "10 figures") {
+		t.Fatalf("report: exit %d\n%s", code, out)
+	}
+	b, err := os.ReadFile(report)
+	if err != nil {
+		t.Fatal(err)
+	}
+	html := string(b)
+	if n := strings.Count(html, `<img src="data:image/svg`); n != 10 {
+		t.Errorf("report holds %d inline figures, want 10", n)
+	}
+	for _, ext := range []string{`src="http`, `href="http`, `<script`, `<link rel="stylesheet"`} {
+		if strings.Contains(html, ext) {
+			t.Errorf("report is not self-contained: it has %s", ext)
+		}
+	}
+	for _, want := range []string{"Where the optimum probably is", "Where the optimum is: feed_rate and hold_time", "R0012", "not a safety system"} {
+		if !strings.Contains(html, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+}
+
+// syncBuffer is a bytes.Buffer safe to write from a child's output
+// copier while the test reads it.
+type syncBuffer struct {
+	mu sync.Mutex
+	b  bytes.Buffer
+}
+
+func (s *syncBuffer) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.Write(p)
+}
+
+func (s *syncBuffer) String() string {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.b.String()
 }
 
 func waitUntil(t *testing.T, d time.Duration, what string, ok func() bool) {
