@@ -41,6 +41,8 @@ type Options struct {
 	// Proposer is the planner (the campaign's planner when nil); tests
 	// inject faults here.
 	Proposer Proposer
+	// IncludeOld takes result files older than the watch's max_age too.
+	IncludeOld bool
 	// Observer, when set, is told what the agent measures (for metrics).
 	Observer Observer
 	// Writer stages a setpoint file in the handoff folder: written and
@@ -86,8 +88,10 @@ type Agent struct {
 	cfgBroken string               // why the edited config is refused (no handoffs meanwhile)
 	rateSaid  bool
 	unlock    func()
-	storage   string   // why the journal cannot be written now ("" when it can)
-	retry     []string // result files to ingest once it can
+	storage   string       // why the journal cannot be written now ("" when it can)
+	retry     []watch.File // result files to ingest once it can
+
+	folderLost bool // the export folder is lost, as last reported
 
 	refusals   int       // consecutive gate refusals
 	planAfter  time.Time // earliest next planning attempt after an error
@@ -95,7 +99,7 @@ type Agent struct {
 	writeAfter time.Time // earliest next handoff attempt after an error
 	writeErrs  int
 	budgetSaid bool
-	incomplete map[string]time.Time // result files waiting to be complete
+	incomplete map[string]waiting // result files waiting to be complete, by path
 }
 
 // New checks the configuration and builds an agent; it touches no file.
@@ -121,7 +125,7 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		cfg: cfg, opt: opt, parser: p,
 		log:        opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
 		planner:    planner.New(cfg.Campaign, cfg.Planner),
-		incomplete: map[string]time.Time{},
+		incomplete: map[string]waiting{},
 		holdSeen:   map[string]time.Time{},
 		gate:       safety.NewGate(cfg.Safety, cfg.Campaign.Factors),
 		proposer:   opt.Proposer,
@@ -168,6 +172,17 @@ func (a *Agent) Run(ctx context.Context) error {
 	if a.opt.Observer != nil {
 		w.Trouble = a.opt.Observer.WatchTrouble
 	}
+	w.IncludeOld = a.opt.IncludeOld
+	if err := writeWatchStatus(a.cfg.Campaign.StateDir, WatchStatus{Dir: a.cfg.Instrument.Watch.Dir, OK: true, Since: a.opt.Now().UTC()}); err != nil {
+		a.log.Warn().Err(err).Msg("cannot write the watch status file")
+	}
+	folders := make(chan watch.FolderState, 4)
+	w.Folder = func(fs watch.FolderState) {
+		select {
+		case folders <- fs:
+		case <-ctx.Done():
+		}
+	}
 	files := make(chan watch.File)
 	watchDone := make(chan error, 1)
 	go func() { watchDone <- w.Run(ctx, files) }()
@@ -180,7 +195,7 @@ func (a *Agent) Run(ctx context.Context) error {
 	for {
 		if a.storage != "" {
 			a.tryRecover()
-		} else if err := a.noteStorage(a.step(ctx), ""); err != nil {
+		} else if err := a.noteStorage(a.step(ctx), watch.File{}); err != nil {
 			return err
 		}
 		select {
@@ -189,21 +204,28 @@ func (a *Agent) Run(ctx context.Context) error {
 			return nil
 		case f := <-files:
 			if a.storage != "" {
-				a.retry = append(a.retry, f.Path)
+				a.retry = append(a.retry, f)
 				continue
 			}
 			before := a.state.Ingests
-			if err := a.noteStorage(a.ingest(f.Path), f.Path); err != nil {
+			if err := a.noteStorage(a.ingest(f), f); err != nil {
 				return err
 			}
 			if a.opt.Observer != nil && a.state.Ingests > before {
 				a.opt.Observer.Ingested(a.opt.Now().Sub(f.ModTime))
 			}
+		case fs := <-folders:
+			if a.storage != "" {
+				continue
+			}
+			if err := a.noteStorage(a.noteFolder(fs), watch.File{}); err != nil {
+				return err
+			}
 		case <-tick.C:
 			if a.storage != "" {
 				continue
 			}
-			if err := a.noteStorage(a.recheckIncomplete(), ""); err != nil {
+			if err := a.noteStorage(a.recheckIncomplete(), watch.File{}); err != nil {
 				return err
 			}
 		}
@@ -387,10 +409,53 @@ func (a *Agent) halted() string {
 	return ""
 }
 
-// ingest reads one settled result file and records it.
-func (a *Agent) ingest(path string) error {
-	log := a.log.With().Str("file", path).Logger()
-	data, err := os.ReadFile(path)
+// noteFolder records what the watcher says of the export folder: the
+// current state in state/watch.json (status and the console read it),
+// losses and returns in the audit trail.
+func (a *Agent) noteFolder(fs watch.FolderState) error {
+	ws := WatchStatus{Dir: fs.Dir, OK: fs.OK, Polling: fs.Polling, Since: a.opt.Now().UTC()}
+	if fs.Err != nil {
+		ws.Problem = fs.Err.Error()
+	}
+	if err := writeWatchStatus(a.cfg.Campaign.StateDir, ws); err != nil {
+		a.log.Warn().Err(err).Msg("cannot write the watch status file")
+	}
+	switch {
+	case !fs.OK:
+		a.folderLost = true
+		return a.auditNote(noteFolderLost, fs.Dir, fs.Err.Error())
+	case a.folderLost || fs.Replaced:
+		a.folderLost = false
+		why := "readable again"
+		if fs.Replaced {
+			why = "back as another folder (recreated or mounted again); watching it now"
+		}
+		return a.auditNote(noteFolderBack, fs.Dir, why)
+	}
+	return nil
+}
+
+// Audit notes about the export folder.
+const (
+	noteFolderLost = "export folder lost"
+	noteFolderBack = "export folder back"
+)
+
+// waiting is a result file not complete yet, since when.
+type waiting struct {
+	f     watch.File
+	first time.Time
+}
+
+// ingest reads one settled result file, inside the export folder only,
+// archives a true copy and records it.
+func (a *Agent) ingest(f watch.File) error {
+	path := f.Path
+	log := a.log.With().Str("file", watch.Quote(path)).Logger()
+	if f.Problem != "" {
+		return a.refuseName(f)
+	}
+	data, err := a.readExport(f)
 	if err != nil {
 		// Gone or unreadable now; a later scan will offer it again.
 		log.Warn().Err(err).Msg("cannot read result file")
@@ -412,11 +477,12 @@ func (a *Agent) ingest(path string) error {
 	}
 	rec, err := a.parser.Parse(path, data)
 	if errors.Is(err, parsers.ErrIncomplete) {
-		first, seen := a.incomplete[path]
+		w, seen := a.incomplete[path]
 		if !seen {
-			first = a.opt.Now()
-			a.incomplete[path] = first
+			w = waiting{f: f, first: a.opt.Now()}
+			a.incomplete[path] = w
 		}
+		first := w.first
 		timeout := a.cfg.Spec().IncompleteTimeout
 		if a.opt.Now().Sub(first) < timeout {
 			if !seen {
@@ -454,7 +520,8 @@ func (a *Agent) ingest(path string) error {
 	switch {
 	case known && (r.Status == StatusHanded || r.Status == StatusDone || r.Status == StatusFailed):
 		if r.Status != StatusHanded {
-			log.Info().Str("run", r.ID).Msg("new content for a run already ingested; keeping both, the latest counts")
+			e.Revision = len(r.Files) + 1
+			log.Info().Str("run", r.ID).Int("revision", e.Revision).Msg("new content for a run already ingested: a new revision; both are kept, the latest counts")
 		}
 	case known:
 		return a.refuseFile(path, sha, data, fmt.Sprintf("run %s was never handed off (it is %s)", rec.RunID, r.Status))
@@ -465,6 +532,13 @@ func (a *Agent) ingest(path string) error {
 		}
 		e.Point = pt
 	}
+	// A true copy first: the record survives the instrument PC purging
+	// its exports.
+	cp, err := archive(a.cfg.Campaign.StateDir, sha, data)
+	if err != nil {
+		return storageError{err}
+	}
+	e.Copy = cp
 	if err := a.record(e); err != nil {
 		return err
 	}
@@ -481,8 +555,8 @@ func (a *Agent) ingest(path string) error {
 // watcher reports a file only when it changes, and an abandoned file must
 // still reach quarantine after the timeout.
 func (a *Agent) recheckIncomplete() error {
-	for path := range a.incomplete {
-		if err := a.ingest(path); err != nil {
+	for _, w := range a.incomplete {
+		if err := a.ingest(w.f); err != nil {
 			return err
 		}
 	}

@@ -2,9 +2,10 @@ package agent
 
 import (
 	"errors"
-
 	"os"
 	"path/filepath"
+
+	"benchtender/watch"
 )
 
 // storageError marks a failure to write the journal or the audit trail
@@ -76,9 +77,9 @@ func (a *Agent) tryRecover() {
 	a.log.Info().Msg("room again on the state folder's disk; handoffs resume")
 	retry := a.retry
 	a.retry = nil
-	for _, p := range retry {
-		if err := a.ingest(p); err != nil {
-			a.noteStorage(err, p)
+	for _, f := range retry {
+		if err := a.ingest(f); err != nil {
+			a.noteStorage(err, f)
 			return
 		}
 	}
@@ -125,12 +126,12 @@ func (a *Agent) closeStores() {
 // noteStorage handles an error from a step: a storage error makes the
 // agent degraded (and the file, if any, is kept to ingest later); any
 // other error is returned.
-func (a *Agent) noteStorage(err error, file string) error {
+func (a *Agent) noteStorage(err error, file watch.File) error {
 	var se storageError
 	if !errors.As(err, &se) {
 		return err
 	}
-	if file != "" {
+	if file.Path != "" {
 		a.retry = append(a.retry, file)
 	}
 	a.enterDegraded(se.err)

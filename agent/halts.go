@@ -1,6 +1,12 @@
 package agent
 
-import "fmt"
+import (
+	"encoding/json"
+	"fmt"
+	"os"
+	"path/filepath"
+	"time"
+)
 
 // Halts says, in words for the morning's reader, what stops handoffs now:
 // an all-stop, an edited config that does not validate, trouble with the
@@ -31,6 +37,53 @@ func Halts(cfg Config, st *State) []string {
 	}
 	if e := last("storage trouble", "storage recovered"); e != nil {
 		out = append(out, fmt.Sprintf("HANDOFFS HALTED since %s: the state folder's disk: %s", e.Time, e.Reason))
+	}
+	return out
+}
+
+// WatchStatus is the export folder's state as the running agent last
+// saw it (state/watch.json).
+type WatchStatus struct {
+	Dir     string    `json:"dir"`
+	OK      bool      `json:"ok"`
+	Problem string    `json:"problem,omitempty"`
+	Polling string    `json:"polling,omitempty"` // why file events are off
+	Since   time.Time `json:"since"`
+}
+
+func watchStatusPath(stateDir string) string { return filepath.Join(stateDir, "watch.json") }
+
+func writeWatchStatus(stateDir string, ws WatchStatus) error {
+	b, err := json.Marshal(ws)
+	if err != nil {
+		return err
+	}
+	return writeFileAtomic(stateDir, "watch.json", b, 0o644)
+}
+
+// ReadWatchStatus returns the watch status the agent last wrote.
+func ReadWatchStatus(cfg Config) (WatchStatus, error) {
+	var ws WatchStatus
+	b, err := os.ReadFile(watchStatusPath(cfg.Campaign.StateDir))
+	if err != nil {
+		return ws, err
+	}
+	return ws, json.Unmarshal(b, &ws)
+}
+
+// Notices says what is wrong without halting handoffs: the export folder
+// lost, file events off (only the scan finds files).
+func Notices(cfg Config) []string {
+	ws, err := ReadWatchStatus(cfg)
+	if err != nil {
+		return nil
+	}
+	var out []string
+	if !ws.OK {
+		out = append(out, fmt.Sprintf("export folder %s lost since %s: %s (looking again with back-off)", ws.Dir, ws.Since.Format(time.RFC3339), ws.Problem))
+	}
+	if ws.Polling != "" {
+		out = append(out, fmt.Sprintf("file events off since %s: %s; the scan alone finds files (every %v)", ws.Since.Format(time.RFC3339), ws.Polling, cfg.Instrument.Watch.Rescan))
 	}
 	return out
 }

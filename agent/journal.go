@@ -52,6 +52,9 @@ type Entry struct {
 	SHA256 string  `json:"sha256,omitempty"`
 	Value  float64 `json:"value,omitempty"`
 	Failed string  `json:"failed,omitempty"`
+	// Revision numbers a later version of a run's result (2 for the
+	// second file ingested for it); the latest counts.
+	Revision int `json:"revision,omitempty"`
 	// Point is the setpoint of a proposal or handoff, or the factor
 	// values a result file gave for a run not handed off by us.
 	Point campaign.Point `json:"point,omitempty"`
@@ -79,7 +82,8 @@ type Entry struct {
 
 	// Reason is why: a quarantine's parse error, a sign-off's reason.
 	Reason string `json:"reason,omitempty"`
-	// Copy is where a quarantined file was copied.
+	// Copy is where a quarantined file was copied, or an ingested one
+	// archived.
 	Copy string `json:"copy,omitempty"`
 	// Corrects is the audit entry a correction refers to.
 	Corrects int64 `json:"corrects,omitempty"`

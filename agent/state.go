@@ -60,7 +60,9 @@ type State struct {
 	Order  []string        // run ids in the order first seen
 	Hashes map[string]bool // content hashes already ingested or quarantined
 	// Seen maps a content hash to the files it has been recorded under.
-	Seen      map[string][]string
+	Seen map[string][]string
+	// Refused holds the files refused by name alone (never read).
+	Refused   map[string]bool
 	Proposals int // proposals made (the planner's index)
 	Handoffs  int // setpoint files written
 	// Stopped, when not empty, says why the planner stopped proposing.
@@ -79,7 +81,7 @@ type State struct {
 }
 
 func newState() *State {
-	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}, Seen: map[string][]string{}}
+	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}, Seen: map[string][]string{}, Refused: map[string]bool{}}
 }
 
 // Replay builds the state from journal entries.
@@ -195,6 +197,10 @@ func (s *State) apply(e Entry) {
 			r.Status, r.Value, r.Failed = StatusDone, e.Value, ""
 		}
 	case KindQuarantine, KindDuplicate:
+		if e.SHA256 == "" {
+			s.Refused[e.File] = true
+			break
+		}
 		s.Hashes[e.SHA256] = true
 		s.Seen[e.SHA256] = append(s.Seen[e.SHA256], e.File)
 	case KindStop:

@@ -80,6 +80,7 @@ type HeldRow struct {
 type Instrument struct {
 	Name, ExportDir, Pattern, HandoffDir string
 	ExportProblem                        string // "" when the export folder can be listed
+	Notices                              []string
 	LastResult                           time.Time
 	LastFile                             string
 	LastHandoff                          time.Time
@@ -263,6 +264,7 @@ func instrument(cfg agent.Config, st *agent.State, entries []agent.Entry) Instru
 	if _, err := os.ReadDir(ic.Watch.Dir); err != nil {
 		in.ExportProblem = err.Error()
 	}
+	in.Notices = agent.Notices(cfg)
 	for _, e := range entries {
 		switch e.Kind {
 		case agent.KindIngest:

@@ -18,6 +18,7 @@ import (
 // cmdRun runs the campaign until SIGINT or SIGTERM.
 func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	includeOld := fs.Bool("include-old", false, "ingest result files older than the watch's max_age too")
 	pos, err := parseFlags(fs, args)
 	if err != nil {
 		return err
@@ -37,7 +38,7 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	for _, w := range cfg.Warnings() {
 		log.Warn().Msg(w)
 	}
-	opt := agent.Options{Logger: log, ConfigPath: pos[0], Tick: cfg.Instrument.LookEvery}
+	opt := agent.Options{Logger: log, ConfigPath: pos[0], Tick: cfg.Instrument.LookEvery, IncludeOld: *includeOld}
 	if cfg.Console.Listen == "" {
 		a, err := agent.New(cfg, opt)
 		if err != nil {

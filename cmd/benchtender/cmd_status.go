@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"path/filepath"
 	"sort"
 	"strings"
 
@@ -32,6 +33,14 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	}
 	for _, h := range agent.Halts(cfg, st) {
 		fmt.Fprintln(stdout, h)
+	}
+	for _, n := range agent.Notices(cfg) {
+		fmt.Fprintln(stdout, "NOTE: "+n)
+	}
+	for _, id := range st.Order {
+		if r := st.Runs[id]; len(r.Files) > 1 {
+			fmt.Fprintf(stdout, "  %s has %d revisions; the latest counts: %s\n", r.ID, len(r.Files), filepath.Base(r.Files[len(r.Files)-1]))
+		}
 	}
 	if st.Stopped != "" {
 		fmt.Fprintf(stdout, "proposals stopped: %s\n", st.Stopped)
