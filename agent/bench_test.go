@@ -125,3 +125,120 @@ func BenchmarkArrivalToHandoff(b *testing.B) {
 		}
 	}
 }
+
+// burstCampaign is a campaign with n runs handed off and awaiting their
+// results, its budget spent (so no planning runs meanwhile), watching
+// with the default settle of 2 s and events on.
+func burstCampaign(b *testing.B, n int) *testCampaign {
+	b.Helper()
+	dir := b.TempDir()
+	for _, s := range []string{"exports", "handoff", "state"} {
+		os.MkdirAll(filepath.Join(dir, s), 0o755)
+	}
+	text := fmt.Sprintf(`[campaign]
+name = "burst"
+state_dir = "state"
+seed = 1
+max_runs = %d
+initial_runs = 5
+[[campaign.factor]]
+name = "x"
+min = 0.0
+max = 1.0
+[campaign.response]
+name = "y"
+goal = "minimise"
+[instrument]
+name = "bench"
+handoff_dir = "handoff"
+format = "f"
+[instrument.watch]
+dir = "exports"
+pattern = "*.csv"
+[formats.f]
+run_id_pattern = "(R[0-9]+)"
+[formats.f.values.y]
+column = "y"
+[safety.limits.x]
+hard_min = 0.0
+hard_max = 1.0
+[log]
+file = ""
+`, n)
+	cfgPath := filepath.Join(dir, "c.toml")
+	os.WriteFile(cfgPath, []byte(text), 0o644)
+	cfg, err := LoadConfig(cfgPath, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	j, _, _, err := OpenJournal(journalPath(cfg.Campaign.StateDir))
+	if err != nil {
+		b.Fatal(err)
+	}
+	pass := safety.Decision{Verdict: safety.Pass}
+	for i := 1; i <= n; i++ {
+		run := fmt.Sprintf("R%05d", i)
+		pt := campaign.Point{float64(i) / float64(n+1)}
+		for _, e := range []Entry{
+			{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass},
+			{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"},
+			{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"},
+		} {
+			if _, err := j.Append(e); err != nil {
+				b.Fatal(err)
+			}
+		}
+	}
+	j.Close()
+	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}
+}
+
+// BenchmarkBurst1000: 1,000 result files dropped into the export folder
+// at once, each answering a run in flight; the time until all 1,000 are
+// in the journal (each read through os.Root, hashed, parsed, archived,
+// journalled and audited with fsync), settle window of 2 s included.
+//
+//	go test ./agent -run XXX -bench Burst1000 -benchtime 3x
+func BenchmarkBurst1000(b *testing.B) {
+	const n = 1000
+	for i := 0; i < b.N; i++ {
+		b.StopTimer()
+		tc := burstCampaign(b, n)
+		ingested := make(chan struct{}, n)
+		a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 50 * time.Millisecond, Notify: func(e Entry) {
+			if e.Kind == KindIngest {
+				ingested <- struct{}{}
+			}
+		}})
+		if err != nil {
+			b.Fatal(err)
+		}
+		ctx, cancel := context.WithCancel(context.Background())
+		done := make(chan error, 1)
+		go func() { done <- a.Run(ctx) }()
+		time.Sleep(200 * time.Millisecond) // started and watching
+		b.StartTimer()
+		for k := 1; k <= n; k++ {
+			run := fmt.Sprintf("R%05d", k)
+			if err := os.WriteFile(filepath.Join(tc.cfg.Instrument.Watch.Dir, run+".csv"), []byte(fmt.Sprintf("run,y\n%s,%d.25\n", run, k)), 0o644); err != nil {
+				b.Fatal(err)
+			}
+		}
+		for k := 0; k < n; k++ {
+			select {
+			case <-ingested:
+			case <-time.After(2 * time.Minute):
+				b.Fatalf("%d of %d ingested", k, n)
+			}
+		}
+		b.StopTimer()
+		cancel()
+		if err := <-done; err != nil {
+			b.Fatal(err)
+		}
+		es, _ := ReadJournal(journalPath(tc.cfg.Campaign.StateDir))
+		if got := len(Replay(es).Trials()); got != n {
+			b.Fatalf("%d runs done, want %d", got, n)
+		}
+	}
+}

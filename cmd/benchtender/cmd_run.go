@@ -15,7 +15,10 @@ import (
 	"benchtender/console"
 )
 
-// cmdRun runs the campaign until SIGINT or SIGTERM.
+// cmdRun runs one or more campaigns in one process until SIGINT or
+// SIGTERM. Every config is checked before anything starts; when one
+// campaign stops with an error, all stop (a service manager restarts the
+// process, and every campaign recovers from its journal).
 func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	includeOld := fs.Bool("include-old", false, "ingest result files older than the watch's max_age too")
@@ -23,55 +26,112 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 	if err != nil {
 		return err
 	}
-	if len(pos) != 1 {
-		return usageError{"run: give one CONFIG file"}
+	if len(pos) == 0 {
+		return usageError{"run: give one or more CONFIG files"}
 	}
-	cfg, err := loadConfig(pos[0])
-	if err != nil {
-		return err
-	}
-	log, closeLog, err := newLogger(cfg, stderr, true)
-	if err != nil {
-		return err
-	}
-	defer closeLog()
-	for _, w := range cfg.Warnings() {
-		log.Warn().Msg(w)
-	}
-	opt := agent.Options{Logger: log, ConfigPath: pos[0], Tick: cfg.Instrument.LookEvery, IncludeOld: *includeOld}
-	if cfg.Console.Listen == "" {
-		a, err := agent.New(cfg, opt)
+	var cfgs []agent.Config
+	for _, p := range pos {
+		cfg, err := loadConfig(p)
 		if err != nil {
 			return err
 		}
-		return a.Run(ctx)
+		cfgs = append(cfgs, cfg)
 	}
-	// The console is part of the daemon: it must bind before the
-	// campaign starts, and when either ends, both do.
-	metrics := console.NewMetrics(cfg)
-	srv, err := console.New(cfg, console.Options{Logger: log, ConfigPath: pos[0], Metrics: metrics})
-	if err != nil {
+	if err := distinctCampaigns(pos, cfgs); err != nil {
 		return err
+	}
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	var runs []func() error
+	for i, cfg := range cfgs {
+		run, closeLog, err := prepareCampaign(ctx, pos[i], cfg, *includeOld, stdout, stderr)
+		if err != nil {
+			return err
+		}
+		defer closeLog()
+		runs = append(runs, run)
+	}
+	errs := make(chan error, len(runs))
+	for _, run := range runs {
+		go func() { errs <- run() }()
+	}
+	var first error
+	for range runs {
+		if err := <-errs; err != nil && first == nil {
+			first = err
+			cancel()
+		}
+	}
+	return first
+}
+
+// distinctCampaigns refuses two configs that share a state folder, an
+// export folder or a handoff folder: each campaign has its own.
+func distinctCampaigns(paths []string, cfgs []agent.Config) error {
+	seen := map[string]string{}
+	for i, c := range cfgs {
+		for what, dir := range map[string]string{"state folder": c.Campaign.StateDir, "export folder": c.Instrument.Watch.Dir, "handoff folder": c.Instrument.HandoffDir} {
+			key := what + "\x00" + filepath.Clean(dir)
+			if other, ok := seen[key]; ok {
+				return configError{fmt.Errorf("%s and %s use the same %s %s; each campaign needs its own", other, paths[i], what, dir)}
+			}
+			seen[key] = paths[i]
+		}
+	}
+	return nil
+}
+
+// prepareCampaign sets up one campaign (its log, its console if any, its
+// agent) and returns the function that runs it until ctx ends.
+func prepareCampaign(ctx context.Context, path string, cfg agent.Config, includeOld bool, stdout, stderr io.Writer) (func() error, func(), error) {
+	log, closeLog, err := newLogger(cfg, stderr, true)
+	if err != nil {
+		return nil, nil, err
+	}
+	log = log.With().Str("campaign", cfg.Campaign.Name).Logger()
+	for _, w := range cfg.Warnings() {
+		log.Warn().Msg(w)
+	}
+	opt := agent.Options{Logger: log, ConfigPath: path, Tick: cfg.Instrument.LookEvery, IncludeOld: includeOld}
+	if cfg.Console.Listen == "" {
+		a, err := agent.New(cfg, opt)
+		if err != nil {
+			closeLog()
+			return nil, nil, err
+		}
+		return func() error { return a.Run(ctx) }, closeLog, nil
+	}
+	// The console is part of the daemon: it binds before the campaign
+	// starts, and when either ends, both do.
+	metrics := console.NewMetrics(cfg)
+	srv, err := console.New(cfg, console.Options{Logger: log, ConfigPath: path, Metrics: metrics})
+	if err != nil {
+		closeLog()
+		return nil, nil, err
 	}
 	if err := srv.Listen(); err != nil {
-		return err
+		closeLog()
+		return nil, nil, err
 	}
 	opt.Notify, opt.Observer = metrics.Entry, metrics
 	a, err := agent.New(cfg, opt)
 	if err != nil {
+		closeLog()
+		return nil, nil, err
+	}
+	fmt.Fprintf(stdout, "console of %s: http://%s/\n", cfg.Campaign.Name, srv.Addr())
+	return func() error {
+		cctx, cancel := context.WithCancel(ctx)
+		defer cancel()
+		served := make(chan error, 1)
+		go func() { served <- srv.Serve(cctx) }()
+		err := a.Run(cctx)
+		cancel()
+		if serr := <-served; err == nil && serr != nil && !errors.Is(serr, context.Canceled) {
+			err = serr
+		}
 		return err
-	}
-	fmt.Fprintf(stdout, "console: http://%s/\n", srv.Addr())
-	ctx, cancel := context.WithCancel(ctx)
-	defer cancel()
-	served := make(chan error, 1)
-	go func() { served <- srv.Serve(ctx) }()
-	err = a.Run(ctx)
-	cancel()
-	if serr := <-served; err == nil && serr != nil && !errors.Is(serr, context.Canceled) {
-		err = serr
-	}
-	return err
+	}, closeLog, nil
 }
 
 // newLogger returns a logger writing JSON lines to the configured log file

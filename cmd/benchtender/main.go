@@ -5,7 +5,7 @@
 // Usage:
 //
 //	benchtender check CONFIG            validate a configuration file
-//	benchtender run [--include-old] CONFIG   run the campaign (the daemon)
+//	benchtender run [--include-old] CONFIG...   run the campaigns (the daemon)
 //	benchtender holds [--config C]      list moves held for sign-off
 //	benchtender approve RUN --by ID --name NAME --reason TEXT [--set f=v] [--config C]
 //	benchtender reject RUN --by ID --name NAME --reason TEXT [--config C]
@@ -74,7 +74,7 @@ func exitCode(err error, stderr io.Writer) int {
 
 const usage = `usage:
   benchtender check CONFIG
-  benchtender run [--include-old] CONFIG
+  benchtender run [--include-old] CONFIG [CONFIG...]
   benchtender holds [--config CONFIG]
   benchtender approve RUN --by ID --name NAME --reason TEXT [--set f=v,...] [--config CONFIG]
   benchtender reject RUN --by ID --name NAME --reason TEXT [--config CONFIG]

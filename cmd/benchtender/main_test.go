@@ -116,7 +116,7 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	}
 	// The daemon serves its console: the held move is on the holds
 	// page and counted in the metrics.
-	addr := regexp.MustCompile(`console: (http://127\.0\.0\.1:[0-9]+/)`).FindStringSubmatch(logs.String())
+	addr := regexp.MustCompile(`console of [a-z_0-9]+: (http://127\.0\.0\.1:[0-9]+/)`).FindStringSubmatch(logs.String())
 	if addr == nil {
 		t.Fatalf("the daemon did not say where its console is:\n%s", logs.String())
 	}

@@ -1,0 +1,71 @@
+package main
+
+import (
+	"context"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"runtime"
+	"strconv"
+	"strings"
+	"testing"
+
+	"benchtender/agent"
+)
+
+// The export folder read-only, as a share exported read-only would be: it
+// is bind-mounted read-only inside a user and mount namespace of this
+// test's own, where the real binary runs the demo campaign; the simulated
+// instrument, outside, writes its results into the same folder. Every
+// result is ingested and the export folder holds nothing of the agent's.
+func TestReadOnlyExportFolder(t *testing.T) {
+	if testing.Short() || runtime.GOOS != "linux" {
+		t.Skip("needs Linux namespaces")
+	}
+	if out, err := exec.Command("unshare", "--user", "--map-root-user", "--mount", "true").CombinedOutput(); err != nil {
+		t.Skipf("cannot make a user and mount namespace here (%v: %s)", err, out)
+	}
+	bin := binary(t)
+	dir := t.TempDir()
+	const runs = 8
+	cfgPath, cfg, instr := unattendedCampaign(t, dir, runs, 5)
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	go instr.Run(ctx)
+	script := `set -eu
+mount --bind "$EXPORTS" "$EXPORTS"
+mount -o remount,bind,ro "$EXPORTS"
+if touch "$EXPORTS/.probe" 2>/dev/null; then echo "export folder still writable"; exit 3; fi
+"$BIN" run "$CFG" > "$LOG" 2>&1 &
+pid=$!
+for i in $(seq 1 300); do
+  n=$(grep -c '"kind":"ingest"' "$JOURNAL" 2>/dev/null || true)
+  [ "${n:-0}" -ge "$RUNS" ] && break
+  sleep 0.1
+done
+kill -TERM $pid
+wait $pid
+`
+	logPath := filepath.Join(t.TempDir(), "agent.log")
+	cmd := exec.Command("unshare", "--user", "--map-root-user", "--mount", "bash", "-c", script)
+	cmd.Env = append(os.Environ(), "EXPORTS="+cfg.Instrument.Watch.Dir, "BIN="+bin, "CFG="+cfgPath, "LOG="+logPath,
+		"JOURNAL="+filepath.Join(cfg.Campaign.StateDir, "journal.log"), "RUNS="+strconv.Itoa(runs))
+	if b, err := cmd.CombinedOutput(); err != nil {
+		logs, _ := os.ReadFile(logPath)
+		t.Fatalf("namespace script: %v\n%s\n%s", err, b, tail(string(logs), 3000))
+	}
+	es, err := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := len(agent.Replay(es).Trials()); n != runs {
+		logs, _ := os.ReadFile(logPath)
+		t.Fatalf("%d of %d runs done with a read-only export folder\n%s", n, runs, tail(string(logs), 3000))
+	}
+	des, _ := os.ReadDir(cfg.Instrument.Watch.Dir)
+	for _, d := range des {
+		if !strings.HasSuffix(d.Name(), ".csv") {
+			t.Errorf("export folder holds %s", d.Name())
+		}
+	}
+}
