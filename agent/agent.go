@@ -72,7 +72,7 @@ type Agent struct {
 	cfg     Config
 	opt     Options
 	log     zerolog.Logger
-	parser  parsers.Parser
+	parsers []parsers.Parser // one per instrument
 	planner *planner.Planner
 
 	journal  *Journal
@@ -91,7 +91,8 @@ type Agent struct {
 	storage   string       // why the journal cannot be written now ("" when it can)
 	retry     []watch.File // result files to ingest once it can
 
-	folderLost bool // the export folder is lost, as last reported
+	folderLost map[string]bool        // export folders lost, as last reported
+	watchState map[string]WatchStatus // by export folder, as written to watch.json
 
 	refusals   int       // consecutive gate refusals
 	planAfter  time.Time // earliest next planning attempt after an error
@@ -117,12 +118,21 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		return nil, fmt.Errorf("agent: invalid config: %w", err)
 	}
 	cfg.Campaign.Factors = cfg.Campaign.Factors.Normalised()
-	p, err := opt.Registry.New(cfg.Spec())
-	if err != nil {
-		return nil, fmt.Errorf("agent: parser: %w", err)
+	if !cfg.listed {
+		// One [instrument] section: it is the truth (callers may have
+		// edited it after loading).
+		cfg.Instruments = []InstrumentConfig{cfg.Instrument}
+	}
+	var ps []parsers.Parser
+	for _, ic := range cfg.Instruments {
+		p, err := opt.Registry.New(cfg.Formats[ic.Format])
+		if err != nil {
+			return nil, fmt.Errorf("agent: parser of instrument %s: %w", ic.Name, err)
+		}
+		ps = append(ps, p)
 	}
 	a := &Agent{
-		cfg: cfg, opt: opt, parser: p,
+		cfg: cfg, opt: opt, parsers: ps, folderLost: map[string]bool{}, watchState: map[string]WatchStatus{},
 		log:        opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
 		planner:    planner.New(cfg.Campaign, cfg.Planner),
 		incomplete: map[string]waiting{},
@@ -165,33 +175,47 @@ func (a *Agent) Run(ctx context.Context) error {
 
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
-	w, err := watch.New(a.cfg.Instrument.Watch, a.opt.Logger, a.opt.Now)
-	if err != nil {
-		return fmt.Errorf("agent: %w", err)
+	folders := make(chan watch.FolderState, 4)
+	files := make(chan watch.File)
+	var watchers []*watch.Watcher
+	for _, ic := range a.cfg.Instruments {
+		w, err := watch.New(ic.Watch, a.opt.Logger.With().Str("instrument", ic.Name).Logger(), a.opt.Now)
+		if err != nil {
+			return fmt.Errorf("agent: instrument %s: %w", ic.Name, err)
+		}
+		if a.opt.Observer != nil {
+			w.Trouble = a.opt.Observer.WatchTrouble
+		}
+		w.IncludeOld = a.opt.IncludeOld
+		w.Folder = func(fs watch.FolderState) {
+			select {
+			case folders <- fs:
+			case <-ctx.Done():
+			}
+		}
+		a.watchState[filepath.Clean(ic.Watch.Dir)] = WatchStatus{Instrument: ic.Name, Dir: ic.Watch.Dir, OK: true, Since: a.opt.Now().UTC()}
+		watchers = append(watchers, w)
 	}
-	if a.opt.Observer != nil {
-		w.Trouble = a.opt.Observer.WatchTrouble
-	}
-	w.IncludeOld = a.opt.IncludeOld
-	if err := writeWatchStatus(a.cfg.Campaign.StateDir, WatchStatus{Dir: a.cfg.Instrument.Watch.Dir, OK: true, Since: a.opt.Now().UTC()}); err != nil {
+	if err := writeWatchStatus(a.cfg.Campaign.StateDir, a.watchState); err != nil {
 		a.log.Warn().Err(err).Msg("cannot write the watch status file")
 	}
-	folders := make(chan watch.FolderState, 4)
-	w.Folder = func(fs watch.FolderState) {
-		select {
-		case folders <- fs:
-		case <-ctx.Done():
-		}
+	watchDone := make(chan error, len(watchers))
+	for _, w := range watchers {
+		go func() { watchDone <- w.Run(ctx, files) }()
 	}
-	files := make(chan watch.File)
-	watchDone := make(chan error, 1)
-	go func() { watchDone <- w.Run(ctx, files) }()
-	defer func() { cancel(); <-watchDone }()
+	defer func() {
+		cancel()
+		for range watchers {
+			<-watchDone
+		}
+	}()
 
 	tick := time.NewTicker(a.opt.Tick)
 	defer tick.Stop()
-	a.log.Info().Int("runs", len(a.state.Order)).Int("handoffs", a.state.Handoffs).
-		Str("export_dir", a.cfg.Instrument.Watch.Dir).Str("handoff_dir", a.cfg.Instrument.HandoffDir).Msg("campaign started")
+	for _, ic := range a.cfg.Instruments {
+		a.log.Info().Str("instrument", ic.Name).Str("export_dir", ic.Watch.Dir).Str("handoff_dir", ic.HandoffDir).Msg("watching")
+	}
+	a.log.Info().Int("runs", len(a.state.Order)).Int("handoffs", a.state.Handoffs).Int("instruments", len(a.cfg.Instruments)).Msg("campaign started")
 	for {
 		if a.storage != "" {
 			a.tryRecover()
@@ -247,8 +271,10 @@ func (a *Agent) open() error {
 		return fmt.Errorf("agent: %w", err)
 	}
 	a.unlock = unlock
-	if fi, err := os.Stat(a.cfg.Instrument.HandoffDir); err != nil || !fi.IsDir() {
-		return fmt.Errorf("agent: handoff folder %s does not exist or is not a folder", a.cfg.Instrument.HandoffDir)
+	for _, ic := range a.cfg.Instruments {
+		if fi, err := os.Stat(ic.HandoffDir); err != nil || !fi.IsDir() {
+			return fmt.Errorf("agent: handoff folder %s of instrument %s does not exist or is not a folder", ic.HandoffDir, ic.Name)
+		}
 	}
 	audit, tornAudit, err := openAudit(auditPath(sd))
 	if err != nil {
@@ -298,16 +324,22 @@ func (a *Agent) open() error {
 	// What the handoff folder's temp files held, by target name, is read
 	// before they are swept: a temp file carrying an unconfirmed
 	// handoff's action id proves its rename never happened.
-	swept := map[string][]string{}
-	for _, dir := range []string{a.cfg.Instrument.HandoffDir, sd, inboxDir(sd), filepath.Join(sd, "quarantine")} {
+	swept := map[string][]string{} // by the target's full path
+	dirs := []string{sd, inboxDir(sd), filepath.Join(sd, "quarantine")}
+	handoffDirs := map[string]bool{}
+	for _, ic := range a.cfg.Instruments {
+		dirs = append(dirs, ic.HandoffDir)
+		handoffDirs[ic.HandoffDir] = true
+	}
+	for _, dir := range dirs {
 		removed, err := sweepTemp(dir)
 		if err != nil && !errors.Is(err, os.ErrNotExist) {
 			a.log.Warn().Err(err).Str("dir", dir).Msg("cannot sweep temp files")
 		}
 		for _, t := range removed {
 			a.log.Info().Str("file", filepath.Join(dir, t.name)).Msg("removed a temp file left by an earlier run")
-			if dir == a.cfg.Instrument.HandoffDir {
-				target := tempTarget(t.name)
+			if handoffDirs[dir] {
+				target := filepath.Join(dir, tempTarget(t.name))
 				swept[target] = append(swept[target], t.head)
 			}
 		}
@@ -326,10 +358,10 @@ func (a *Agent) recoverHandoffs(swept map[string][]string) error {
 		if r.Confirmed || r.ActionID == "" {
 			continue
 		}
-		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
-		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
+		ic := a.cfg.Instruments[a.instrumentNamed(r.Instrument)]
+		path := filepath.Join(ic.HandoffDir, handoffName(r.ID, ic.HandoffFormat))
 		data, err := os.ReadFile(path)
-		staged := slices.ContainsFunc(swept[name], func(head string) bool { return strings.Contains(head, r.ActionID) })
+		staged := slices.ContainsFunc(swept[path], func(head string) bool { return strings.Contains(head, r.ActionID) })
 		switch {
 		case err == nil && strings.Contains(string(data), r.ActionID):
 			if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "found in place after a restart"}); err != nil {
@@ -409,23 +441,26 @@ func (a *Agent) halted() string {
 	return ""
 }
 
-// noteFolder records what the watcher says of the export folder: the
+// noteFolder records what a watcher says of its export folder: the
 // current state in state/watch.json (status and the console read it),
 // losses and returns in the audit trail.
 func (a *Agent) noteFolder(fs watch.FolderState) error {
-	ws := WatchStatus{Dir: fs.Dir, OK: fs.OK, Polling: fs.Polling, Since: a.opt.Now().UTC()}
+	dir := filepath.Clean(fs.Dir)
+	ws := a.watchState[dir]
+	ws.Dir, ws.OK, ws.Polling, ws.Since, ws.Problem = fs.Dir, fs.OK, fs.Polling, a.opt.Now().UTC(), ""
 	if fs.Err != nil {
 		ws.Problem = fs.Err.Error()
 	}
-	if err := writeWatchStatus(a.cfg.Campaign.StateDir, ws); err != nil {
+	a.watchState[dir] = ws
+	if err := writeWatchStatus(a.cfg.Campaign.StateDir, a.watchState); err != nil {
 		a.log.Warn().Err(err).Msg("cannot write the watch status file")
 	}
 	switch {
 	case !fs.OK:
-		a.folderLost = true
+		a.folderLost[dir] = true
 		return a.auditNote(noteFolderLost, fs.Dir, fs.Err.Error())
-	case a.folderLost || fs.Replaced:
-		a.folderLost = false
+	case a.folderLost[dir] || fs.Replaced:
+		delete(a.folderLost, dir)
 		why := "readable again"
 		if fs.Replaced {
 			why = "back as another folder (recreated or mounted again); watching it now"
@@ -433,6 +468,59 @@ func (a *Agent) noteFolder(fs watch.FolderState) error {
 		return a.auditNote(noteFolderBack, fs.Dir, why)
 	}
 	return nil
+}
+
+// instrumentOf is the index of the instrument whose export folder holds
+// path (the first instrument when none does).
+func (a *Agent) instrumentOf(path string) int {
+	for i, ic := range a.cfg.Instruments {
+		if rel, err := filepath.Rel(ic.Watch.Dir, path); err == nil && filepath.IsLocal(rel) {
+			return i
+		}
+	}
+	return 0
+}
+
+// instrumentNamed is the index of the named instrument; runs journalled
+// before instruments had names belong to the first.
+func (a *Agent) instrumentNamed(name string) int {
+	for i, ic := range a.cfg.Instruments {
+		if ic.Name == name {
+			return i
+		}
+	}
+	return 0
+}
+
+// inFlightOn returns the runs handed off to instrument i and awaiting
+// their results, oldest first.
+func (a *Agent) inFlightOn(i int) []*Run {
+	var out []*Run
+	for _, r := range a.state.InFlight() {
+		if a.instrumentNamed(r.Instrument) == i {
+			out = append(out, r)
+		}
+	}
+	return out
+}
+
+// previous is the setpoint the gate judges a new move against: the last
+// one handed off to the instrument that would take the next setpoint.
+func (a *Agent) previous() campaign.Point {
+	return a.state.lastOn(a.cfg.Instruments[a.pickInstrument()].Name, len(a.cfg.Instruments) == 1)
+}
+
+// pickInstrument chooses where the next setpoint goes: the instrument
+// with the fewest runs in flight (the first of them on a tie), so that
+// each is kept busy and none gets a queue while another idles.
+func (a *Agent) pickInstrument() int {
+	best, load := 0, -1
+	for i := range a.cfg.Instruments {
+		if n := len(a.inFlightOn(i)); load < 0 || n < load {
+			best, load = i, n
+		}
+	}
+	return best
 }
 
 // Audit notes about the export folder.
@@ -475,7 +563,8 @@ func (a *Agent) ingest(f watch.File) error {
 		log.Info().Str("same_as", seen[0]).Msg("duplicate result file: same content as one already recorded")
 		return a.record(Entry{Kind: KindDuplicate, File: path, SHA256: sha, Reason: "same content as " + seen[0]})
 	}
-	rec, err := a.parser.Parse(path, data)
+	inst := a.instrumentOf(path)
+	rec, err := a.parsers[inst].Parse(path, data)
 	if errors.Is(err, parsers.ErrIncomplete) {
 		w, seen := a.incomplete[path]
 		if !seen {
@@ -483,7 +572,7 @@ func (a *Agent) ingest(f watch.File) error {
 			a.incomplete[path] = w
 		}
 		first := w.first
-		timeout := a.cfg.Spec().IncompleteTimeout
+		timeout := a.cfg.Formats[a.cfg.Instruments[inst].Format].IncompleteTimeout
 		if a.opt.Now().Sub(first) < timeout {
 			if !seen {
 				log.Info().Err(err).Dur("timeout", timeout).Msg("result file is not complete yet; waiting")
@@ -502,8 +591,8 @@ func (a *Agent) ingest(f watch.File) error {
 	}
 	if rec.RunID == "" {
 		// The instrument writes no run id: the result answers the oldest
-		// setpoint handed off and still unanswered.
-		inflight := a.state.InFlight()
+		// setpoint handed off to it and still unanswered.
+		inflight := a.inFlightOn(inst)
 		if len(inflight) == 0 {
 			return a.refuseFile(path, sha, data, "the file names no run and no handed-off run is waiting for a result")
 		}
@@ -599,9 +688,12 @@ func (a *Agent) handoffReady() error {
 		if !a.rateAllows() {
 			return nil
 		}
+		inst := a.pickInstrument()
+		ic := a.cfg.Instruments[inst]
 		sp := campaign.Setpoint{RunID: r.ID, Point: r.Point}
-		// Gate once more right before writing: fail closed.
-		d := a.gate.Check(sp, a.state.LastHandoff)
+		// Gate once more right before writing, against the setpoint this
+		// instrument last ran: fail closed.
+		d := a.gate.Check(sp, a.state.lastOn(ic.Name, len(a.cfg.Instruments) == 1))
 		if d.Verdict == safety.Refuse {
 			a.log.Error().Str("run", r.ID).Str("gate", d.Summary()).Msg("not handed off: the gate refuses it")
 			if err := a.record(Entry{Kind: KindRegate, Run: r.ID, Decision: &d, Reason: "refused when about to be handed off"}); err != nil {
@@ -618,25 +710,25 @@ func (a *Agent) handoffReady() error {
 			}
 			continue
 		}
-		name := handoffName(r.ID, a.cfg.Instrument.HandoffFormat)
-		path := filepath.Join(a.cfg.Instrument.HandoffDir, name)
+		name := handoffName(r.ID, ic.HandoffFormat)
+		path := filepath.Join(ic.HandoffDir, name)
 		// Three steps, each durable before the next: the file is staged
 		// under a temp name with the action id it carries, the intent is
 		// journalled, the file is renamed into place. A crash between any
 		// two is settled at restart without ever sending a run twice,
 		// and no file reaches the instrument unrecorded.
 		action := fmt.Sprintf("%s-%d", r.ID, a.journal.seq+1)
-		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, a.cfg.Instrument.HandoffFormat, action)
+		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, ic.HandoffFormat, action)
 		if err != nil {
 			a.log.Error().Err(err).Str("run", r.ID).Msg("cannot render the setpoint file; no setpoint written")
 			continue
 		}
-		st, err := a.write(a.cfg.Instrument.HandoffDir, name, data)
+		st, err := a.write(ic.HandoffDir, name, data)
 		if err != nil {
 			a.writeFailed(r.ID, err)
 			return nil
 		}
-		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point, ActionID: action}); err != nil {
+		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point, ActionID: action, Instrument: ic.Name}); err != nil {
 			st.Abort()
 			return err
 		}
@@ -695,7 +787,7 @@ func (a *Agent) plan(ctx context.Context) error {
 		busy -= len(st.Held())
 		region = a.cfg.Safety.ReviewBox(a.cfg.Campaign.Factors)
 	}
-	if busy >= a.cfg.Planner.Batch {
+	if busy >= max(a.cfg.Planner.Batch, len(a.cfg.Instruments)) {
 		return nil
 	}
 	if a.spent() >= a.cfg.Campaign.MaxRuns {
@@ -736,7 +828,7 @@ func (a *Agent) plan(ctx context.Context) error {
 		a.planAfter = a.opt.Now().Add(backoff(a.planErrs))
 		return nil
 	}
-	d := a.gate.Check(prop.Setpoint, a.state.LastHandoff)
+	d := a.gate.Check(prop.Setpoint, a.previous())
 	e := Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d, Limits: d.Limits}
 	if d.Verdict == safety.Hold && region == nil {
 		// Show the person signing off what would run inside the limits.

@@ -21,12 +21,15 @@ const maxResultFile = 64 << 20
 func (a *Agent) readExport(f watch.File) ([]byte, error) {
 	rel := f.Rel
 	if rel == "" {
-		rel = filepath.Base(f.Path)
+		var err error
+		if rel, err = filepath.Rel(a.cfg.Instruments[a.instrumentOf(f.Path)].Watch.Dir, f.Path); err != nil {
+			return nil, fmt.Errorf("read %s: %w", watch.Quote(f.Path), err)
+		}
 	}
 	if !filepath.IsLocal(rel) {
 		return nil, fmt.Errorf("read %s: %q is not a path inside the export folder", watch.Quote(f.Path), rel)
 	}
-	root, err := os.OpenRoot(a.cfg.Instrument.Watch.Dir)
+	root, err := os.OpenRoot(a.cfg.Instruments[a.instrumentOf(f.Path)].Watch.Dir)
 	if err != nil {
 		return nil, fmt.Errorf("read %s: %w", watch.Quote(f.Path), err)
 	}

@@ -25,6 +25,13 @@ type Config struct {
 	Campaign   campaign.Config  `toml:"campaign"`
 	Planner    planner.Config   `toml:"planner"`
 	Instrument InstrumentConfig `toml:"instrument"`
+	// Instruments are all the campaign's instruments: the [instrument]
+	// section alone, or every [[instruments]] entry (several instruments
+	// running the same campaign, each with its own folders). Instrument
+	// is then the first of them.
+	Instruments []InstrumentConfig `toml:"-"`
+	listed      bool               // the file has [[instruments]]
+	hadSingle   bool               // the file has [instrument]
 	// Formats are the named parser specs instruments refer to.
 	Formats map[string]parsers.Spec `toml:"-"`
 	Safety  safety.Config           `toml:"safety"`
@@ -105,8 +112,12 @@ type InstrumentConfig struct {
 	LookEvery time.Duration `toml:"look_every"`
 }
 
-// Spec returns the parser spec of the instrument's format.
+// Spec returns the parser spec of the (first) instrument's format.
 func (c Config) Spec() parsers.Spec { return c.Formats[c.Instrument.Format] }
+
+func defaultInstrument() InstrumentConfig {
+	return InstrumentConfig{HandoffFormat: HandoffCSV, Watch: watch.Default()}
+}
 
 // LogConfig is the [log] section.
 type LogConfig struct {
@@ -122,7 +133,7 @@ func DefaultConfig() Config {
 	return Config{
 		Campaign:   campaign.DefaultConfig(),
 		Planner:    planner.Default(),
-		Instrument: InstrumentConfig{HandoffFormat: HandoffCSV, Watch: watch.Default()},
+		Instrument: defaultInstrument(),
 		Safety:     safety.Default(),
 		Log:        LogConfig{File: "benchtender.log", Level: "info"},
 	}
@@ -137,7 +148,7 @@ func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	}
 	ps = append(ps, c.Planner.Validate().Prefix("planner")...)
 	ps = append(ps, c.Planner.ValidateFor(c.Campaign.Factors).Prefix("planner")...)
-	ps = append(ps, c.Instrument.validate().Prefix("instrument")...)
+	ps = append(ps, c.validateInstruments()...)
 	ps = append(ps, c.validateFormats(reg)...)
 	ps = append(ps, c.Safety.Validate(c.Campaign.Factors).Prefix("safety")...)
 	ps = append(ps, c.Console.validate().Prefix("console")...)
@@ -183,12 +194,67 @@ func (c Config) validateFormats(reg *parsers.Registry) campaign.Problems {
 	for _, n := range names {
 		ps = append(ps, c.Formats[n].Validate(reg).Prefix("formats."+n)...)
 	}
-	spec, ok := c.Formats[c.Instrument.Format]
+	for i, ic := range c.Instruments {
+		ps = append(ps, c.validateUse(ic, instrumentKey(c, i), names)...)
+	}
+	return ps
+}
+
+// instrumentKey is the config key of instrument i.
+func instrumentKey(c Config, i int) string {
+	if c.multi() {
+		return fmt.Sprintf("instruments[%d]", i)
+	}
+	return "instrument"
+}
+
+// multi reports whether the file lists [[instruments]].
+func (c Config) multi() bool { return c.listed }
+
+// validateInstruments checks each instrument and that no two share a
+// name or a folder.
+func (c Config) validateInstruments() campaign.Problems {
+	var ps campaign.Problems
+	if c.listed && c.hadSingle {
+		ps.Add("instruments", "give either one [instrument] section or [[instruments]] entries, not both")
+	}
+	if len(c.Instruments) == 0 {
+		ps.Add("instrument", "the campaign needs an instrument")
+	}
+	names := map[string]int{}
+	dirs := map[string]string{}
+	for i, ic := range c.Instruments {
+		key := instrumentKey(c, i)
+		ps = append(ps, ic.validate().Prefix(key)...)
+		if j, ok := names[ic.Name]; ok {
+			ps.Add(key+".name", "%q is also the name of instruments[%d]", ic.Name, j)
+		}
+		names[ic.Name] = i
+		for what, d := range map[string]string{"handoff_dir": ic.HandoffDir, "watch.dir": ic.Watch.Dir} {
+			if d == "" {
+				continue
+			}
+			d = filepath.Clean(d)
+			if other, ok := dirs[d]; ok && other != key+"."+what {
+				ps.Add(key+"."+what, "%s is also %s: each instrument needs its own folders", d, other)
+			}
+			dirs[d] = key + "." + what
+		}
+	}
+	return ps
+}
+
+// validateUse checks an instrument's use of its format: the response is
+// one of its values, in the response's unit, and factor echoes name real
+// factors.
+func (c Config) validateUse(ic InstrumentConfig, ikey string, names []string) campaign.Problems {
+	var ps campaign.Problems
+	spec, ok := c.Formats[ic.Format]
 	if !ok {
-		ps.Add("instrument.format", "no format %q in [formats] (have %v)", c.Instrument.Format, names)
+		ps.Add(ikey+".format", "no format %q in [formats] (have %v)", ic.Format, names)
 		return ps
 	}
-	key := "formats." + c.Instrument.Format
+	key := "formats." + ic.Format
 	resp := c.Campaign.Response
 	_, isValue := spec.Values[resp.Name]
 	_, isDerived := spec.Derived[resp.Name]
@@ -268,7 +334,8 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 	}
 	cfg := DefaultConfig()
 	var raw struct {
-		Formats map[string]toml.Primitive `toml:"formats"`
+		Formats     map[string]toml.Primitive `toml:"formats"`
+		Instruments []toml.Primitive          `toml:"instruments"`
 	}
 	md, err := toml.Decode(string(data), &cfg)
 	if err == nil {
@@ -286,6 +353,23 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 			cfg.Formats[name] = spec
 		}
 	}
+	if err == nil {
+		cfg.hadSingle = md.IsDefined("instrument")
+		cfg.Instruments = nil
+		for _, prim := range raw.Instruments {
+			ic := defaultInstrument()
+			if err = md.PrimitiveDecode(prim, &ic); err != nil {
+				break
+			}
+			cfg.Instruments = append(cfg.Instruments, ic)
+		}
+		cfg.listed = len(raw.Instruments) > 0
+		if cfg.listed {
+			cfg.Instrument = cfg.Instruments[0]
+		} else if cfg.hadSingle {
+			cfg.Instruments = []InstrumentConfig{cfg.Instrument}
+		}
+	}
 	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
@@ -298,6 +382,9 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 	for _, k := range md.Undecoded() {
 		if len(k) <= 2 && len(k) > 0 && k[0] == "formats" {
 			continue // the format tables themselves, decoded one by one above
+		}
+		if len(k) == 1 && k[0] == "instruments" {
+			continue // decoded one by one above
 		}
 		key := k.String()
 		out = append(out, LocatedProblem{Line: lines.line(key), Problem: campaign.Problem{Key: key, Message: "unknown key"}})
@@ -323,8 +410,13 @@ func (c *Config) resolve(base string) {
 		return filepath.Join(base, p)
 	}
 	c.Campaign.StateDir = abs(c.Campaign.StateDir)
-	c.Instrument.HandoffDir = abs(c.Instrument.HandoffDir)
-	c.Instrument.Watch.Dir = abs(c.Instrument.Watch.Dir)
+	for i := range c.Instruments {
+		c.Instruments[i].HandoffDir = abs(c.Instruments[i].HandoffDir)
+		c.Instruments[i].Watch.Dir = abs(c.Instruments[i].Watch.Dir)
+	}
+	if len(c.Instruments) > 0 {
+		c.Instrument = c.Instruments[0]
+	}
 	c.Console.TokensFile = abs(c.Console.TokensFile)
 	if c.Log.File != "" && !filepath.IsAbs(c.Log.File) {
 		c.Log.File = filepath.Join(c.Campaign.StateDir, c.Log.File)

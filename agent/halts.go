@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"sort"
 	"time"
 )
 
@@ -41,49 +42,58 @@ func Halts(cfg Config, st *State) []string {
 	return out
 }
 
-// WatchStatus is the export folder's state as the running agent last
-// saw it (state/watch.json).
+// WatchStatus is an export folder's state as the running agent last saw
+// it (state/watch.json holds one per instrument).
 type WatchStatus struct {
-	Dir     string    `json:"dir"`
-	OK      bool      `json:"ok"`
-	Problem string    `json:"problem,omitempty"`
-	Polling string    `json:"polling,omitempty"` // why file events are off
-	Since   time.Time `json:"since"`
+	Instrument string    `json:"instrument,omitempty"`
+	Dir        string    `json:"dir"`
+	OK         bool      `json:"ok"`
+	Problem    string    `json:"problem,omitempty"`
+	Polling    string    `json:"polling,omitempty"` // why file events are off
+	Since      time.Time `json:"since"`
 }
 
 func watchStatusPath(stateDir string) string { return filepath.Join(stateDir, "watch.json") }
 
-func writeWatchStatus(stateDir string, ws WatchStatus) error {
-	b, err := json.Marshal(ws)
+func writeWatchStatus(stateDir string, byDir map[string]WatchStatus) error {
+	list := make([]WatchStatus, 0, len(byDir))
+	for _, ws := range byDir {
+		list = append(list, ws)
+	}
+	sort.Slice(list, func(i, j int) bool { return list[i].Dir < list[j].Dir })
+	b, err := json.MarshalIndent(list, "", "  ")
 	if err != nil {
 		return err
 	}
 	return writeFileAtomic(stateDir, "watch.json", b, 0o644)
 }
 
-// ReadWatchStatus returns the watch status the agent last wrote.
-func ReadWatchStatus(cfg Config) (WatchStatus, error) {
-	var ws WatchStatus
+// ReadWatchStatus returns the watch status the agent last wrote, one per
+// export folder.
+func ReadWatchStatus(cfg Config) ([]WatchStatus, error) {
+	var list []WatchStatus
 	b, err := os.ReadFile(watchStatusPath(cfg.Campaign.StateDir))
 	if err != nil {
-		return ws, err
+		return nil, err
 	}
-	return ws, json.Unmarshal(b, &ws)
+	return list, json.Unmarshal(b, &list)
 }
 
-// Notices says what is wrong without halting handoffs: the export folder
+// Notices says what is wrong without halting handoffs: an export folder
 // lost, file events off (only the scan finds files).
 func Notices(cfg Config) []string {
-	ws, err := ReadWatchStatus(cfg)
+	list, err := ReadWatchStatus(cfg)
 	if err != nil {
 		return nil
 	}
 	var out []string
-	if !ws.OK {
-		out = append(out, fmt.Sprintf("export folder %s lost since %s: %s (looking again with back-off)", ws.Dir, ws.Since.Format(time.RFC3339), ws.Problem))
-	}
-	if ws.Polling != "" {
-		out = append(out, fmt.Sprintf("file events off since %s: %s; the scan alone finds files (every %v)", ws.Since.Format(time.RFC3339), ws.Polling, cfg.Instrument.Watch.Rescan))
+	for _, ws := range list {
+		if !ws.OK {
+			out = append(out, fmt.Sprintf("export folder %s lost since %s: %s (looking again with back-off)", ws.Dir, ws.Since.Format(time.RFC3339), ws.Problem))
+		}
+		if ws.Polling != "" {
+			out = append(out, fmt.Sprintf("file events off for %s since %s: %s; the scan alone finds files", ws.Dir, ws.Since.Format(time.RFC3339), ws.Polling))
+		}
 	}
 	return out
 }

@@ -90,6 +90,8 @@ type Entry struct {
 	// ActionID names one handoff; the setpoint file carries it, so that
 	// after a crash the journal can tell whether the file was written.
 	ActionID string `json:"action_id,omitempty"`
+	// Instrument names the instrument a run was handed off to.
+	Instrument string `json:"instrument,omitempty"`
 }
 
 // castagnoli is the CRC-32C table (RFC 3720, appendix B.4).

@@ -101,7 +101,7 @@ func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
 	}
 	// The gate checks the move again, edited or not: the limits apply to
 	// what is approved, and nothing refused can be signed through.
-	d := a.gate.Check(campaign.Setpoint{RunID: r.ID, Point: point}, a.state.LastHandoff)
+	d := a.gate.Check(campaign.Setpoint{RunID: r.ID, Point: point}, a.previous())
 	if d.Verdict == safety.Refuse {
 		return Entry{}, "the gate refuses the move: " + d.Summary()
 	}

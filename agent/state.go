@@ -52,6 +52,9 @@ type Run struct {
 	// was seen in place.
 	ActionID  string
 	Confirmed bool
+	// Instrument is the instrument the run was handed off to ("" in
+	// journals from before instruments were named: the first one).
+	Instrument string
 }
 
 // State is the campaign as replayed from its journal.
@@ -74,14 +77,16 @@ type State struct {
 	Ingests int
 	// Requests holds the sign-off requests already used.
 	Requests map[string]bool
-	// LastHandoff is the setpoint most recently handed off.
+	// LastHandoff is the setpoint most recently handed off; LastOn the
+	// one most recently handed off to each instrument, by name.
 	LastHandoff campaign.Point
+	LastOn      map[string]campaign.Point
 	// HandoffTimes are the times of the handoffs, oldest first.
 	HandoffTimes []time.Time
 }
 
 func newState() *State {
-	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}, Seen: map[string][]string{}, Refused: map[string]bool{}}
+	return &State{Runs: map[string]*Run{}, Hashes: map[string]bool{}, Requests: map[string]bool{}, Seen: map[string][]string{}, Refused: map[string]bool{}, LastOn: map[string]campaign.Point{}}
 }
 
 // Replay builds the state from journal entries.
@@ -170,8 +175,9 @@ func (s *State) apply(e Entry) {
 	case KindHandoff:
 		s.Handoffs++
 		r := s.run(e.Run)
-		r.Status, r.ActionID, r.Confirmed = StatusHanded, e.ActionID, false
+		r.Status, r.ActionID, r.Confirmed, r.Instrument = StatusHanded, e.ActionID, false, e.Instrument
 		s.LastHandoff = e.Point
+		s.LastOn[e.Instrument] = e.Point
 		s.HandoffTimes = append(s.HandoffTimes, e.Time)
 	case KindHandoffOK:
 		s.run(e.Run).Confirmed = true
@@ -271,6 +277,16 @@ func (s *State) FailedPoints() []campaign.Point { return s.points(StatusFailed) 
 // Avoid returns the setpoints a person rejected or the gate refused.
 func (s *State) Avoid() []campaign.Point {
 	return s.points(StatusRejected, StatusRefused, StatusExpired)
+}
+
+// lastOn is the setpoint last handed off to the named instrument; with a
+// single instrument, the last handed off at all (journals from before
+// instruments were named).
+func (s *State) lastOn(name string, single bool) campaign.Point {
+	if single {
+		return s.LastHandoff
+	}
+	return s.LastOn[name]
 }
 
 // Best returns the best completed run, or nil.

@@ -36,7 +36,7 @@ type View struct {
 	Best               *RunRow
 	Runs               []RunRow
 	Held               []HeldRow
-	Instrument         Instrument
+	Instruments        []Instrument
 	Model              *Model
 	ModelNote          string // why there is no model yet
 	Optimum            *Optimum
@@ -168,7 +168,9 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		v.Best = &row
 	}
 	v.Stopping, v.StopRule = stopping(cfg, st)
-	v.Instrument = instrument(cfg, st, entries)
+	for _, ic := range cfg.Instruments {
+		v.Instruments = append(v.Instruments, instrument(cfg, ic, len(cfg.Instruments) == 1, st, entries))
+	}
 	if trail, err := agent.ReadAudit(filepath.Join(sd, "audit.log")); err == nil {
 		v.AuditTotal = len(trail)
 		if opt.AuditTail > 0 && len(trail) > opt.AuditTail {
@@ -258,30 +260,39 @@ func stopping(cfg agent.Config, st *agent.State) (string, string) {
 	return state, strings.Join(rule, "; ")
 }
 
-func instrument(cfg agent.Config, st *agent.State, entries []agent.Entry) Instrument {
-	ic := cfg.Instrument
+func instrument(cfg agent.Config, ic agent.InstrumentConfig, only bool, st *agent.State, entries []agent.Entry) Instrument {
 	in := Instrument{Name: ic.Name, ExportDir: ic.Watch.Dir, Pattern: ic.Watch.Pattern, HandoffDir: ic.HandoffDir}
 	if _, err := os.ReadDir(ic.Watch.Dir); err != nil {
 		in.ExportProblem = err.Error()
 	}
-	in.Notices = agent.Notices(cfg)
+	for _, n := range agent.Notices(cfg) {
+		if strings.Contains(n, ic.Watch.Dir) {
+			in.Notices = append(in.Notices, n)
+		}
+	}
+	mine := func(path string) bool {
+		rel, err := filepath.Rel(ic.Watch.Dir, path)
+		return err == nil && filepath.IsLocal(rel)
+	}
 	for _, e := range entries {
-		switch e.Kind {
-		case agent.KindIngest:
+		switch {
+		case e.Kind == agent.KindIngest && mine(e.File):
 			in.LastResult, in.LastFile = e.Time, filepath.Base(e.File)
-		case agent.KindHandoffOK:
+		case e.Kind == agent.KindHandoffOK && (only || filepath.Dir(e.File) == filepath.Clean(ic.HandoffDir)):
 			in.LastHandoff = e.Time
 		}
 	}
 	if des, err := os.ReadDir(ic.HandoffDir); err == nil {
 		for _, d := range des {
-			if d.Type().IsRegular() && !strings.HasPrefix(d.Name(), ".") && (strings.HasSuffix(d.Name(), "."+ic.HandoffFormat)) {
+			if d.Type().IsRegular() && !strings.HasPrefix(d.Name(), ".") && strings.HasSuffix(d.Name(), "."+ic.HandoffFormat) {
 				in.Waiting = append(in.Waiting, d.Name())
 			}
 		}
 	}
 	for _, r := range st.InFlight() {
-		in.InFlight = append(in.InFlight, r.ID)
+		if r.Instrument == ic.Name || (only && r.Instrument == "") {
+			in.InFlight = append(in.InFlight, r.ID)
+		}
 	}
 	return in
 }

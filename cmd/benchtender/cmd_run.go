@@ -70,10 +70,16 @@ func cmdRun(ctx context.Context, args []string, stdout, stderr io.Writer) error 
 func distinctCampaigns(paths []string, cfgs []agent.Config) error {
 	seen := map[string]string{}
 	for i, c := range cfgs {
-		for what, dir := range map[string]string{"state folder": c.Campaign.StateDir, "export folder": c.Instrument.Watch.Dir, "handoff folder": c.Instrument.HandoffDir} {
-			key := what + "\x00" + filepath.Clean(dir)
-			if other, ok := seen[key]; ok {
-				return configError{fmt.Errorf("%s and %s use the same %s %s; each campaign needs its own", other, paths[i], what, dir)}
+		dirs := [][2]string{{"state folder", c.Campaign.StateDir}}
+		for _, ic := range c.Instruments {
+			dirs = append(dirs, [2]string{"export folder", ic.Watch.Dir}, [2]string{"handoff folder", ic.HandoffDir})
+		}
+		for _, d := range dirs {
+			key := d[0] + "\x00" + filepath.Clean(d[1])
+			if other, ok := seen[key]; ok && other != paths[i] {
+				return configError{fmt.Errorf("%s and %s use the same %s %s; each campaign needs its own", other, paths[i], d[0], d[1])}
+			} else if ok {
+				return configError{fmt.Errorf("%s is given twice (the same state folder %s)", paths[i], c.Campaign.StateDir)}
 			}
 			seen[key] = paths[i]
 		}
