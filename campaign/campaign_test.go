@@ -72,12 +72,14 @@ func TestProblemsPrefix(t *testing.T) {
 }
 
 func TestConfigInitial(t *testing.T) {
-	c := Config{Factors: make(Space, 3), MaxRuns: 30}
-	if c.Initial() != 8 {
-		t.Errorf("initial %d, want 2·3+2", c.Initial())
+	for d, want := range map[int]int{1: 4, 2: 4, 3: 5, 6: 8} {
+		c := Config{Factors: make(Space, d), MaxRuns: 30}
+		if c.Initial() != want {
+			t.Errorf("%d factors: initial %d, want %d (d+2, at least 4)", d, c.Initial(), want)
+		}
 	}
-	c.MaxRuns = 4
-	if c.Initial() != 4 {
-		t.Errorf("initial %d, want capped at 4", c.Initial())
+	c := Config{Factors: make(Space, 3), MaxRuns: 3}
+	if c.Initial() != 3 {
+		t.Errorf("initial %d, want capped at 3", c.Initial())
 	}
 }

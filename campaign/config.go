@@ -59,11 +59,15 @@ func (c Config) Validate() Problems {
 }
 
 // Initial returns the size of the initial design: InitialRuns when set,
-// otherwise 2d+2 (at least 5), a common rule of thumb, capped by MaxRuns.
+// otherwise d+2 (at least 4), capped by MaxRuns.
 func (c Config) Initial() int {
 	n := c.InitialRuns
 	if n == 0 {
-		n = max(5, 2*c.Factors.Dim()+2)
+		// d+2, at least 4: on the runs-to-optimum benchmark (README)
+		// this beat 2d+2, the size used before, by about 4 runs on
+		// Branin and 1.5 on the six-hump camel over 90 seeds; the model
+		// spends the runs better than a space-filling design does.
+		n = max(4, c.Factors.Dim()+2)
 	}
 	return min(n, c.MaxRuns)
 }
