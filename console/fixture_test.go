@@ -188,14 +188,7 @@ var tokenField = regexp.MustCompile(`name="form_token" value="([0-9a-f]+)"`)
 func get(t *testing.T, c *http.Client, u string) (int, string, string) {
 	t.Helper()
 	resp, err := c.Get(u)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer resp.Body.Close()
-	b, err := io.ReadAll(resp.Body)
-	if err != nil {
-		t.Fatal(err)
-	}
+	b := body(t, resp, err)
 	tok := ""
 	if m := tokenField.FindSubmatch(b); m != nil {
 		tok = string(m[1])
@@ -206,6 +199,13 @@ func get(t *testing.T, c *http.Client, u string) (int, string, string) {
 func post(t *testing.T, c *http.Client, u string, form url.Values) (int, string, http.Header) {
 	t.Helper()
 	resp, err := c.PostForm(u, form)
+	b := body(t, resp, err)
+	return resp.StatusCode, string(b), resp.Header
+}
+
+// body reads a response's body, failing the test on any error.
+func body(t *testing.T, resp *http.Response, err error) []byte {
+	t.Helper()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -214,7 +214,7 @@ func post(t *testing.T, c *http.Client, u string, form url.Values) (int, string,
 	if err != nil {
 		t.Fatal(err)
 	}
-	return resp.StatusCode, string(b), resp.Header
+	return b
 }
 
 // inbox lists the sign-off requests waiting for the daemon.

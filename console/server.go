@@ -355,14 +355,23 @@ func (s *Server) currentConfig() agent.Config {
 	return cfg
 }
 
-// signoff takes an approval or rejection from the holds page.
-func (s *Server) signoff(w http.ResponseWriter, r *http.Request) {
+// postedForm parses a POSTed form and checks its form token; on false
+// the request has been answered.
+func (s *Server) postedForm(w http.ResponseWriter, r *http.Request) bool {
 	if err := r.ParseForm(); err != nil {
 		http.Error(w, "unreadable form", http.StatusBadRequest)
-		return
+		return false
 	}
 	if !s.sess.validForm(clientOf(r), r.PostForm.Get("form_token")) {
-		http.Error(w, "refused: the form is stale or came from elsewhere; reload the page and sign again", http.StatusForbidden)
+		http.Error(w, "refused: the form is stale or came from elsewhere; reload the page and try again", http.StatusForbidden)
+		return false
+	}
+	return true
+}
+
+// signoff takes an approval or rejection from the holds page.
+func (s *Server) signoff(w http.ResponseWriter, r *http.Request) {
+	if !s.postedForm(w, r) {
 		return
 	}
 	run := r.PathValue("run")
@@ -432,12 +441,7 @@ func (s *Server) login(w http.ResponseWriter, r *http.Request) {
 		http.Error(w, "this console has no sign-in", http.StatusNotFound)
 		return
 	}
-	if err := r.ParseForm(); err != nil {
-		http.Error(w, "unreadable form", http.StatusBadRequest)
-		return
-	}
-	if !s.sess.validForm(clientOf(r), r.PostForm.Get("form_token")) {
-		http.Error(w, "refused: the form is stale; reload the page", http.StatusForbidden)
+	if !s.postedForm(w, r) {
 		return
 	}
 	u := match(s.users, strings.TrimSpace(r.PostForm.Get("token")))
@@ -456,8 +460,7 @@ func (s *Server) login(w http.ResponseWriter, r *http.Request) {
 }
 
 func (s *Server) logout(w http.ResponseWriter, r *http.Request) {
-	if !s.sess.validForm(clientOf(r), r.FormValue("form_token")) {
-		http.Error(w, "refused: the form is stale; reload the page", http.StatusForbidden)
+	if !s.postedForm(w, r) {
 		return
 	}
 	if c, err := r.Cookie(sessionCookie); err == nil {
