@@ -9,6 +9,7 @@
 //
 //	go run ./scripts/runsbench                 # every function, 30 seeds
 //	go run ./scripts/runsbench -noise -seeds 10 -only branin
+//	go run ./scripts/runsbench -noise -warp=false -only forrester,branin
 package main
 
 import (
@@ -33,8 +34,10 @@ func main() {
 	noise := flag.Bool("noise", false, "add Gaussian noise of 1% of the function's range")
 	only := flag.String("only", "", "comma-separated function names (default: all)")
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
+	warp := flag.Bool("warp", true, "the planner's output warping")
+	initial := flag.Int("initial", 0, "initial design size (0: the campaign default, d+2 and at least 4)")
 	flag.Parse()
-	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s\n\n", *seeds, *noise, *acq)
+	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s; warp %v; initial %d (0: default)\n\n", *seeds, *noise, *acq, *warp, *initial)
 	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
 	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
 	for _, f := range testfn.All() {
@@ -47,7 +50,7 @@ func main() {
 		reached := 0
 		start := time.Now()
 		for s := 1; s <= *seeds; s++ {
-			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq)
+			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq, *warp, *initial)
 			if ok {
 				reached++
 			}
@@ -73,11 +76,12 @@ func reachedMin(f testfn.Function, v float64) bool {
 
 // campaignRuns runs one closed-loop campaign and returns the number of
 // evaluations until the 1% level was reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string) (int, bool) {
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp bool, initial int) (int, bool) {
 	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
-		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
+		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
 	cfg := planner.Default()
 	cfg.Acquisition = acq
+	cfg.Warp = warp
 	p := planner.New(cc, cfg)
 	noiseRNG := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
