@@ -198,7 +198,7 @@ func TestMetrics(t *testing.T) {
 	f := newFixture(t, "", nil)
 	m := NewMetrics(f.cfg)
 	m.Entry(agent.Entry{Kind: agent.KindIngest})
-	m.Entry(agent.Entry{Kind: agent.KindIngest})
+	m.Entry(agent.Entry{Kind: agent.KindIngest, Revision: 2})
 	m.Entry(agent.Entry{Kind: agent.KindSignoff, Action: agent.ActionApprove})
 	m.Planned(250e6)
 	srv, err := New(f.cfg, Options{Metrics: m})
@@ -210,6 +210,7 @@ func TestMetrics(t *testing.T) {
 	for _, want := range []string{
 		`benchtender_journal_entries_total{campaign="console_test",kind="ingest"} 2`,
 		`benchtender_journal_entries_total{campaign="console_test",kind="signoff-approve"} 1`,
+		`benchtender_journal_entries_total{campaign="console_test",kind="revision"} 1`,
 		`benchtender_runs_held{campaign="console_test"} 1`,
 		`benchtender_plan_seconds_count{campaign="console_test"} 1`,
 		"# TYPE benchtender_ingest_lag_seconds histogram",

@@ -32,7 +32,7 @@ func NewMetrics(cfg agent.Config) *Metrics {
 		reg: reg,
 		entries: prometheus.NewCounterVec(prometheus.CounterOpts{
 			Name: "benchtender_journal_entries_total", ConstLabels: labels,
-			Help: "Journal entries recorded since the daemon started, by kind (ingest, quarantine, duplicate, proposal, hold, signoff-approve, signoff-reject, handoff, handoff-ok, ...).",
+			Help: "Journal entries recorded since the daemon started, by kind (ingest, revision, quarantine, duplicate, proposal, hold, signoff-approve, signoff-reject, handoff, handoff-ok, ...).",
 		}, []string{"kind"}),
 		planSecs: prometheus.NewHistogram(prometheus.HistogramOpts{
 			Name: "benchtender_plan_seconds", ConstLabels: labels,
@@ -73,8 +73,9 @@ func NewMetrics(cfg agent.Config) *Metrics {
 }
 
 // Entry counts a journal entry; give it to agent.Options.Notify. A
-// proposal counts as a hold too when held; a sign-off by its action, as an approval or a
-// rejection.
+// proposal counts as a hold too when held, an ingest of a later result
+// for a run as a revision too; a sign-off counts by its action, as an
+// approval or a rejection.
 func (m *Metrics) Entry(e agent.Entry) {
 	kind := e.Kind
 	switch {
@@ -82,6 +83,8 @@ func (m *Metrics) Entry(e agent.Entry) {
 		m.entries.WithLabelValues("hold").Inc()
 	case e.Kind == agent.KindSignoff:
 		kind = "signoff-" + e.Action
+	case e.Kind == agent.KindIngest && e.Revision > 0:
+		m.entries.WithLabelValues("revision").Inc()
 	}
 	m.entries.WithLabelValues(kind).Inc()
 }

@@ -69,3 +69,38 @@ wait $pid
 		}
 	}
 }
+
+// A state folder that is read-only when the agent starts (bind-mounted
+// read-only in the test's own namespace) is refused at once with a
+// message naming it; nothing is handed off. (Turning a folder read-only
+// under a running agent cannot be staged here: Linux refuses to remount
+// read-only while files are open for writing; a disk full, staged in
+// diskfull_test.go, takes the same path through the agent.)
+func TestReadOnlyStateFolderIsRefused(t *testing.T) {
+	if testing.Short() || runtime.GOOS != "linux" {
+		t.Skip("needs Linux namespaces")
+	}
+	if out, err := exec.Command("unshare", "--user", "--map-root-user", "--mount", "true").CombinedOutput(); err != nil {
+		t.Skipf("cannot make a user and mount namespace here (%v: %s)", err, out)
+	}
+	bin := binary(t)
+	dir := t.TempDir()
+	cfgPath, cfg, _ := unattendedCampaign(t, dir, 8, 6)
+	script := `set -u
+mount --bind "$STATE" "$STATE"
+mount -o remount,bind,ro "$STATE"
+"$BIN" run "$CFG"
+echo "exit $?"
+`
+	cmd := exec.Command("unshare", "--user", "--map-root-user", "--mount", "bash", "-c", script)
+	cmd.Env = append(os.Environ(), "STATE="+cfg.Campaign.StateDir, "BIN="+bin, "CFG="+cfgPath)
+	b, _ := cmd.CombinedOutput()
+	out := string(b)
+	t.Logf("%s", out)
+	if !strings.Contains(out, "exit 1") || !strings.Contains(out, cfg.Campaign.StateDir) || !strings.Contains(out, "read-only") {
+		t.Errorf("a read-only state folder was not refused clearly:\n%s", out)
+	}
+	if files, _ := os.ReadDir(cfg.Instrument.HandoffDir); len(files) != 0 {
+		t.Errorf("handoff folder holds %d files", len(files))
+	}
+}
