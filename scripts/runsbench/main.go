@@ -35,6 +35,7 @@ func main() {
 	only := flag.String("only", "", "comma-separated function names (default: all)")
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
 	warp := flag.Bool("warp", true, "the planner's output warping")
+	kernel := flag.String("kernel", planner.Default().Kernel, "kernel of the Gaussian process")
 	initial := flag.Int("initial", 0, "initial design size (0: the campaign default, d+2 and at least 4)")
 	flag.Parse()
 	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s; warp %v; initial %d (0: default)\n\n", *seeds, *noise, *acq, *warp, *initial)
@@ -50,7 +51,7 @@ func main() {
 		reached := 0
 		start := time.Now()
 		for s := 1; s <= *seeds; s++ {
-			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq, *warp, *initial)
+			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq, *warp, *initial, *kernel)
 			if ok {
 				reached++
 			}
@@ -76,12 +77,13 @@ func reachedMin(f testfn.Function, v float64) bool {
 
 // campaignRuns runs one closed-loop campaign and returns the number of
 // evaluations until the 1% level was reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp bool, initial int) (int, bool) {
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp bool, initial int, kernel string) (int, bool) {
 	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
 	cfg := planner.Default()
 	cfg.Acquisition = acq
 	cfg.Warp = warp
+	cfg.Kernel = kernel
 	p := planner.New(cc, cfg)
 	noiseRNG := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
