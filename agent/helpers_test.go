@@ -15,16 +15,9 @@ type testCampaign struct {
 	cfg          Config
 }
 
-// baseConfig is a two-factor campaign read from semicolon files with a
-// preamble and decimal commas; extra is appended (TOML tables).
-const baseConfig = `
-[campaign]
-name = "t"
-state_dir = "state"
-seed = 7
-max_runs = %MAX%
-initial_runs = 3
-
+// campaignHead is a two-factor campaign (temp, flow) maximising purity,
+// without its instruments.
+const campaignHead = `
 [[campaign.factor]]
 name = "temp"
 unit = "degC"
@@ -41,7 +34,18 @@ max = 5.0
 name = "purity"
 unit = "%"
 goal = "maximise"
+`
 
+// baseConfig is the campaign read from semicolon files with a preamble
+// and decimal commas; extra is appended (TOML tables).
+const baseConfig = `
+[campaign]
+name = "t"
+state_dir = "state"
+seed = 7
+max_runs = %MAX%
+initial_runs = 3
+` + campaignHead + `
 [planner]
 candidates = 300
 refine = 2

@@ -18,23 +18,7 @@ seed = 3
 max_runs = 6
 initial_runs = 3
 
-[[campaign.factor]]
-name = "temp"
-unit = "degC"
-min = 20.0
-max = 80.0
-
-[[campaign.factor]]
-name = "flow"
-unit = "mL/min"
-min = 1.0
-max = 5.0
-
-[campaign.response]
-name = "purity"
-unit = "%"
-goal = "maximise"
-
+` + campaignHead + `
 [[instruments]]
 name = "a"
 handoff_dir = "handoff_a"

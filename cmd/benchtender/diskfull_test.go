@@ -20,12 +20,7 @@ import (
 // running, and resume by itself when the disk is emptied, with nothing in
 // its journal lost.
 func TestDiskFullHaltsAndResumes(t *testing.T) {
-	if testing.Short() || runtime.GOOS != "linux" {
-		t.Skip("needs Linux namespaces")
-	}
-	if out, err := exec.Command("unshare", "--user", "--map-root-user", "--mount", "true").CombinedOutput(); err != nil {
-		t.Skipf("cannot make a user and mount namespace here (%v: %s)", err, out)
-	}
+	needNamespaces(t)
 	bin := binary(t)
 	dir := t.TempDir()
 	os.MkdirAll(filepath.Join(dir, "out"), 0o755)
@@ -104,6 +99,18 @@ cp -r "$STATE" "$OUT/state"
 		}
 	}
 	t.Logf("journal: %d entries when the disk was full, %d at the end; setpoints taken while full: %d", len(before), len(es), endFull-atFull)
+}
+
+// needNamespaces skips a test that makes a user and mount namespace of
+// its own (unshare) where that cannot be done.
+func needNamespaces(t *testing.T) {
+	t.Helper()
+	if testing.Short() || runtime.GOOS != "linux" {
+		t.Skip("needs Linux namespaces")
+	}
+	if out, err := exec.Command("unshare", "--user", "--map-root-user", "--mount", "true").CombinedOutput(); err != nil {
+		t.Skipf("cannot make a user and mount namespace here (%v: %s)", err, out)
+	}
 }
 
 func tail(s string, n int) string {

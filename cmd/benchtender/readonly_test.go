@@ -5,7 +5,6 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
-	"runtime"
 	"strconv"
 	"strings"
 	"testing"
@@ -19,12 +18,7 @@ import (
 // instrument, outside, writes its results into the same folder. Every
 // result is ingested and the export folder holds nothing of the agent's.
 func TestReadOnlyExportFolder(t *testing.T) {
-	if testing.Short() || runtime.GOOS != "linux" {
-		t.Skip("needs Linux namespaces")
-	}
-	if out, err := exec.Command("unshare", "--user", "--map-root-user", "--mount", "true").CombinedOutput(); err != nil {
-		t.Skipf("cannot make a user and mount namespace here (%v: %s)", err, out)
-	}
+	needNamespaces(t)
 	bin := binary(t)
 	dir := t.TempDir()
 	const runs = 8
@@ -77,12 +71,7 @@ wait $pid
 // read-only while files are open for writing; a disk full, staged in
 // diskfull_test.go, takes the same path through the agent.)
 func TestReadOnlyStateFolderIsRefused(t *testing.T) {
-	if testing.Short() || runtime.GOOS != "linux" {
-		t.Skip("needs Linux namespaces")
-	}
-	if out, err := exec.Command("unshare", "--user", "--map-root-user", "--mount", "true").CombinedOutput(); err != nil {
-		t.Skipf("cannot make a user and mount namespace here (%v: %s)", err, out)
-	}
+	needNamespaces(t)
 	bin := binary(t)
 	dir := t.TempDir()
 	cfgPath, cfg, _ := unattendedCampaign(t, dir, 8, 6)
