@@ -24,7 +24,7 @@ type Metrics struct {
 }
 
 // NewMetrics registers the campaign's metrics; the gauges replay the
-// journal in cfg's state folder at every scrape.
+// journal in cfg's state folder once at every scrape.
 func NewMetrics(cfg agent.Config) *Metrics {
 	reg := prometheus.NewRegistry()
 	labels := prometheus.Labels{"campaign": cfg.Campaign.Name}
@@ -50,25 +50,7 @@ func NewMetrics(cfg agent.Config) *Metrics {
 		}),
 	}
 	reg.MustRegister(m.entries, m.planSecs, m.scanLag, m.watchTrbl)
-	journal := filepath.Join(cfg.Campaign.StateDir, "journal.log")
-	gauge := func(name, help string, f func(*agent.State) float64) {
-		reg.MustRegister(prometheus.NewGaugeFunc(prometheus.GaugeOpts{Name: name, Help: help, ConstLabels: labels}, func() float64 {
-			es, err := agent.ReadJournal(journal)
-			if err != nil {
-				return -1
-			}
-			return f(agent.Replay(es))
-		}))
-	}
-	gauge("benchtender_runs_held", "Moves waiting for sign-off now.", func(s *agent.State) float64 { return float64(len(s.Held())) })
-	gauge("benchtender_runs_in_flight", "Runs handed off and awaiting their result.", func(s *agent.State) float64 { return float64(len(s.InFlight())) })
-	gauge("benchtender_runs_done", "Runs with a recorded result.", func(s *agent.State) float64 { return float64(len(s.TrialRuns())) })
-	gauge("benchtender_all_stop", "1 while an all-stop halts every handoff.", func(s *agent.State) float64 {
-		if s.AllStop != "" {
-			return 1
-		}
-		return 0
-	})
+	reg.MustRegister(newStateCollector(filepath.Join(cfg.Campaign.StateDir, "journal.log"), labels))
 	return m
 }
 
@@ -101,4 +83,47 @@ func (m *Metrics) WatchTrouble(error) { m.watchTrbl.Inc() }
 // Handler serves the metrics.
 func (m *Metrics) Handler() http.Handler {
 	return promhttp.HandlerFor(m.reg, promhttp.HandlerOpts{})
+}
+
+// stateCollector reports the campaign's state as gauges, replaying the
+// journal once per scrape.
+type stateCollector struct {
+	journal                    string
+	held, inFlight, done, stop *prometheus.Desc
+}
+
+func newStateCollector(journal string, labels prometheus.Labels) *stateCollector {
+	d := func(name, help string) *prometheus.Desc { return prometheus.NewDesc(name, help, nil, labels) }
+	return &stateCollector{journal: journal,
+		held:     d("benchtender_runs_held", "Moves waiting for sign-off now."),
+		inFlight: d("benchtender_runs_in_flight", "Runs handed off and awaiting their result."),
+		done:     d("benchtender_runs_done", "Runs with a recorded result."),
+		stop:     d("benchtender_all_stop", "1 while an all-stop halts every handoff."),
+	}
+}
+
+func (c *stateCollector) Describe(ch chan<- *prometheus.Desc) {
+	ch <- c.held
+	ch <- c.inFlight
+	ch <- c.done
+	ch <- c.stop
+}
+
+func (c *stateCollector) Collect(ch chan<- prometheus.Metric) {
+	es, err := agent.ReadJournal(c.journal)
+	if err != nil {
+		ch <- prometheus.NewInvalidMetric(c.held, err)
+		return
+	}
+	st := agent.Replay(es)
+	stop := 0.0
+	if st.AllStop != "" {
+		stop = 1
+	}
+	for _, m := range []struct {
+		d *prometheus.Desc
+		v float64
+	}{{c.held, float64(len(st.Held()))}, {c.inFlight, float64(len(st.InFlight()))}, {c.done, float64(len(st.TrialRuns()))}, {c.stop, stop}} {
+		ch <- prometheus.MustNewConstMetric(m.d, prometheus.GaugeValue, m.v)
+	}
 }
