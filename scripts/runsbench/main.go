@@ -36,6 +36,9 @@ func main() {
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
 	warp := flag.Bool("warp", true, "the planner's output warping")
 	kernel := flag.String("kernel", planner.Default().Kernel, "kernel of the Gaussian process")
+	cands := flag.Int("candidates", planner.Default().Candidates, "space-filling points scored before refinement")
+	refine := flag.Int("refine", planner.Default().Refine, "best candidates refined by local search")
+	starts := flag.Int("fit-starts", planner.Default().FitStarts, "random starts of the hyperparameter fit")
 	initial := flag.Int("initial", 0, "initial design size (0: the campaign default, d+2 and at least 4)")
 	flag.Parse()
 	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s; warp %v; initial %d (0: default)\n\n", *seeds, *noise, *acq, *warp, *initial)
@@ -51,7 +54,7 @@ func main() {
 		reached := 0
 		start := time.Now()
 		for s := 1; s <= *seeds; s++ {
-			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq, *warp, *initial, *kernel)
+			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq, *warp, *initial, *kernel, *cands, *refine, *starts)
 			if ok {
 				reached++
 			}
@@ -77,13 +80,14 @@ func reachedMin(f testfn.Function, v float64) bool {
 
 // campaignRuns runs one closed-loop campaign and returns the number of
 // evaluations until the 1% level was reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp bool, initial int, kernel string) (int, bool) {
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp bool, initial int, kernel string, cands, refine, starts int) (int, bool) {
 	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
 	cfg := planner.Default()
 	cfg.Acquisition = acq
 	cfg.Warp = warp
 	cfg.Kernel = kernel
+	cfg.Candidates, cfg.Refine, cfg.FitStarts = cands, refine, starts
 	p := planner.New(cc, cfg)
 	noiseRNG := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
