@@ -20,16 +20,6 @@ var fixedAt = fakeProposer{func(ctx context.Context, req planner.Request) (plann
 	return planner.Result{Proposal: campaign.Proposal{Setpoint: campaign.Setpoint{RunID: req.RunID, Point: campaign.Point{50, 3}}}}, nil
 }}
 
-const passLimits = `
-[safety.limits.temp]
-hard_min = 20.0
-hard_max = 80.0
-
-[safety.limits.flow]
-hard_min = 1.0
-hard_max = 5.0
-`
-
 func sha(b []byte) string { s := sha256.Sum256(b); return hex.EncodeToString(s[:]) }
 
 // An instrument re-exports a corrected result under the same name: it

@@ -88,6 +88,18 @@ hard_min = 1.0
 hard_max = 5.0
 `
 
+// passLimits are hard limits at the factor bounds and no review limits:
+// every proposal passes the gate.
+const passLimits = `
+[safety.limits.temp]
+hard_min = 20.0
+hard_max = 80.0
+
+[safety.limits.flow]
+hard_min = 1.0
+hard_max = 5.0
+`
+
 func newTestCampaign(t *testing.T, maxRuns string, limits string) *testCampaign {
 	t.Helper()
 	dir := t.TempDir()

@@ -18,15 +18,7 @@ import (
 // planner, the gate and the handoff file, whose content must be exactly
 // the gated proposal.
 func TestWholeLoopThroughRealFiles(t *testing.T) {
-	tc := newTestCampaign(t, "6", `
-[safety.limits.temp]
-hard_min = 20.0
-hard_max = 80.0
-
-[safety.limits.flow]
-hard_min = 1.0
-hard_max = 5.0
-`)
+	tc := newTestCampaign(t, "6", passLimits)
 	events, stop := tc.start(t)
 	purities := []string{"81,5", "84,25", "79,0", "88,75", "90,5", "91,0"}
 	var handoffs []Entry
