@@ -1,6 +1,7 @@
 package campaign
 
 import (
+	"fmt"
 	"math"
 	"strings"
 	"testing"
@@ -81,5 +82,29 @@ func TestConfigInitial(t *testing.T) {
 	c := Config{Factors: make(Space, 3), MaxRuns: 3}
 	if c.Initial() != 3 {
 		t.Errorf("initial %d, want capped at 3", c.Initial())
+	}
+}
+
+// Display shows a continuous value with 4 significant digits and every
+// other kind exactly, as status, holds and the console print them.
+func TestFactorDisplay(t *testing.T) {
+	cases := []struct {
+		f    Factor
+		v    float64
+		want string
+	}{
+		{Factor{Name: "t", Min: 0, Max: 100}, 72.123456, "72.12"},
+		{Factor{Name: "t", Kind: Continuous, Min: 0, Max: 1e6}, 123456.7, "1.235e+05"},
+		{Factor{Name: "n", Kind: Integer, Min: 0, Max: 100000}, 12345, "12345"},
+		{Factor{Name: "v", Kind: Levels, Levels: []float64{5, 12.5}}, 12.5, "12.5"},
+		{Factor{Name: "c", Kind: Choice, Choices: []string{"Pd", "Pt"}}, 1, "Pt"},
+	}
+	for _, c := range cases {
+		if got := c.f.Display(c.v); got != c.want {
+			t.Errorf("%s %v: %q, want %q", c.f.Name, c.v, got, c.want)
+		}
+		if c.f.Kind == "" && fmt.Sprintf("%.4g", c.v) != c.f.Display(c.v) {
+			t.Errorf("differs from %%.4g for %v", c.v)
+		}
 	}
 }

@@ -106,6 +106,15 @@ func (f Factor) Format(v float64) string {
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
+// Display renders a value for people: 4 significant digits for a
+// continuous factor, the exact level, integer or choice otherwise.
+func (f Factor) Display(v float64) string {
+	if f.Kind == "" || f.Kind == Continuous {
+		return strconv.FormatFloat(v, 'g', 4, 64)
+	}
+	return f.Format(v)
+}
+
 // Validate reports what is wrong with the factor.
 func (f Factor) Validate() Problems {
 	var ps Problems

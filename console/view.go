@@ -194,19 +194,11 @@ func values(space campaign.Space, p campaign.Point) []Value {
 		if i >= len(p) {
 			break
 		}
-		out = append(out, Value{Factor: f.Name, Text: format(f, p[i]), Unit: f.Unit})
+		out = append(out, Value{Factor: f.Name, Text: f.Display(p[i]), Unit: f.Unit})
 	}
 	return out
 }
 
-// format writes a factor value with 4 significant digits, or its level or
-// choice.
-func format(f campaign.Factor, v float64) string {
-	if f.Kind == "" || f.Kind == campaign.Continuous {
-		return fmt.Sprintf("%.4g", v)
-	}
-	return f.Format(v)
-}
 
 func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
 	row := RunRow{ID: r.ID, Status: r.Status, Method: r.Method, Proposed: r.Proposed, SignedBy: r.SignedBy}
@@ -336,7 +328,7 @@ func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt
 	ov := &Optimum{Samples: o.Samples, BoxMass: o.BoxMass, Median: o.ValueMedian, Low: o.ValueLow, High: o.ValueHigh,
 		BestWithin: o.BestWithin, Tolerance: cfg.Planner.Stop.ValueTolerance}
 	for k, f := range space {
-		ov.Box = append(ov.Box, BoxRow{Factor: f.Name, Low: format(f, o.Box[k][0]), High: format(f, o.Box[k][1]), Unit: f.Unit})
+		ov.Box = append(ov.Box, BoxRow{Factor: f.Name, Low: f.Display(o.Box[k][0]), High: f.Display(o.Box[k][1]), Unit: f.Unit})
 	}
 	v.Optimum = ov
 	// The slices run through the predicted optimum: the median of the

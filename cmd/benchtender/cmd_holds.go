@@ -192,11 +192,7 @@ func describePoint(space campaign.Space, p campaign.Point) string {
 		if i >= len(p) {
 			break
 		}
-		v := f.Format(p[i])
-		if f.Kind == "" || f.Kind == campaign.Continuous {
-			v = fmt.Sprintf("%.4g", p[i])
-		}
-		s := fmt.Sprintf("%s=%s", f.Name, v)
+		s := fmt.Sprintf("%s=%s", f.Name, f.Display(p[i]))
 		if f.Unit != "" {
 			s += " " + f.Unit
 		}

@@ -11,7 +11,6 @@ import (
 	"strings"
 
 	"benchtender/agent"
-	"benchtender/campaign"
 	"benchtender/planner"
 )
 
@@ -88,11 +87,7 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 	resp := cfg.Campaign.Response
 	fmt.Fprintf(stdout, "where the optimum probably is (%d posterior draws; 90%% credible box, holds %.0f%%):\n", o.Samples, 100*o.BoxMass)
 	for k, f := range cfg.Campaign.Factors {
-		lo, hi := f.Format(o.Box[k][0]), f.Format(o.Box[k][1])
-		if f.Kind == "" || f.Kind == campaign.Continuous {
-			lo, hi = fmt.Sprintf("%.4g", o.Box[k][0]), fmt.Sprintf("%.4g", o.Box[k][1])
-		}
-		fmt.Fprintf(stdout, "  %-14s %s to %s %s\n", f.Name, lo, hi, f.Unit)
+		fmt.Fprintf(stdout, "  %-14s %s to %s %s\n", f.Name, f.Display(o.Box[k][0]), f.Display(o.Box[k][1]), f.Unit)
 	}
 	fmt.Fprintf(stdout, "best achievable %s: median %.4g %s, 90%% interval %.4g to %.4g\n", resp.Name, o.ValueMedian, resp.Unit, o.ValueLow, o.ValueHigh)
 	if !math.IsNaN(o.BestWithin) {
