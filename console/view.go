@@ -199,7 +199,6 @@ func values(space campaign.Space, p campaign.Point) []Value {
 	return out
 }
 
-
 func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
 	row := RunRow{ID: r.ID, Status: r.Status, Method: r.Method, Proposed: r.Proposed, SignedBy: r.SignedBy}
 	if r.Point != nil {
