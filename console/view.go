@@ -168,8 +168,9 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		v.Best = &row
 	}
 	v.Stopping, v.StopRule = stopping(cfg, st)
+	notices := agent.Notices(cfg)
 	for _, ic := range cfg.Instruments {
-		v.Instruments = append(v.Instruments, instrument(cfg, ic, len(cfg.Instruments) == 1, st, entries))
+		v.Instruments = append(v.Instruments, instrument(ic, len(cfg.Instruments) == 1, notices, st, entries))
 	}
 	if trail, err := agent.ReadAudit(filepath.Join(sd, "audit.log")); err == nil {
 		v.AuditTotal = len(trail)
@@ -251,12 +252,12 @@ func stopping(cfg agent.Config, st *agent.State) (string, string) {
 	return state, strings.Join(rule, "; ")
 }
 
-func instrument(cfg agent.Config, ic agent.InstrumentConfig, only bool, st *agent.State, entries []agent.Entry) Instrument {
+func instrument(ic agent.InstrumentConfig, only bool, notices []string, st *agent.State, entries []agent.Entry) Instrument {
 	in := Instrument{Name: ic.Name, ExportDir: ic.Watch.Dir, Pattern: ic.Watch.Pattern, HandoffDir: ic.HandoffDir}
 	if _, err := os.ReadDir(ic.Watch.Dir); err != nil {
 		in.ExportProblem = err.Error()
 	}
-	for _, n := range agent.Notices(cfg) {
+	for _, n := range notices {
 		if strings.Contains(n, ic.Watch.Dir) {
 			in.Notices = append(in.Notices, n)
 		}
