@@ -42,6 +42,9 @@ type Config struct {
 	NoiseSD float64 `toml:"noise_sd"`
 	// Warp turns on the output warping (see warp.go); default on.
 	Warp bool `toml:"warp"`
+	// SetAside moves proposals out of a basin where stallRuns runs in a
+	// row brought no progress (stall.go); default on.
+	SetAside bool `toml:"set_aside"`
 	// Batch is how many runs may be in flight at once (instruments with
 	// several positions); pending runs are taken into account.
 	Batch int `toml:"batch"`
@@ -71,7 +74,7 @@ type StopConfig struct {
 // Default returns the defaults.
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, Candidates: 2000, Refine: 5, FitStarts: 2,
-		Kernel: "matern52", Warp: true, Batch: 1, Samples: 64}
+		Kernel: "matern52", Warp: true, SetAside: true, Batch: 1, Samples: 64}
 }
 
 // Validate reports every problem, keyed relative to the section.

@@ -124,6 +124,9 @@ type Result struct {
 // Branin campaigns stalled 1-2% above the minimum, a run or two away).
 const minSpacing = 0.001
 
+// errNoCandidate is returned by maximise when every candidate is barred.
+var errNoCandidate = errors.New("planner: no candidate has a finite acquisition value")
+
 // minFit is the number of completed runs needed before a model is fitted.
 const minFit = 3
 
@@ -163,24 +166,64 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	if err != nil {
 		return Result{}, err
 	}
-	m, x := ft.Model, ft.x
-	bestFirst := byValue(x, ft.y)
-	fit := m.Params()
-	// Improvement is measured against the best posterior mean at a run,
-	// which is steadier than the best raw value when runs are noisy
-	// (common practice).
-	best := math.Inf(1)
-	for _, xi := range x {
-		if mu, _ := m.Predict(p.encode(xi)); mu < best {
-			best = mu
+	near := append(append([][]float64(nil), avoid...), ft.x...)
+	// Where progress has stalled, the basin is set aside and a new search
+	// starts outside it (stall.go). When nothing outside the regions can
+	// be proposed (a small region to search, tight constraints), the
+	// search goes on as before.
+	if aside, epoch := p.setAsideFor(ft); aside != nil {
+		res, err := p.searchOutside(ctx, req, ft, aside, epoch, near, rng)
+		if !errors.Is(err, errNoCandidate) {
+			return res, err
 		}
 	}
-	// Pending runs: condition on them at the model's own prediction.
-	pend := unit(req.Pending)
-	for i := range pend {
-		pend[i] = p.encode(pend[i])
+	return p.search(ctx, req, ft, ft, nil, near, rng)
+}
+
+// searchOutside proposes in the new search that started at run epoch,
+// outside the regions set aside: a design of its own, then a model of its
+// own runs only (with every run outside the regions kept, the set-aside
+// basin's runs lent the new search their length scales, and 1 of 10 stuck
+// Hartmann campaigns got out instead of 9).
+func (p *Planner) searchOutside(ctx context.Context, req Request, ft *Fitted, a *aside, epoch int, near [][]float64, rng *rand.Rand) (Result, error) {
+	if n := len(req.Trials) - epoch; n < p.nInit {
+		u := p.restartPoint(epoch, n, a, rng, near)
+		if u == nil {
+			return Result{}, errNoCandidate
+		}
+		fit := ft.Model.Params()
+		return p.result(req.RunID, u, fmt.Sprintf("design of a new search, outside %d stalled region(s)", len(a.centres)), 0,
+			Result{Model: ft.Model, Fit: &fit, Best: ft.w.from(p.bestMean(ft.Model, ft.x))})
 	}
-	believer, err := m.WithFantasies(pend)
+	local, err := p.fit(req.Trials[epoch:], nil, rng)
+	if err != nil {
+		return Result{}, err
+	}
+	return p.search(ctx, req, ft, local, a, near, rng)
+}
+
+// search proposes the point that maximises the acquisition on the model
+// of search (ft itself, or a new search's), outside the regions a and away
+// from the points near; what is reported (best, expected improvement,
+// stopping) is always from ft, the model of every run.
+func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a *aside, near [][]float64, rng *rand.Rand) (Result, error) {
+	m := ft.Model
+	fit := m.Params()
+	best := p.bestMean(m, ft.x)
+	far := func(u []float64) bool {
+		for _, v := range near {
+			if dist2(u, v) < minSpacing*minSpacing {
+				return false
+			}
+		}
+		return true
+	}
+	// Pending runs: condition on them at the model's own prediction.
+	pend := make([][]float64, len(req.Pending))
+	for i, pt := range req.Pending {
+		pend[i] = p.encode(p.space.ToUnit(nil, pt))
+	}
+	believer, err := search.Model.WithFantasies(pend)
 	if err != nil {
 		return Result{}, fmt.Errorf("planner: pending runs: %w", err)
 	}
@@ -188,45 +231,39 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	if err != nil {
 		return Result{}, err
 	}
-	near := append(append([][]float64(nil), avoid...), x...)
-	far := func(u []float64) bool {
-		for _, a := range near {
-			if dist2(u, a) < minSpacing*minSpacing {
-				return false
-			}
-		}
-		return true
-	}
-	score, method, err := p.scorer(believer, best, feasible, rng)
+	score, method, err := p.scorer(believer, p.bestMean(search.Model, search.x), feasible, rng)
 	if err != nil {
 		return Result{}, err
 	}
-	guarded := func(u []float64) float64 {
-		if !far(u) {
+	u, s, err := p.maximise(ctx, func(u []float64) float64 {
+		if !far(u) || !a.outside(p.encode(u)) {
 			return math.Inf(-1)
 		}
 		return score(u)
-	}
-	u, s, err := p.maximise(ctx, guarded, bestFirst, rng)
+	}, byValue(search.x, search.y), rng)
 	if err != nil {
 		return Result{}, err
 	}
 	res := Result{Model: m, Fit: &fit, Best: best}
-	if p.cfg.Acquisition != AcqExpectedImprovement {
-		// Report the best EI anywhere, whatever chose the point.
-		ei := func(v []float64) float64 {
-			return acquisition.LogExpectedImprovement(p.predictSD(believer, v)(best))
+	if p.cfg.Acquisition == AcqExpectedImprovement && a == nil {
+		res.EI = math.Exp(s)
+	} else {
+		// Report the best EI anywhere on the model of every run, whatever
+		// chose the point.
+		if a != nil {
+			method += fmt.Sprintf(" in a new search, outside %d stalled region(s)", len(a.centres))
+			if believer, err = m.WithFantasies(pend); err != nil {
+				return Result{}, fmt.Errorf("planner: pending runs: %w", err)
+			}
 		}
 		if _, le, err := p.maximise(ctx, func(v []float64) float64 {
 			if !far(v) {
 				return math.Inf(-1)
 			}
-			return ei(v)
-		}, bestFirst, rng); err == nil {
+			return acquisition.LogExpectedImprovement(p.predictSD(believer, v)(best))
+		}, byValue(ft.x, ft.y), rng); err == nil {
 			res.EI = math.Exp(le)
 		}
-	} else {
-		res.EI = math.Exp(s)
 	}
 	// In the response's units: a small improvement in warped units times
 	// the warping's slope at the incumbent.
@@ -238,6 +275,19 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 		res.Stop, res.Optimum = stop, opt
 	}
 	return p.result(req.RunID, u, method, s, res)
+}
+
+// bestMean returns the lowest posterior mean at the runs x: improvement is
+// measured against it, which is steadier than the best raw value when runs
+// are noisy (common practice).
+func (p *Planner) bestMean(m *gp.Model, x [][]float64) float64 {
+	best := math.Inf(1)
+	for _, xi := range x {
+		if mu, _ := m.Predict(p.encode(xi)); mu < best {
+			best = mu
+		}
+	}
+	return best
 }
 
 // predictSD adapts a prediction at a unit-box point to the (mean, sd,
@@ -475,7 +525,7 @@ func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, a
 	}
 	sort.SliceStable(all, func(a, b int) bool { return all[a].s > all[b].s })
 	if math.IsInf(all[0].s, -1) || math.IsNaN(all[0].s) {
-		return nil, 0, errors.New("planner: no candidate has a finite acquisition value")
+		return nil, 0, errNoCandidate
 	}
 	best := all[0]
 	for _, start := range all[:min(p.cfg.Refine, len(all))] {

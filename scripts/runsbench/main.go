@@ -10,6 +10,10 @@
 //	go run ./scripts/runsbench                 # every function, 30 seeds
 //	go run ./scripts/runsbench -noise -seeds 10 -only branin
 //	go run ./scripts/runsbench -noise -warp=false -only forrester,branin
+//	go run ./scripts/runsbench -only "hartmann 6-D" -parallel 2
+//
+// Function names are those of planner/testfn (forrester, branin,
+// six-hump camel, hartmann 6-D).
 package main
 
 import (
@@ -19,8 +23,11 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"runtime"
 	"sort"
+	"strconv"
 	"strings"
+	"sync"
 	"time"
 
 	"benchtender/campaign"
@@ -35,13 +42,32 @@ func main() {
 	only := flag.String("only", "", "comma-separated function names (default: all)")
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
 	warp := flag.Bool("warp", true, "the planner's output warping")
+	aside := flag.Bool("set-aside", planner.Default().SetAside, "set a stalled basin aside")
 	kernel := flag.String("kernel", planner.Default().Kernel, "kernel of the Gaussian process")
 	cands := flag.Int("candidates", planner.Default().Candidates, "space-filling points scored before refinement")
 	refine := flag.Int("refine", planner.Default().Refine, "best candidates refined by local search")
 	starts := flag.Int("fit-starts", planner.Default().FitStarts, "random starts of the hyperparameter fit")
 	initial := flag.Int("initial", 0, "initial design size (0: the campaign default, d+2 and at least 4)")
+	seedList := flag.String("seed-list", "", "comma-separated seeds to run instead of 1..seeds (to study particular campaigns)")
+	parallel := flag.Int("parallel", runtime.GOMAXPROCS(0), "campaigns run at once")
 	flag.Parse()
-	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s; warp %v; initial %d (0: default)\n\n", *seeds, *noise, *acq, *warp, *initial)
+	var seedNums []uint64
+	for s := 1; s <= *seeds; s++ {
+		seedNums = append(seedNums, uint64(s))
+	}
+	if *seedList != "" {
+		seedNums = seedNums[:0]
+		for _, f := range strings.Split(*seedList, ",") {
+			n, err := strconv.ParseUint(strings.TrimSpace(f), 10, 64)
+			if err != nil {
+				fmt.Fprintf(os.Stderr, "runsbench: -seed-list: %v\n", err)
+				os.Exit(2)
+			}
+			seedNums = append(seedNums, n)
+		}
+	}
+	nSeeds := len(seedNums)
+	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s; warp %v; initial %d (0: default)\n\n", nSeeds, *noise, *acq, *warp, *initial)
 	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
 	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
 	for _, f := range testfn.All() {
@@ -50,18 +76,30 @@ func main() {
 		}
 		budget := map[int]int{1: 40, 2: 60, 6: 200}[f.Space.Dim()]
 		rangeF := span(f)
-		var counts []float64
-		reached := 0
+		counts := make([]float64, nSeeds)
+		hit := make([]bool, nSeeds)
 		start := time.Now()
-		for s := 1; s <= *seeds; s++ {
-			n, ok := campaignRuns(f, uint64(s), budget, *noise, rangeF, *acq, *warp, *initial, *kernel, *cands, *refine, *starts)
+		var wg sync.WaitGroup
+		sem := make(chan struct{}, max(1, *parallel))
+		for i, s := range seedNums {
+			wg.Add(1)
+			sem <- struct{}{}
+			go func() {
+				defer func() { <-sem; wg.Done() }()
+				n, ok := campaignRuns(f, s, budget, *noise, rangeF, *acq, *warp, *aside, *initial, *kernel, *cands, *refine, *starts)
+				counts[i], hit[i] = float64(n), ok
+				fmt.Fprintf(os.Stderr, "%s seed %d: %d runs (reached %v)\n", f.Name, s, n, ok)
+			}()
+		}
+		wg.Wait()
+		reached := 0
+		for _, ok := range hit {
 			if ok {
 				reached++
 			}
-			counts = append(counts, float64(n))
-			fmt.Fprintf(os.Stderr, "%s seed %d: %d runs (reached %v)\n", f.Name, s, n, ok)
 		}
-		per := time.Since(start) / time.Duration(*seeds)
+		// Wall time per campaign, with -parallel campaigns at once.
+		per := time.Since(start) / time.Duration(nSeeds)
 		var rs []float64
 		for s := 1; s <= 200; s++ {
 			rs = append(rs, float64(randomRuns(f, uint64(s), 1_000_000, *noise, rangeF)))
@@ -69,7 +107,7 @@ func main() {
 		mean, sd := meanSD(counts)
 		sort.Float64s(counts)
 		rmean, _ := meanSD(rs)
-		fmt.Printf("| %s | %d | %.1f | %.1f | %.0f | %.0f-%.0f | %d/%d | %.0f | %.1f s |\n", f.Name, budget, mean, sd, counts[len(counts)/2], counts[0], counts[len(counts)-1], reached, *seeds, rmean, per.Seconds())
+		fmt.Printf("| %s | %d | %.1f | %.1f | %.0f | %.0f-%.0f | %d/%d | %.0f | %.1f s |\n", f.Name, budget, mean, sd, counts[len(counts)/2], counts[0], counts[len(counts)-1], reached, nSeeds, rmean, per.Seconds())
 	}
 	fmt.Println("\nA campaign that does not reach 1% within its budget counts as the budget.")
 }
@@ -80,12 +118,13 @@ func reachedMin(f testfn.Function, v float64) bool {
 
 // campaignRuns runs one closed-loop campaign and returns the number of
 // evaluations until the 1% level was reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp bool, initial int, kernel string, cands, refine, starts int) (int, bool) {
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp, aside bool, initial int, kernel string, cands, refine, starts int) (int, bool) {
 	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
 	cfg := planner.Default()
 	cfg.Acquisition = acq
 	cfg.Warp = warp
+	cfg.SetAside = aside
 	cfg.Kernel = kernel
 	cfg.Candidates, cfg.Refine, cfg.FitStarts = cands, refine, starts
 	p := planner.New(cc, cfg)

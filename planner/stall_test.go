@@ -1,0 +1,127 @@
+package planner
+
+import (
+	"context"
+	"math"
+	"strings"
+	"testing"
+
+	"benchtender/campaign"
+	"benchtender/planner/gp"
+)
+
+func TestSetAsideAfterStall(t *testing.T) {
+	ls := []float64{0.1, 0.1}
+	window := stallRuns(2)
+	// Four runs that improve, then runs that do not: the basin is set
+	// aside once window runs have passed without progress.
+	var g [][]float64
+	var y []float64
+	for i := 0; i < 4; i++ {
+		g = append(g, []float64{0.1 * float64(i), 0.5})
+		y = append(y, 10-float64(i))
+	}
+	for i := 0; i < window-1; i++ {
+		g = append(g, []float64{0.3, 0.5 + 0.001*float64(i)})
+		y = append(y, 7+1e-6) // no better than the best, 7 at (0.3, 0.5)
+	}
+	if a, _ := setAside(g, y, ls); a != nil {
+		t.Fatalf("%d runs without progress set %d region(s) aside; want none before %d", window-1, len(a.centres), window)
+	}
+	g = append(g, []float64{0.31, 0.5})
+	y = append(y, 7)
+	a, epoch := setAside(g, y, ls)
+	if a == nil || len(a.centres) != 1 {
+		t.Fatalf("after %d runs without progress: regions %v, want one", window, a)
+	}
+	if c := a.centres[0]; math.Abs(c[0]-0.3) > 1e-12 || c[1] != 0.5 {
+		t.Errorf("region centred at %v, want the best run (0.3, 0.5)", c)
+	}
+	if epoch != len(g) {
+		t.Errorf("the new search starts at run %d, want %d (the next)", epoch, len(g))
+	}
+	// The region is an ellipsoid of asideRadius length scales.
+	for _, c := range []struct {
+		g       []float64
+		outside bool
+	}{
+		{[]float64{0.3, 0.5}, false},
+		{[]float64{0.3 + 0.99*asideRadius*0.1, 0.5}, false},
+		{[]float64{0.3 + 1.01*asideRadius*0.1, 0.5}, true},
+		{[]float64{0.3 + 0.15, 0.5 + 0.15}, true}, // (1.5² + 1.5²) > 2²
+		{[]float64{0.3 + 0.13, 0.5 + 0.13}, false},
+	} {
+		if got := a.outside(c.g); got != c.outside {
+			t.Errorf("outside(%v) = %v, want %v", c.g, got, c.outside)
+		}
+	}
+	// A run of progress (more than stallGain of the range) restarts the
+	// count; a tiny gain does not.
+	g2 := append([][]float64(nil), g[:4+window/2]...)
+	y2 := append([]float64(nil), y[:4+window/2]...)
+	g2 = append(g2, []float64{0.3, 0.6})
+	y2 = append(y2, 7-10*stallGain*3)
+	for i := 0; i < window-1; i++ {
+		g2 = append(g2, []float64{0.3, 0.6 + 0.001*float64(i)})
+		y2 = append(y2, 7-10*stallGain*3-1e-9)
+	}
+	if a, _ := setAside(g2, y2, ls); a != nil {
+		t.Errorf("progress %d runs ago set a region aside", window-1)
+	}
+}
+
+// trap is an invented test function on the unit square: a broad basin
+// of depth 1 at (0.25, 0.25) and a narrow well of depth 1.5 at
+// (0.8, 0.75), the kind of landscape where a confident model settles in
+// the broad basin.
+func trap(x []float64) float64 {
+	da := (x[0]-0.25)*(x[0]-0.25) + (x[1]-0.25)*(x[1]-0.25)
+	db := (x[0]-0.8)*(x[0]-0.8) + (x[1]-0.75)*(x[1]-0.75)
+	return -math.Exp(-da/(2*0.2*0.2)) - 1.5*math.Exp(-db/(2*0.06*0.06))
+}
+
+func TestSetAsideFindsTheWell(t *testing.T) {
+	cc := campaign.Config{Name: "trap", StateDir: "x", Seed: 3, MaxRuns: 40,
+		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
+	// Runs until the well (below −1.45) is found, and the methods used.
+	run := func(setAside bool) (int, []string) {
+		cfg := Default()
+		cfg.SetAside = setAside
+		p := New(cc, cfg)
+		var trials []campaign.Trial
+		var warm *gp.Params
+		var methods []string
+		for i := 0; i < cc.MaxRuns; i++ {
+			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Warm: warm})
+			if err != nil {
+				t.Fatalf("set aside %v, proposal %d: %v", setAside, i, err)
+			}
+			warm = res.Fit
+			methods = append(methods, res.Proposal.Method)
+			v := trap(res.Proposal.Point)
+			trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: v})
+			if v < -1.45 {
+				return i + 1, methods
+			}
+		}
+		return cc.MaxRuns + 1, methods
+	}
+	// Seed 3 is one where the model settles: over seeds 1-10 with 80
+	// runs, 2 found the well without setting aside, 7 with it.
+	if n, _ := run(false); n <= cc.MaxRuns {
+		t.Fatalf("without setting aside the well was found in %d runs; the case no longer tests the mechanism", n)
+	}
+	n, methods := run(true)
+	if n > cc.MaxRuns {
+		t.Fatalf("with setting aside the well was not found in %d runs; methods %q", cc.MaxRuns, methods)
+	}
+	var design bool
+	for _, m := range methods {
+		design = design || strings.HasPrefix(m, "design of a new search")
+	}
+	if !design {
+		t.Errorf("no proposal came from a new search's design: %q", methods)
+	}
+	t.Logf("well found in %d runs; methods %q", n, methods[len(methods)-1])
+}
