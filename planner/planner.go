@@ -79,7 +79,9 @@ type Request struct {
 	// Index counts the proposals made before this one (0 for the first);
 	// it picks the design point and seeds the random choices.
 	Index int
-	// Trials are the completed runs with a usable value, in factor units.
+	// Trials are the completed runs with a usable value, in factor units,
+	// in the order the runs were proposed (setting a stalled basin aside
+	// replays them in this order; stall.go).
 	Trials []campaign.Trial
 	// Pending are runs handed off (or about to be) whose results have not
 	// come: the model treats them as observed at its own prediction, so
@@ -332,11 +334,72 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) 
 		yw[i] = w.to(y[i])
 		gx[i] = p.encode(x[i])
 	}
-	m, err := gp.Fit(gx, yw, p.fitOptions(warm, rng))
+	m, err := fitCapped(gx, yw, p.fitOptions(warm, rng))
 	if err != nil {
 		return nil, fmt.Errorf("planner: fit surrogate: %w", err)
 	}
 	return &Fitted{Model: m, x: x, y: y, w: w}, nil
+}
+
+// fitCap is the largest number of runs the hyperparameters are fitted to.
+// Each step of the fit costs O(n³), so beyond it the fit (not the model)
+// uses a subset: the best third, the latest third and an even spread of
+// the rest. The model is then conditioned on every run with those
+// hyperparameters, one factorisation.
+const fitCap = 250
+
+func fitCapped(x [][]float64, y []float64, opt gp.FitOptions) (*gp.Model, error) {
+	if len(x) <= fitCap {
+		return gp.Fit(x, y, opt)
+	}
+	idx := fitSubset(y, fitCap)
+	sx, sy := make([][]float64, len(idx)), make([]float64, len(idx))
+	for i, j := range idx {
+		sx[i], sy[i] = x[j], y[j]
+	}
+	sub, err := gp.Fit(sx, sy, opt)
+	if err != nil {
+		return nil, err
+	}
+	return gp.New(x, y, sub.Params())
+}
+
+// fitSubset returns the indices (ascending) of n of the runs with losses
+// y: the n/3 lowest, the n/3 latest, and the rest evenly spaced among the
+// others.
+func fitSubset(y []float64, n int) []int {
+	take := make([]bool, len(y))
+	order := make([]int, len(y))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return y[order[a]] < y[order[b]] })
+	for _, i := range order[:n/3] {
+		take[i] = true
+	}
+	for i, k := len(y)-1, 0; i >= 0 && k < n/3; i-- {
+		if !take[i] {
+			take[i] = true
+			k++
+		}
+	}
+	var rest []int
+	for i := range y {
+		if !take[i] {
+			rest = append(rest, i)
+		}
+	}
+	left := n - 2*(n/3)
+	for k := 0; k < left; k++ {
+		take[rest[k*len(rest)/left]] = true
+	}
+	var out []int
+	for i, t := range take {
+		if t {
+			out = append(out, i)
+		}
+	}
+	return out
 }
 
 // byValue returns the points ordered from the lowest loss to the highest.
@@ -419,7 +482,7 @@ func (p *Planner) feasibility(trials []campaign.Trial, failed []campaign.Point, 
 		x = append(x, p.encode(p.space.ToUnit(nil, f)))
 		y = append(y, -1)
 	}
-	c, err := gp.Fit(x, y, gp.FitOptions{Kernel: gp.Matern52, Starts: 1, Rand: rng, NoiseFloor: 1e-3})
+	c, err := fitCapped(x, y, gp.FitOptions{Kernel: gp.Matern52, Starts: 1, Rand: rng, NoiseFloor: 1e-3})
 	if err != nil {
 		return nil, fmt.Errorf("planner: feasibility model: %w", err)
 	}
