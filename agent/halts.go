@@ -6,7 +6,10 @@ import (
 	"os"
 	"path/filepath"
 	"sort"
+	"strings"
 	"time"
+
+	"benchtender/planner"
 )
 
 // Halts says, in words for the morning's reader, what stops handoffs now:
@@ -96,4 +99,24 @@ func Notices(cfg Config) []string {
 		}
 	}
 	return out
+}
+
+// SetAsideNote says, in a line for status and the console, which runs'
+// basins the planner has set aside after progress stalled there and which
+// run began the search outside them; empty when none is (d from
+// planner.Diagnose over st.Trials()).
+func SetAsideNote(st *State, d planner.Diagnostics) string {
+	runs := st.TrialRuns()
+	if len(d.SetAside) == 0 || len(runs) != d.Runs {
+		return ""
+	}
+	var ids []string
+	for _, i := range d.SetAside {
+		ids = append(ids, runs[i].ID)
+	}
+	next := "the next run"
+	if d.SearchFrom < len(runs) {
+		next = runs[d.SearchFrom].ID
+	}
+	return fmt.Sprintf("set aside after no progress: the basins of %s; the search outside them began with %s", strings.Join(ids, ", "), next)
 }

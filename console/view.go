@@ -97,6 +97,7 @@ type Model struct {
 	SignalSD, NoiseSD float64
 	LOORMSE, Outside2 float64
 	Worst             []string
+	SetAside          string // agent.SetAsideNote
 }
 
 // Optimum is where the optimum probably is and how good it is.
@@ -311,7 +312,7 @@ func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt
 		return fmt.Errorf("no model yet: %v", err)
 	}
 	m := &Model{Kernel: d.Kernel, Units: d.Units, Runs: d.Runs, LogLikelihood: d.LogLikelihood,
-		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, LOORMSE: d.LOORMSE, Outside2: d.Outside2}
+		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, LOORMSE: d.LOORMSE, Outside2: d.Outside2, SetAside: agent.SetAsideNote(st, d)}
 	for _, s := range d.LengthScales {
 		m.Scales = append(m.Scales, strings.TrimSpace(fmt.Sprintf("%s %.3g %s", s.Factor, s.Value, s.Unit)))
 	}

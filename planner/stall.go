@@ -52,6 +52,7 @@ func stallRuns(d int) int { return max(15, 3*d) }
 // aside is a set of regions set aside, in the surrogate's inputs.
 type aside struct {
 	centres [][]float64
+	runs    []int     // index of each centre's run
 	invLen2 []float64 // 1/ℓ² per input
 }
 
@@ -95,6 +96,7 @@ func setAside(g [][]float64, y []float64, lengthScales []float64) (*aside, int) 
 		}
 		if bestAt >= 0 && i-last >= window {
 			a.centres = append(a.centres, g[bestAt])
+			a.runs = append(a.runs, bestAt)
 			best, bestAt, last, epoch = math.Inf(1), -1, i+1, i+1
 		}
 	}

@@ -84,8 +84,9 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 	cc := campaign.Config{Name: "trap", StateDir: "x", Seed: 3, MaxRuns: 40,
 		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
-	// Runs until the well (below −1.45) is found, and the methods used.
-	run := func(setAside bool) (int, []string) {
+	// Runs until the well (below −1.45) is found, the methods used and
+	// the runs made.
+	run := func(setAside bool) (int, []string, []campaign.Trial) {
 		cfg := Default()
 		cfg.SetAside = setAside
 		p := New(cc, cfg)
@@ -102,26 +103,38 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 			v := trap(res.Proposal.Point)
 			trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: v})
 			if v < -1.45 {
-				return i + 1, methods
+				return i + 1, methods, trials
 			}
 		}
-		return cc.MaxRuns + 1, methods
+		return cc.MaxRuns + 1, methods, trials
 	}
 	// Seed 3 is one where the model settles: over seeds 1-10 with 80
 	// runs, 2 found the well without setting aside, 7 with it.
-	if n, _ := run(false); n <= cc.MaxRuns {
+	if n, _, _ := run(false); n <= cc.MaxRuns {
 		t.Fatalf("without setting aside the well was found in %d runs; the case no longer tests the mechanism", n)
 	}
-	n, methods := run(true)
+	n, methods, trials := run(true)
 	if n > cc.MaxRuns {
 		t.Fatalf("with setting aside the well was not found in %d runs; methods %q", cc.MaxRuns, methods)
 	}
-	var design bool
-	for _, m := range methods {
-		design = design || strings.HasPrefix(m, "design of a new search")
+	first := -1
+	for i, m := range methods {
+		if strings.HasPrefix(m, "design of a new search") {
+			first = i
+			break
+		}
 	}
-	if !design {
-		t.Errorf("no proposal came from a new search's design: %q", methods)
+	if first < 0 {
+		t.Fatalf("no proposal came from a new search's design: %q", methods)
 	}
-	t.Logf("well found in %d runs; methods %q", n, methods[len(methods)-1])
+	t.Logf("well found in %d runs; the new search began at run %d", n, first+1)
+	// Diagnose reports what the proposals did: the run whose basin was
+	// set aside, and the first run of the new search.
+	d, _, err := New(cc, Default()).Diagnose(context.Background(), trials)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(d.SetAside) != 1 || d.SearchFrom != first {
+		t.Errorf("Diagnose: set aside %v, search from %d; the proposals began one new search at %d", d.SetAside, d.SearchFrom, first)
+	}
 }

@@ -79,6 +79,9 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 	for _, c := range worst[:min(3, len(worst))] {
 		fmt.Fprintf(stdout, "    %s measured %.4g, predicted from the others %.4g (standardised error %+.2f)\n", runs[c.Index].ID, c.Measured, c.Predicted, c.Standardised)
 	}
+	if note := agent.SetAsideNote(st, d); note != "" {
+		fmt.Fprintf(stdout, "  %s\n", note)
+	}
 	o, err := pl.OptimumOf(ctx, fitted, cfg.Planner.Samples, rand.New(rand.NewPCG(cfg.Campaign.Seed, 0x0b7)))
 	if err != nil {
 		fmt.Fprintf(stdout, "optimum: not computed (%v)\n", err)
