@@ -193,9 +193,11 @@ func (p *Planner) searchOutside(ctx context.Context, req Request, ft *Fitted, a 
 		if u == nil {
 			return Result{}, errNoCandidate
 		}
-		fit := ft.Model.Params()
-		return p.result(req.RunID, u, fmt.Sprintf("design of a new search, outside %d stalled region(s)", len(a.centres)), 0,
-			Result{Model: ft.Model, Fit: &fit, Best: ft.w.from(p.bestMean(ft.Model, ft.x))})
+		res, err := p.summary(ctx, req, ft, near, math.NaN(), rng)
+		if err != nil {
+			return Result{}, err
+		}
+		return p.result(req.RunID, u, fmt.Sprintf("design of a new search, outside %d stalled region(s)", len(a.centres)), 0, res)
 	}
 	local, err := p.fit(req.Trials[epoch:], nil, rng)
 	if err != nil {
@@ -207,27 +209,11 @@ func (p *Planner) searchOutside(ctx context.Context, req Request, ft *Fitted, a 
 // search proposes the point that maximises the acquisition on the model
 // of search (ft itself, or a new search's), outside the regions a and away
 // from the points near; what is reported (best, expected improvement,
-// stopping) is always from ft, the model of every run.
+// stopping) is always from ft, the model of every run (summary).
 func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a *aside, near [][]float64, rng *rand.Rand) (Result, error) {
-	m := ft.Model
-	fit := m.Params()
-	best := p.bestMean(m, ft.x)
-	far := func(u []float64) bool {
-		for _, v := range near {
-			if dist2(u, v) < minSpacing*minSpacing {
-				return false
-			}
-		}
-		return true
-	}
-	// Pending runs: condition on them at the model's own prediction.
-	pend := make([][]float64, len(req.Pending))
-	for i, pt := range req.Pending {
-		pend[i] = p.encode(p.space.ToUnit(nil, pt))
-	}
-	believer, err := search.Model.WithFantasies(pend)
+	believer, err := p.believer(search.Model, req.Pending)
 	if err != nil {
-		return Result{}, fmt.Errorf("planner: pending runs: %w", err)
+		return Result{}, err
 	}
 	feasible, err := p.feasibility(req.Trials, req.Failed, rng)
 	if err != nil {
@@ -238,7 +224,7 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 		return Result{}, err
 	}
 	u, s, err := p.maximise(ctx, func(u []float64) float64 {
-		if !far(u) || !a.outside(p.encode(u)) {
+		if !farFrom(u, near) || !a.outside(p.encode(u)) {
 			return math.Inf(-1)
 		}
 		return score(u)
@@ -246,26 +232,46 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 	if err != nil {
 		return Result{}, err
 	}
-	res := Result{Model: m, Fit: &fit, Best: best}
+	// The score is the expected improvement on the model of every run
+	// only when that model chose the point by it.
+	ei := math.NaN()
 	if p.cfg.Acquisition == AcqExpectedImprovement && a == nil {
-		res.EI = math.Exp(s)
-	} else {
-		// Report the best EI anywhere on the model of every run, whatever
-		// chose the point.
-		if a != nil {
-			method += fmt.Sprintf(" in a new search, outside %d stalled region(s)", len(a.centres))
-			if believer, err = m.WithFantasies(pend); err != nil {
-				return Result{}, fmt.Errorf("planner: pending runs: %w", err)
-			}
+		ei = math.Exp(s)
+	}
+	if a != nil {
+		method += fmt.Sprintf(" in a new search, outside %d stalled region(s)", len(a.centres))
+	}
+	res, err := p.summary(ctx, req, ft, near, ei, rng)
+	if err != nil {
+		return Result{}, err
+	}
+	return p.result(req.RunID, u, method, s, res)
+}
+
+// summary is what a proposal reports from ft, the model of every run: the
+// best posterior mean at a run, the largest expected improvement anywhere
+// (ei, in modelled units, when the caller already has it; NaN to search
+// for it), both in the response's units, and the stopping rule's verdict.
+func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][]float64, ei float64, rng *rand.Rand) (Result, error) {
+	m := ft.Model
+	fit := m.Params()
+	best := p.bestMean(m, ft.x)
+	res := Result{Model: m, Fit: &fit}
+	if math.IsNaN(ei) {
+		believer, err := p.believer(m, req.Pending)
+		if err != nil {
+			return Result{}, err
 		}
 		if _, le, err := p.maximise(ctx, func(v []float64) float64 {
-			if !far(v) {
+			if !farFrom(v, near) {
 				return math.Inf(-1)
 			}
 			return acquisition.LogExpectedImprovement(p.predictSD(believer, v)(best))
 		}, byValue(ft.x, ft.y), rng); err == nil {
 			res.EI = math.Exp(le)
 		}
+	} else {
+		res.EI = ei
 	}
 	// In the response's units: a small improvement in warped units times
 	// the warping's slope at the incumbent.
@@ -276,7 +282,26 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 	} else if stop != "" {
 		res.Stop, res.Optimum = stop, opt
 	}
-	return p.result(req.RunID, u, method, s, res)
+	return res, nil
+}
+
+// believer conditions m on the pending runs at its own prediction, so that
+// a batch spreads out (the kriging believer).
+func (p *Planner) believer(m *gp.Model, pending []campaign.Point) (*gp.Model, error) {
+	pend := make([][]float64, len(pending))
+	for i, pt := range pending {
+		pend[i] = p.encode(p.space.ToUnit(nil, pt))
+	}
+	b, err := m.WithFantasies(pend)
+	if err != nil {
+		return nil, fmt.Errorf("planner: pending runs: %w", err)
+	}
+	return b, nil
+}
+
+// farFrom reports whether u keeps minSpacing from every point of near.
+func farFrom(u []float64, near [][]float64) bool {
+	return nearest(u, near) >= minSpacing*minSpacing
 }
 
 // bestMean returns the lowest posterior mean at the runs x: improvement is
@@ -522,24 +547,36 @@ func (p *Planner) designPoint(i int, rng *rand.Rand, avoid [][]float64) (campaig
 	}
 	const tries = 100000
 	var fallback campaign.Point
+	u := p.randomUnit(rng, tries, func(u campaign.Point) bool {
+		if !p.feasibleUnit(u) {
+			return false
+		}
+		fallback = u
+		return nearest(u, avoid) > minSpacing*minSpacing
+	})
+	switch {
+	case u != nil:
+		return u, nil
+	case fallback != nil:
+		return fallback, nil // a small discrete space: every point was tried
+	}
+	return nil, fmt.Errorf("planner: no setpoint satisfying the constraints found in %d random tries", tries)
+}
+
+// randomUnit returns the first of up to tries uniform random points of
+// the unit box, snapped to valid values, that ok accepts; nil when none
+// is.
+func (p *Planner) randomUnit(rng *rand.Rand, tries int, ok func(campaign.Point) bool) campaign.Point {
 	for t := 0; t < tries; t++ {
 		u := make(campaign.Point, p.space.Dim())
 		for k := range u {
 			u[k] = rng.Float64()
 		}
-		u = p.snapUnit(u)
-		if !p.feasibleUnit(u) {
-			continue
+		if u = p.snapUnit(u); ok(u) {
+			return u
 		}
-		if nearest(u, avoid) > minSpacing*minSpacing {
-			return u, nil
-		}
-		fallback = u
 	}
-	if fallback != nil {
-		return fallback, nil // a small discrete space: every point was tried
-	}
-	return nil, fmt.Errorf("planner: no setpoint satisfying the constraints found in %d random tries", tries)
+	return nil
 }
 
 // maximise finds a high score in the unit box: score a space-filling set

@@ -131,15 +131,5 @@ func (p *Planner) restartPoint(epoch, n int, a *aside, rng *rand.Rand, near [][]
 	if u := p.snapUnit(design[n]); ok(u) {
 		return u
 	}
-	const tries = 10000
-	for t := 0; t < tries; t++ {
-		u := make(campaign.Point, p.space.Dim())
-		for k := range u {
-			u[k] = rng.Float64()
-		}
-		if u = p.snapUnit(u); ok(u) {
-			return u
-		}
-	}
-	return nil
+	return p.randomUnit(rng, 10000, ok)
 }

@@ -100,6 +100,11 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 			}
 			warm = res.Fit
 			methods = append(methods, res.Proposal.Method)
+			// A new search's design point still reports from the model
+			// of every run, for status and the stopping rule.
+			if strings.HasPrefix(res.Proposal.Method, "design of a new search") && (res.Model == nil || !(res.EI > 0)) {
+				t.Fatalf("proposal %d (%s) reports model %v, expected improvement %v", i, res.Proposal.Method, res.Model, res.EI)
+			}
 			v := trap(res.Proposal.Point)
 			trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: v})
 			if v < -1.45 {
