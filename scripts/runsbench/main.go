@@ -10,6 +10,7 @@
 //	go run ./scripts/runsbench                 # every function, 30 seeds
 //	go run ./scripts/runsbench -noise -seeds 10 -only branin
 //	go run ./scripts/runsbench -noise -warp=false -only forrester,branin
+//	go run ./scripts/runsbench -noise -known-noise   # noise_sd given
 //	go run ./scripts/runsbench -only "hartmann 6-D" -parallel 2
 //
 // Function names are those of planner/testfn (forrester, branin,
@@ -43,6 +44,7 @@ func main() {
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
 	warp := flag.Bool("warp", true, "the planner's output warping")
 	aside := flag.Bool("set-aside", planner.Default().SetAside, "set a stalled basin aside")
+	known := flag.Bool("known-noise", false, "with -noise, tell the planner the noise (noise_sd), as the README advises for noisy instruments")
 	kernel := flag.String("kernel", planner.Default().Kernel, "kernel of the Gaussian process")
 	cands := flag.Int("candidates", planner.Default().Candidates, "space-filling points scored before refinement")
 	refine := flag.Int("refine", planner.Default().Refine, "best candidates refined by local search")
@@ -67,7 +69,7 @@ func main() {
 		}
 	}
 	nSeeds := len(seedNums)
-	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v; acquisition %s; warp %v; initial %d (0: default)\n\n", nSeeds, *noise, *acq, *warp, *initial)
+	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v (known to the planner: %v); acquisition %s; warp %v; set aside %v; initial %d (0: default)\n\n", nSeeds, *noise, *known, *acq, *warp, *aside, *initial)
 	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
 	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
 	for _, f := range testfn.All() {
@@ -86,7 +88,7 @@ func main() {
 			sem <- struct{}{}
 			go func() {
 				defer func() { <-sem; wg.Done() }()
-				n, ok := campaignRuns(f, s, budget, *noise, rangeF, *acq, *warp, *aside, *initial, *kernel, *cands, *refine, *starts)
+				n, ok := campaignRuns(f, s, budget, *noise, rangeF, *acq, *warp, *aside, *known, *initial, *kernel, *cands, *refine, *starts)
 				counts[i], hit[i] = float64(n), ok
 				fmt.Fprintf(os.Stderr, "%s seed %d: %d runs (reached %v)\n", f.Name, s, n, ok)
 			}()
@@ -118,13 +120,16 @@ func reachedMin(f testfn.Function, v float64) bool {
 
 // campaignRuns runs one closed-loop campaign and returns the number of
 // evaluations until the 1% level was reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp, aside bool, initial int, kernel string, cands, refine, starts int) (int, bool) {
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp, aside, known bool, initial int, kernel string, cands, refine, starts int) (int, bool) {
 	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
 	cfg := planner.Default()
 	cfg.Acquisition = acq
 	cfg.Warp = warp
 	cfg.SetAside = aside
+	if noisy && known {
+		cfg.NoiseSD = 0.01 * rangeF
+	}
 	cfg.Kernel = kernel
 	cfg.Candidates, cfg.Refine, cfg.FitStarts = cands, refine, starts
 	p := planner.New(cc, cfg)
