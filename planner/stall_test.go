@@ -3,6 +3,8 @@ package planner
 import (
 	"context"
 	"math"
+	"math/rand/v2"
+	"slices"
 	"strings"
 	"testing"
 
@@ -142,4 +144,59 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 	if len(d.SetAside) != 1 || d.SearchFrom != first {
 		t.Errorf("Diagnose: set aside %v, search from %d; the proposals began one new search at %d", d.SetAside, d.SearchFrom, first)
 	}
+}
+
+// Property: once basins are set aside, proposals are still valid setpoints
+// that break no constraint and repeat no run or pending run: mixed,
+// constrained campaigns on a response that is flat but for a dip too
+// narrow to be found (so progress stalls again and again), two runs
+// pending at each request.
+func TestSetAsideProposalsStayValid(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	cfg := Default()
+	cfg.Candidates = 300
+	for c := 0; c < 6; c++ {
+		cc := randomCampaign(rng, uint64(c))
+		p := New(cc, cfg)
+		var trials []campaign.Trial
+		var pending []campaign.Point
+		stalled := false
+		for i := 0; i < 45; i++ {
+			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Pending: pending})
+			if err != nil {
+				t.Fatalf("campaign %d proposal %d: %v", c, i, err)
+			}
+			pt := res.Proposal.Point
+			if !p.space.Contains(pt) {
+				t.Fatalf("campaign %d proposal %d (%s): %v is not valid", c, i, res.Proposal.Method, pt)
+			}
+			if v := p.Violated(pt); v != "" {
+				t.Fatalf("campaign %d proposal %d (%s): %v breaks %s", c, i, res.Proposal.Method, pt, v)
+			}
+			for _, q := range append(pointsOfTrials(trials), pending...) {
+				if slices.Equal(q, pt) {
+					t.Fatalf("campaign %d proposal %d (%s): %v repeats a run", c, i, res.Proposal.Method, pt)
+				}
+			}
+			stalled = stalled || strings.Contains(res.Proposal.Method, "new search")
+			pending = append(pending, pt)
+			if len(pending) > 2 {
+				done := pending[0]
+				pending = pending[1:]
+				dip := (done[0]-0.3)*(done[0]-0.3) + (done[1]-0.2)*(done[1]-0.2)
+				trials = append(trials, campaign.Trial{Point: done, Value: 1 - math.Exp(-dip/1e-7)})
+			}
+		}
+		if !stalled {
+			t.Errorf("campaign %d never set a basin aside; the case does not test it", c)
+		}
+	}
+}
+
+func pointsOfTrials(ts []campaign.Trial) []campaign.Point {
+	out := make([]campaign.Point, len(ts))
+	for i, t := range ts {
+		out[i] = t.Point
+	}
+	return out
 }
