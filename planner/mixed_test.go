@@ -51,18 +51,26 @@ func TestMixedAndConstrainedProposalsAreAlwaysValid(t *testing.T) {
 				t.Fatalf("campaign %d proposal %d: %v", c, i, err)
 			}
 			pt := res.Proposal.Point
-			if !p.space.Contains(pt) {
-				t.Fatalf("campaign %d proposal %d: %v is not valid for %+v", c, i, pt, p.space)
-			}
-			if v := p.Violated(pt); v != "" {
-				t.Fatalf("campaign %d proposal %d: %v breaks %s", c, i, pt, v)
-			}
+			assertValid(t, p, c, i, res)
 			y := math.Sin(5*pt[0]) + pt[1]*pt[1]
 			for k := 2; k < len(pt); k++ {
 				y += 0.1 * pt[k]
 			}
 			trials = append(trials, campaign.Trial{Point: pt, Value: y})
 		}
+	}
+}
+
+// assertValid fails the test unless proposal i of campaign c is a valid
+// setpoint that breaks no constraint.
+func assertValid(t *testing.T, p *Planner, c, i int, res Result) {
+	t.Helper()
+	pt := res.Proposal.Point
+	if !p.space.Contains(pt) {
+		t.Fatalf("campaign %d proposal %d (%s): %v is not valid for %+v", c, i, res.Proposal.Method, pt, p.space)
+	}
+	if v := p.Violated(pt); v != "" {
+		t.Fatalf("campaign %d proposal %d (%s): %v breaks %s", c, i, res.Proposal.Method, pt, v)
 	}
 }
 

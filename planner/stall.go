@@ -126,7 +126,7 @@ func (p *Planner) setAsideFor(f *Fitted) (*aside, int) {
 func (p *Planner) restartPoint(epoch, n int, a *aside, rng *rand.Rand, near [][]float64) campaign.Point {
 	design := LatinHypercube(p.nInit, p.space.Dim(), rand.NewPCG(p.seed, 0x1a7e+uint64(epoch)))
 	ok := func(u campaign.Point) bool {
-		return p.feasibleUnit(u) && a.outside(p.encode(u)) && nearest(u, near) > minSpacing*minSpacing
+		return p.feasibleUnit(u) && a.outside(p.encode(u)) && farFrom(u, near)
 	}
 	if u := p.snapUnit(design[n]); ok(u) {
 		return u

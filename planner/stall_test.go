@@ -167,12 +167,7 @@ func TestSetAsideProposalsStayValid(t *testing.T) {
 				t.Fatalf("campaign %d proposal %d: %v", c, i, err)
 			}
 			pt := res.Proposal.Point
-			if !p.space.Contains(pt) {
-				t.Fatalf("campaign %d proposal %d (%s): %v is not valid", c, i, res.Proposal.Method, pt)
-			}
-			if v := p.Violated(pt); v != "" {
-				t.Fatalf("campaign %d proposal %d (%s): %v breaks %s", c, i, res.Proposal.Method, pt, v)
-			}
+			assertValid(t, p, c, i, res)
 			for _, q := range append(pointsOfTrials(trials), pending...) {
 				if slices.Equal(q, pt) {
 					t.Fatalf("campaign %d proposal %d (%s): %v repeats a run", c, i, res.Proposal.Method, pt)
