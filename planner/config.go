@@ -33,8 +33,12 @@ type Config struct {
 	// FitStarts is the number of random starts of the hyperparameter fit,
 	// on top of the default and the warm start.
 	FitStarts int `toml:"fit_starts"`
-	// Kernel is "matern52" (default), "matern32" or
-	// "squared_exponential".
+	// Kernel is "matern32" (default), "matern52" or
+	// "squared_exponential". Matérn 3/2 by default: on the runs-to-optimum
+	// benchmark over 600 seeds (README) it needed fewer runs than 5/2 on
+	// Branin (18.8 against 21.5) and the six-hump camel (16.5 against
+	// 17.2), the log output warp making the modelled loss rougher near the
+	// best run than the response itself.
 	Kernel string `toml:"kernel"`
 	// NoiseSD, when positive, is the instrument's known repeatability (one
 	// standard deviation, in the response's unit, or of its logarithm
@@ -74,7 +78,7 @@ type StopConfig struct {
 // Default returns the defaults.
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, Candidates: 2000, Refine: 5, FitStarts: 2,
-		Kernel: "matern52", Warp: true, SetAside: true, Batch: 1, Samples: 64}
+		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64}
 }
 
 // Validate reports every problem, keyed relative to the section.
@@ -98,7 +102,7 @@ func (c Config) Validate() campaign.Problems {
 		ps.Add("fit_starts", "must not be negative, got %d", c.FitStarts)
 	}
 	if _, err := gp.ParseKernel(c.Kernel); err != nil {
-		ps.Add("kernel", "must be matern52, matern32 or squared_exponential, got %q", c.Kernel)
+		ps.Add("kernel", "must be matern32, matern52 or squared_exponential, got %q", c.Kernel)
 	}
 	if c.NoiseSD < 0 || math.IsNaN(c.NoiseSD) || math.IsInf(c.NoiseSD, 0) {
 		ps.Add("noise_sd", "must be 0 (learn the noise) or a positive number, got %v", c.NoiseSD)

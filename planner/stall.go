@@ -36,8 +36,8 @@ import (
 // every request, so the planner stays stateless.
 const (
 	stallGain = 1e-3
-	// asideRadius is in length scales: a Matérn 5/2 correlation of 0.14
-	// at the edge.
+	// asideRadius is in length scales: a Matérn 3/2 (or 5/2) correlation
+	// of 0.14 at the edge.
 	asideRadius = 2.0
 )
 

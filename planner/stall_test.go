@@ -83,7 +83,7 @@ func trap(x []float64) float64 {
 }
 
 func TestSetAsideFindsTheWell(t *testing.T) {
-	cc := campaign.Config{Name: "trap", StateDir: "x", Seed: 3, MaxRuns: 40,
+	cc := campaign.Config{Name: "trap", StateDir: "x", Seed: 7, MaxRuns: 50,
 		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
 	// Runs until the well (below −1.45) is found, the methods used and
@@ -115,8 +115,10 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 		}
 		return cc.MaxRuns + 1, methods, trials
 	}
-	// Seed 3 is one where the model settles: over seeds 1-10 with 80
-	// runs, 2 found the well without setting aside, 7 with it.
+	// Seed 7 is one where the model settles: over seeds 1-10 with 80
+	// runs, 2 found the well without setting aside, 8 with it (with
+	// Matérn 5/2, 2 and 7); seed 7 found it in 72 runs without and 39
+	// with.
 	if n, _, _ := run(false); n <= cc.MaxRuns {
 		t.Fatalf("without setting aside the well was found in %d runs; the case no longer tests the mechanism", n)
 	}
@@ -148,9 +150,12 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 
 // Property: once basins are set aside, proposals are still valid setpoints
 // that break no constraint and repeat no run or pending run: mixed,
-// constrained campaigns on a response that is flat but for a dip too
-// narrow to be found (so progress stalls again and again), two runs
-// pending at each request.
+// constrained campaigns on a response that is a shallow bowl (its centre
+// inside every constraint) with a dip
+// too narrow to be found (so progress stalls once the bowl is resolved,
+// and again in the new search), two runs pending at each request. (A flat
+// response is no case: its fitted length scales span the box, the region
+// set aside would too, and the planner rightly goes on as before.)
 func TestSetAsideProposalsStayValid(t *testing.T) {
 	rng := rand.New(rand.NewPCG(41, 42))
 	cfg := Default()
@@ -160,8 +165,9 @@ func TestSetAsideProposalsStayValid(t *testing.T) {
 		p := New(cc, cfg)
 		var trials []campaign.Trial
 		var pending []campaign.Point
-		stalled := false
-		for i := 0; i < 45; i++ {
+		// Until a new search has made 10 proposals, or 90 in all.
+		stalled := 0
+		for i := 0; i < 90 && stalled < 10; i++ {
 			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Pending: pending})
 			if err != nil {
 				t.Fatalf("campaign %d proposal %d: %v", c, i, err)
@@ -173,16 +179,19 @@ func TestSetAsideProposalsStayValid(t *testing.T) {
 					t.Fatalf("campaign %d proposal %d (%s): %v repeats a run", c, i, res.Proposal.Method, pt)
 				}
 			}
-			stalled = stalled || strings.Contains(res.Proposal.Method, "new search")
+			if strings.Contains(res.Proposal.Method, "new search") {
+				stalled++
+			}
 			pending = append(pending, pt)
 			if len(pending) > 2 {
 				done := pending[0]
 				pending = pending[1:]
 				dip := (done[0]-0.3)*(done[0]-0.3) + (done[1]-0.2)*(done[1]-0.2)
-				trials = append(trials, campaign.Trial{Point: done, Value: 1 - math.Exp(-dip/1e-7)})
+				bowl := (done[0]-0.15)*(done[0]-0.15) + (done[1]-0.3)*(done[1]-0.3)
+				trials = append(trials, campaign.Trial{Point: done, Value: 1 + 0.2*bowl - math.Exp(-dip/1e-7)})
 			}
 		}
-		if !stalled {
+		if stalled == 0 {
 			t.Errorf("campaign %d never set a basin aside; the case does not test it", c)
 		}
 	}
