@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/optimize/functions"
@@ -72,28 +73,48 @@ func braninCampaign(seed uint64, maxRuns int) campaign.Config {
 }
 
 // Proposals approach the published Branin minimum 0.397887 (Surjanovic and
-// Bingham): within 1% relative error in 40 evaluations, for each of three
-// seeds. Random search needs about 1,500 evaluations for that on average
-// (the 1% level set covers roughly 0.07% of the box).
+// Bingham): within 1% relative error in 40 evaluations for at least 9 of
+// ten seeds, and in at most 25 for the median one. Random search needs
+// about 1,500 evaluations for that on average (the 1% level set covers
+// roughly 0.07% of the box). One seed in ten is allowed its slow campaign:
+// over 600 seeds of the runs-to-optimum benchmark (README) about one
+// campaign in a hundred needs more than 40 runs, and which seed does
+// shifts with any change to the planner.
 func TestProposalsApproachBraninMinimum(t *testing.T) {
 	if testing.Short() {
 		t.Skip("closed-loop campaign")
 	}
-	for _, seed := range []uint64{1, 2, 3} {
-		t.Run(fmt.Sprint(seed), func(t *testing.T) {
-			trace := runCampaign(t, braninCampaign(seed, 40), branin, 40)
-			hit := -1
-			for i, b := range trace {
-				if math.Abs(b-braninMin)/braninMin < 0.01 {
-					hit = i + 1
-					break
-				}
+	const budget = 40
+	hits := make([]int, 0, 10)
+	for seed := uint64(1); seed <= 10; seed++ {
+		trace := runCampaign(t, braninCampaign(seed, budget), branin, budget)
+		hit := budget + 1 // not reached
+		for i, b := range trace {
+			if math.Abs(b-braninMin)/braninMin < 0.01 {
+				hit = i + 1
+				break
 			}
-			t.Logf("seed %d: best %.6f after 40; within 1%% after %d evaluations", seed, trace[len(trace)-1], hit)
-			if hit < 0 {
-				t.Errorf("best %.6f after 40 evaluations, want within 1%% of %.6f", trace[len(trace)-1], braninMin)
-			}
-		})
+		}
+		reached := fmt.Sprintf("within 1%% after %d evaluations", hit)
+		if hit > budget {
+			reached = "not within 1%"
+		}
+		t.Logf("seed %d: best %.6f after %d; %s", seed, trace[len(trace)-1], budget, reached)
+		hits = append(hits, hit)
+	}
+	missed := 0
+	for _, h := range hits {
+		if h > budget {
+			missed++
+		}
+	}
+	slices.Sort(hits)
+	median := (hits[4] + hits[5]) / 2
+	if missed > 1 {
+		t.Errorf("%d of 10 seeds missed 1%% of %.6f within %d evaluations, want at most 1", missed, braninMin, budget)
+	}
+	if median > 25 {
+		t.Errorf("median evaluations to 1%%: %d, want at most 25", median)
 	}
 }
 
