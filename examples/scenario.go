@@ -124,6 +124,11 @@ unit = "mL/min"
 column = "Hold"
 unit = "min"
 
+# The simulated reactor repeats to 0.3 %% strength (one standard
+# deviation), so the planner is told so rather than left to guess it.
+[planner]
+noise_sd = 0.3
+
 # Moves above 90 degC or faster than 4 mL/min are held for a person's
 # sign-off; nothing outside the hard limits is ever handed off.
 [safety.limits.temperature]
