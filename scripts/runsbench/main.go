@@ -12,6 +12,7 @@
 //	go run ./scripts/runsbench -noise -warp=false -only forrester,branin
 //	go run ./scripts/runsbench -noise -known-noise   # noise_sd given
 //	go run ./scripts/runsbench -only "hartmann 6-D" -parallel 2
+//	go run ./scripts/runsbench -acquisition confidence_bound -beta 1 -seed-list 1001,1002
 //
 // Function names are those of planner/testfn (forrester, branin,
 // six-hump camel, hartmann 6-D).
@@ -42,6 +43,7 @@ func main() {
 	noise := flag.Bool("noise", false, "add Gaussian noise of 1% of the function's range")
 	only := flag.String("only", "", "comma-separated function names (default: all)")
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
+	beta := flag.Float64("beta", planner.Default().Beta, "exploration weight of the confidence bound")
 	warp := flag.Bool("warp", true, "the planner's output warping")
 	aside := flag.Bool("set-aside", planner.Default().SetAside, "set a stalled basin aside")
 	known := flag.Bool("known-noise", false, "with -noise, tell the planner the noise (noise_sd), as the README advises for noisy instruments")
@@ -69,7 +71,10 @@ func main() {
 		}
 	}
 	nSeeds := len(seedNums)
-	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v (known to the planner: %v); acquisition %s; warp %v; set aside %v; initial %d (0: default)\n\n", nSeeds, *noise, *known, *acq, *warp, *aside, *initial)
+	cfg := planner.Default()
+	cfg.Acquisition, cfg.Beta, cfg.Warp, cfg.SetAside, cfg.Kernel = *acq, *beta, *warp, *aside, *kernel
+	cfg.Candidates, cfg.Refine, cfg.FitStarts = *cands, *refine, *starts
+	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v (known to the planner: %v); acquisition %s (beta %g); kernel %s; warp %v; set aside %v; initial %d (0: default)\n\n", nSeeds, *noise, *known, *acq, *beta, *kernel, *warp, *aside, *initial)
 	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
 	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
 	for _, f := range testfn.All() {
@@ -88,7 +93,11 @@ func main() {
 			sem <- struct{}{}
 			go func() {
 				defer func() { <-sem; wg.Done() }()
-				n, ok := campaignRuns(f, s, budget, *noise, rangeF, *acq, *warp, *aside, *known, *initial, *kernel, *cands, *refine, *starts)
+				c := cfg
+				if *noise && *known {
+					c.NoiseSD = 0.01 * rangeF
+				}
+				n, ok := campaignRuns(f, s, budget, *noise, rangeF, c, *initial)
 				counts[i], hit[i] = float64(n), ok
 				fmt.Fprintf(os.Stderr, "%s seed %d: %d runs (reached %v)\n", f.Name, s, n, ok)
 			}()
@@ -118,20 +127,12 @@ func reachedMin(f testfn.Function, v float64) bool {
 	return math.Abs(v-f.Min)/math.Abs(f.Min) < 0.01
 }
 
-// campaignRuns runs one closed-loop campaign and returns the number of
-// evaluations until the 1% level was reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, acq string, warp, aside, known bool, initial int, kernel string, cands, refine, starts int) (int, bool) {
+// campaignRuns runs one closed-loop campaign with the planner configured
+// by cfg and returns the number of evaluations until the 1% level was
+// reached (or the budget).
+func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, cfg planner.Config, initial int) (int, bool) {
 	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
-	cfg := planner.Default()
-	cfg.Acquisition = acq
-	cfg.Warp = warp
-	cfg.SetAside = aside
-	if noisy && known {
-		cfg.NoiseSD = 0.01 * rangeF
-	}
-	cfg.Kernel = kernel
-	cfg.Candidates, cfg.Refine, cfg.FitStarts = cands, refine, starts
 	p := planner.New(cc, cfg)
 	noiseRNG := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
