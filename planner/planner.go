@@ -359,7 +359,7 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) 
 		yw[i] = w.to(y[i])
 		gx[i] = p.encode(x[i])
 	}
-	m, err := fitCapped(gx, yw, p.fitOptions(warm, rng))
+	m, err := fitCapped(gx, yw, p.fitOptions(warm, rng, len(gx), len(gx[0])))
 	if err != nil {
 		return nil, fmt.Errorf("planner: fit surrogate: %w", err)
 	}

@@ -29,6 +29,11 @@ type FitOptions struct {
 	FixedNoise float64
 	// Rand is the source of the random starts; required when Starts > 0.
 	Rand *rand.Rand
+	// Isotropic ties every length-scale to one value (one hyperparameter
+	// instead of one per input), for data too few to tell the inputs'
+	// scales apart. The returned Params still hold one length-scale per
+	// input, all equal.
+	Isotropic bool
 }
 
 // Weak priors on the hyperparameters, in unit-box inputs and standardised
@@ -71,6 +76,7 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 		z[i] = (v - mean) / scale
 	}
 	obj := newObjective(x, z, opt.Kernel, opt.NoiseFloor)
+	obj.iso = opt.Isotropic
 	if opt.FixedNoise > 0 {
 		obj.fixedNoise = math.Max(opt.FixedNoise/(scale*scale), opt.NoiseFloor)
 	}
@@ -157,6 +163,7 @@ type objective struct {
 	z          []float64
 	floor      float64
 	fixedNoise float64     // > 0: noise is not fitted
+	iso        bool        // one length-scale for every input
 	sq         [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≥ i
 
 	// Scratch, all n×n row major (upper triangles) or n.
@@ -191,7 +198,7 @@ func newObjective(x [][]float64, z []float64, kern Kernel, floor float64) *objec
 
 // clone returns an objective sharing o's data with scratch of its own.
 func (o *objective) clone() *objective {
-	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, sq: o.sq}
+	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, iso: o.iso, sq: o.sq}
 }
 
 func (o *objective) scratch() {
@@ -302,6 +309,9 @@ func (o *objective) compute(t []float64) float64 {
 		lp += logNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD)
 	}
 	for k := 0; k < d; k++ {
+		if o.iso && k > 0 {
+			break // tied length-scales: one prior
+		}
 		lp += logNormal(t[k], priorLogLenMean, priorLogLenSD)
 	}
 	f := -(lml + lp)
@@ -348,7 +358,10 @@ func (o *objective) eval(t, grad []float64) float64 {
 	}
 	for k := 0; k < d; k++ {
 		// d(r²)/d ln l_k = −2 Δ_k²/l_k², so dk/d ln l_k = s² g Δ_k²/l_k².
-		grad[k] = -(0.5*grad[k]*s2*math.Exp(-2*t[k]) + dLogNormal(t[k], priorLogLenMean, priorLogLenSD))
+		grad[k] = -0.5 * grad[k] * s2 * math.Exp(-2*t[k])
+		if !o.iso || k == 0 {
+			grad[k] -= dLogNormal(t[k], priorLogLenMean, priorLogLenSD)
+		}
 	}
 	grad[d] = -(0.5*gs*s2 + dLogNormal(t[d], priorLogSigMean, priorLogSigSD))
 	if o.fixedNoise == 0 {
@@ -359,18 +372,23 @@ func (o *objective) eval(t, grad []float64) float64 {
 }
 
 func (o *objective) minimise(t0 []float64) ([]float64, float64, error) {
-	f0 := o.eval(t0, nil)
+	r0, expand, fold := o.reduce(t0)
+	f0 := o.value(expand(r0))
 	if math.IsInf(f0, 1) || math.IsNaN(f0) {
 		return nil, 0, errors.New("gp: start point not usable")
 	}
+	full := make([]float64, len(t0))
 	p := optimize.Problem{
-		Func: func(t []float64) float64 { return o.value(t) },
-		Grad: func(g, t []float64) { o.eval(t, g) },
+		Func: func(r []float64) float64 { return o.value(expand(r)) },
+		Grad: func(g, r []float64) {
+			o.eval(expand(r), full)
+			fold(g, full)
+		},
 	}
 	// The objective is a few hundred in size at most; a gradient below
 	// 1e-3 leaves it within about 1e-9 of its optimum (measured), and
 	// tighter thresholds only spend evaluations in failing line searches.
-	res, err := optimize.Minimize(p, t0, &optimize.Settings{
+	res, err := optimize.Minimize(p, r0, &optimize.Settings{
 		MajorIterations:   200,
 		GradientThreshold: 1e-3,
 		Converger:         &optimize.FunctionConverge{Absolute: 1e-6, Relative: 1e-8, Iterations: 5},
@@ -384,9 +402,41 @@ func (o *objective) minimise(t0 []float64) ([]float64, float64, error) {
 		return nil, 0, fmt.Errorf("gp: L-BFGS ended at a non-finite value: %v", err)
 	}
 	if res.F > f0 {
-		return t0, f0, nil
+		return expand(r0), f0, nil
 	}
-	return res.X, res.F, nil
+	return expand(res.X), res.F, nil
+}
+
+// reduce returns the vector the optimiser works on, starting from θ = t0:
+// θ itself, or with tied length-scales (ln l, ln s², ln σ², m) with ln l
+// the mean of t0's. expand maps it back to θ, and fold turns a gradient
+// over θ into one over it (the tied length-scale's is the sum of the
+// per-input ones).
+func (o *objective) reduce(t0 []float64) (r0 []float64, expand func([]float64) []float64, fold func(g, full []float64)) {
+	if !o.iso {
+		return slices.Clone(t0), func(r []float64) []float64 { return r }, func(g, full []float64) { copy(g, full) }
+	}
+	d := o.d
+	var l0 float64
+	for k := 0; k < d; k++ {
+		l0 += t0[k] / float64(d)
+	}
+	t := make([]float64, len(t0))
+	expand = func(r []float64) []float64 {
+		for k := 0; k < d; k++ {
+			t[k] = r[0]
+		}
+		copy(t[d:], r[1:])
+		return t
+	}
+	fold = func(g, full []float64) {
+		g[0] = 0
+		for k := 0; k < d; k++ {
+			g[0] += full[k]
+		}
+		copy(g[1:], full[d:])
+	}
+	return append([]float64{l0}, t0[d:]...), expand, fold
 }
 
 func logNormal(x, mu, sd float64) float64 {

@@ -3,6 +3,7 @@ package gp
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -90,5 +91,63 @@ func TestFitPredicts(t *testing.T) {
 	_, v := m.Predict(x[0])
 	if v > 1e-3 {
 		t.Errorf("variance at a data point %.3g, want near 0", v)
+	}
+}
+
+// With tied length-scales the optimiser's gradient (the per-input
+// gradients summed, one prior) matches finite differences of the
+// objective over the reduced vector, and a fit returns one length-scale
+// repeated.
+func TestIsotropicFit(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 6))
+	for _, d := range []int{2, 5} {
+		x, y := randomData(rng, 20, d, wave, 0.05)
+		mean, scale := standardise(y)
+		z := make([]float64, len(y))
+		for i := range y {
+			z[i] = (y[i] - mean) / scale
+		}
+		o := newObjective(x, z, Matern32, 1e-6)
+		o.iso = true
+		th := make([]float64, d+3)
+		for k := range th {
+			th[k] = -1.5 + rng.Float64()
+		}
+		r, expand, fold := o.reduce(th)
+		if len(r) != 4 {
+			t.Fatalf("d=%d: reduced vector has %d values, want 4", d, len(r))
+		}
+		full, g := make([]float64, d+3), make([]float64, len(r))
+		o.eval(expand(r), full)
+		fold(g, full)
+		const h = 1e-6
+		for k := range r {
+			rp, rm := slices.Clone(r), slices.Clone(r)
+			rp[k] += h
+			rm[k] -= h
+			fp := o.eval(expand(rp), nil)
+			fm := o.eval(expand(rm), nil)
+			fd := (fp - fm) / (2 * h)
+			if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
+				t.Errorf("d=%d r[%d]: analytic %.8g, finite difference %.8g", d, k, g[k], fd)
+			}
+		}
+		m, err := Fit(x, y, FitOptions{Kernel: Matern32, Isotropic: true, Starts: 2, Rand: rng})
+		if err != nil {
+			t.Fatal(err)
+		}
+		ls := m.Params().LengthScales
+		for _, l := range ls {
+			if l != ls[0] {
+				t.Errorf("d=%d: isotropic fit gave length-scales %v", d, ls)
+			}
+		}
+		ard, err := Fit(x, y, FitOptions{Kernel: Matern32, Starts: 2, Rand: rng})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if equal := slices.Equal(ard.Params().LengthScales, ls); equal {
+			t.Errorf("d=%d: the fit with one length-scale per input gave the tied one, %v", d, ls)
+		}
 	}
 }
