@@ -1,8 +1,8 @@
 // Package gp is a Gaussian-process regression model: a Matérn 5/2, Matérn
-// 3/2 or squared-exponential kernel with one length-scale per input, a
-// signal variance and Gaussian noise, fitted by maximising the log
-// marginal likelihood (plus weak priors) with analytic gradients and
-// L-BFGS from several starts.
+// 3/2 or squared-exponential kernel with one length-scale per input (or
+// one shared by all, FitOptions.Isotropic), a signal variance and Gaussian
+// noise, fitted by maximising the log marginal likelihood (plus weak
+// priors) with analytic gradients and L-BFGS from several starts.
 //
 // Inputs are expected in the unit box and the model standardises the
 // response itself. The package does no I/O and keeps no global state; every

@@ -38,11 +38,7 @@ func TestGradientMatchesFiniteDifferences(t *testing.T) {
 	}{{Matern52, 1}, {Matern52, 3}, {Matern52, 6}, {Matern32, 3}, {SquaredExponential, 3}} {
 		kern, d := c.kern, c.d
 		x, y := randomData(rng, 25, d, wave, 0.05)
-		mean, scale := standardise(y)
-		z := make([]float64, len(y))
-		for i := range y {
-			z[i] = (y[i] - mean) / scale
-		}
+		z := zScores(y)
 		o := newObjective(x, z, kern, 1e-6)
 		for trial := 0; trial < 3; trial++ {
 			th := make([]float64, d+3)
@@ -102,11 +98,7 @@ func TestIsotropicFit(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
 	for _, d := range []int{2, 5} {
 		x, y := randomData(rng, 20, d, wave, 0.05)
-		mean, scale := standardise(y)
-		z := make([]float64, len(y))
-		for i := range y {
-			z[i] = (y[i] - mean) / scale
-		}
+		z := zScores(y)
 		o := newObjective(x, z, Matern32, 1e-6)
 		o.iso = true
 		th := make([]float64, d+3)
@@ -150,4 +142,14 @@ func TestIsotropicFit(t *testing.T) {
 			t.Errorf("d=%d: the fit with one length-scale per input gave the tied one, %v", d, ls)
 		}
 	}
+}
+
+// zScores returns y standardised as Fit does.
+func zScores(y []float64) []float64 {
+	mean, scale := standardise(y)
+	z := make([]float64, len(y))
+	for i := range y {
+		z[i] = (y[i] - mean) / scale
+	}
+	return z
 }
