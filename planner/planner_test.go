@@ -74,12 +74,15 @@ func braninCampaign(seed uint64, maxRuns int) campaign.Config {
 
 // Proposals approach the published Branin minimum 0.397887 (Surjanovic and
 // Bingham): within 1% relative error in 40 evaluations for at least 9 of
-// ten seeds, and in at most 25 for the median one. Random search needs
+// ten seeds, and in at most 21 for the median one. Random search needs
 // about 1,500 evaluations for that on average (the 1% level set covers
 // roughly 0.07% of the box). One seed in ten is allowed its slow campaign:
 // over 600 seeds of the runs-to-optimum benchmark (README) about one
 // campaign in a hundred needs more than 40 runs, and which seed does
-// shifts with any change to the planner.
+// shifts with any change to the planner. The median over 600 seeds is 16
+// to 17 runs (README) and a ten-seed median varies by about 2, so 21
+// leaves room for chance while a planner a quarter slower would usually
+// fail; these seeds give 15.
 func TestProposalsApproachBraninMinimum(t *testing.T) {
 	if testing.Short() {
 		t.Skip("closed-loop campaign")
@@ -113,8 +116,8 @@ func TestProposalsApproachBraninMinimum(t *testing.T) {
 	if missed > 1 {
 		t.Errorf("%d of 10 seeds missed 1%% of %.6f within %d evaluations, want at most 1", missed, braninMin, budget)
 	}
-	if median > 25 {
-		t.Errorf("median evaluations to 1%%: %d, want at most 25", median)
+	if median > 21 {
+		t.Errorf("median evaluations to 1%%: %d, want at most 21", median)
 	}
 }
 
