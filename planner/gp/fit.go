@@ -196,6 +196,16 @@ func newObjective(x [][]float64, z []float64, kern Kernel, floor float64) *objec
 	return o
 }
 
+// lengthPriors is the number of log length-scales that carry a prior:
+// every one, or with tied length-scales the first only (they are one
+// hyperparameter).
+func (o *objective) lengthPriors() int {
+	if o.iso {
+		return 1
+	}
+	return o.d
+}
+
 // clone returns an objective sharing o's data with scratch of its own.
 func (o *objective) clone() *objective {
 	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, iso: o.iso, sq: o.sq}
@@ -308,10 +318,7 @@ func (o *objective) compute(t []float64) float64 {
 	if o.fixedNoise == 0 {
 		lp += logNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD)
 	}
-	for k := 0; k < d; k++ {
-		if o.iso && k > 0 {
-			break // tied length-scales: one prior
-		}
+	for k := 0; k < o.lengthPriors(); k++ {
 		lp += logNormal(t[k], priorLogLenMean, priorLogLenSD)
 	}
 	f := -(lml + lp)
@@ -359,7 +366,7 @@ func (o *objective) eval(t, grad []float64) float64 {
 	for k := 0; k < d; k++ {
 		// d(r²)/d ln l_k = −2 Δ_k²/l_k², so dk/d ln l_k = s² g Δ_k²/l_k².
 		grad[k] = -0.5 * grad[k] * s2 * math.Exp(-2*t[k])
-		if !o.iso || k == 0 {
+		if k < o.lengthPriors() {
 			grad[k] -= dLogNormal(t[k], priorLogLenMean, priorLogLenSD)
 		}
 	}
