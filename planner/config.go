@@ -163,11 +163,15 @@ func (c Config) ValidateFor(space campaign.Space) campaign.Problems {
 // camel 15.9, 6 gave 18.7 and 15.5.
 const isoRunsPerInput = 5
 
+// sharedLength reports whether a fit to runs points of the given encoded
+// width ties the length-scales together (see isoRunsPerInput).
+func sharedLength(runs, width int) bool { return runs < isoRunsPerInput*width }
+
 // fitOptions turns the config into the model's fit options;
 // runs is the number of runs fitted and width the encoded width of a
 // point.
 func (p *Planner) fitOptions(warm *gp.Params, rng *rand.Rand, runs, width int) gp.FitOptions {
 	k, _ := gp.ParseKernel(p.cfg.Kernel) // validated
 	return gp.FitOptions{Kernel: k, Starts: p.cfg.FitStarts, Warm: warm, Rand: rng, FixedNoise: p.cfg.NoiseSD * p.cfg.NoiseSD, NoiseFloor: 1e-8,
-		Isotropic: runs < isoRunsPerInput*width}
+		Isotropic: sharedLength(runs, width)}
 }

@@ -352,12 +352,14 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) 
 		}
 		y[i] = v
 	}
-	w := p.newWarp(y)
-	yw := make([]float64, len(y))
 	gx := make([][]float64, len(x))
+	for i := range x {
+		gx[i] = p.encode(x[i])
+	}
+	w := p.newWarp(y, len(gx[0]))
+	yw := make([]float64, len(y))
 	for i := range y {
 		yw[i] = w.to(y[i])
-		gx[i] = p.encode(x[i])
 	}
 	m, err := fitCapped(gx, yw, p.fitOptions(warm, rng, len(gx), len(gx[0])))
 	if err != nil {
