@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"benchtender/campaign"
+	"benchtender/planner"
 	"benchtender/safety"
 )
 
@@ -71,8 +72,8 @@ func TestWholeLoopThroughRealFiles(t *testing.T) {
 	for _, id := range st.Order {
 		methods[st.Runs[id].Method]++
 	}
-	if methods["initial design"] != 3 || methods["expected improvement"] != 3 {
-		t.Errorf("methods %v, want 3 design and 3 expected improvement", methods)
+	if methods[planner.MethodDesign] != 3 || methods[planner.MethodShortlist] != 3 {
+		t.Errorf("methods %v, want 3 %q and 3 %q", methods, planner.MethodDesign, planner.MethodShortlist)
 	}
 	// Budget spent: no seventh handoff file.
 	files, _ := filepath.Glob(filepath.Join(tc.cfg.Instrument.HandoffDir, "*.csv"))

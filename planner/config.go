@@ -25,6 +25,11 @@ type Config struct {
 	Acquisition string `toml:"acquisition"`
 	// Beta weighs exploration in the confidence bound: mean − beta·sd.
 	Beta float64 `toml:"beta"`
+	// Shortlist, with expected improvement, is the share κ of the largest
+	// expected improvement a point needs to be shortlisted; the run goes
+	// to the shortlisted point with the lowest confidence bound, mean −
+	// 1·sd (shortlist.go). 0 is plain expected improvement; default 0.3.
+	Shortlist float64 `toml:"shortlist"`
 	// Candidates is the number of space-filling points at which the
 	// acquisition is scored before local refinement.
 	Candidates int `toml:"candidates"`
@@ -77,7 +82,7 @@ type StopConfig struct {
 
 // Default returns the defaults.
 func Default() Config {
-	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, Candidates: 2000, Refine: 5, FitStarts: 2,
+	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2,
 		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64}
 }
 
@@ -91,6 +96,9 @@ func (c Config) Validate() campaign.Problems {
 	}
 	if !(c.Beta >= 0) || math.IsInf(c.Beta, 0) {
 		ps.Add("beta", "must be a number of at least 0, got %v", c.Beta)
+	}
+	if !(c.Shortlist >= 0 && c.Shortlist <= 1) {
+		ps.Add("shortlist", "must be between 0 (plain expected improvement) and 1, got %v", c.Shortlist)
 	}
 	if c.Candidates < 10 {
 		ps.Add("candidates", "must be at least 10, got %d", c.Candidates)

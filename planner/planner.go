@@ -18,6 +18,10 @@ import (
 // Methods named in proposals.
 const (
 	MethodDesign = "initial design"
+	// MethodShortlist is expected improvement with the shortlist
+	// (shortlist.go): the lowest confidence bound among the points of
+	// high expected improvement.
+	MethodShortlist = "expected improvement shortlist"
 )
 
 // Planner proposes setpoints for one campaign.
@@ -223,20 +227,29 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 	if err != nil {
 		return Result{}, err
 	}
+	allowed := func(u []float64) bool { return farFrom(u, near) && a.outside(p.encode(u)) }
+	around := byValue(search.x, search.y)
 	u, s, err := p.maximise(ctx, func(u []float64) float64 {
-		if !farFrom(u, near) || !a.outside(p.encode(u)) {
+		if !allowed(u) {
 			return math.Inf(-1)
 		}
 		return score(u)
-	}, byValue(search.x, search.y), rng)
+	}, around, rng)
 	if err != nil {
 		return Result{}, err
 	}
-	// The score is the expected improvement on the model of every run
-	// only when that model chose the point by it.
+	// The largest expected improvement, reported below, is s (on the
+	// model of every run only when that model chose the point by it);
+	// the shortlist may then pick another point (shortlist.go).
 	ei := math.NaN()
 	if p.cfg.Acquisition == AcqExpectedImprovement && a == nil {
 		ei = math.Exp(s)
+	}
+	if p.cfg.Acquisition == AcqExpectedImprovement && p.cfg.Shortlist > 0 {
+		if u, s, err = p.shortlist(ctx, believer, score, allowed, u, s, around, rng); err != nil {
+			return Result{}, err
+		}
+		method = MethodShortlist
 	}
 	if a != nil {
 		method += fmt.Sprintf(" in a new search, outside %d stalled region(s)", len(a.centres))

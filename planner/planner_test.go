@@ -203,11 +203,12 @@ func TestConfigValidate(t *testing.T) {
 	c.Kernel = "cubic"
 	c.NoiseSD = -1
 	c.Candidates = 5
+	c.Shortlist = 1.5
 	keys := map[string]bool{}
 	for _, p := range c.Validate() {
 		keys[p.Key] = true
 	}
-	for _, k := range []string{"kernel", "noise_sd", "candidates"} {
+	for _, k := range []string{"kernel", "noise_sd", "candidates", "shortlist"} {
 		if !keys[k] {
 			t.Errorf("no problem for %s", k)
 		}

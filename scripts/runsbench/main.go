@@ -13,6 +13,7 @@
 //	go run ./scripts/runsbench -noise -known-noise   # noise_sd given
 //	go run ./scripts/runsbench -only "hartmann 6-D" -parallel 2
 //	go run ./scripts/runsbench -acquisition confidence_bound -beta 1 -seed-list 1001,1002
+//	go run ./scripts/runsbench -shortlist 0   # plain expected improvement
 //
 // Function names are those of planner/testfn (forrester, branin,
 // six-hump camel, hartmann 6-D).
@@ -44,6 +45,7 @@ func main() {
 	only := flag.String("only", "", "comma-separated function names (default: all)")
 	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
 	beta := flag.Float64("beta", planner.Default().Beta, "exploration weight of the confidence bound")
+	shortlist := flag.Float64("shortlist", planner.Default().Shortlist, "expected improvement's shortlist share (0: plain expected improvement)")
 	warp := flag.Bool("warp", true, "the planner's output warping")
 	aside := flag.Bool("set-aside", planner.Default().SetAside, "set a stalled basin aside")
 	known := flag.Bool("known-noise", false, "with -noise, tell the planner the noise (noise_sd), as the README advises for noisy instruments")
@@ -72,9 +74,9 @@ func main() {
 	}
 	nSeeds := len(seedNums)
 	cfg := planner.Default()
-	cfg.Acquisition, cfg.Beta, cfg.Warp, cfg.SetAside, cfg.Kernel = *acq, *beta, *warp, *aside, *kernel
+	cfg.Acquisition, cfg.Beta, cfg.Shortlist, cfg.Warp, cfg.SetAside, cfg.Kernel = *acq, *beta, *shortlist, *warp, *aside, *kernel
 	cfg.Candidates, cfg.Refine, cfg.FitStarts = *cands, *refine, *starts
-	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v (known to the planner: %v); acquisition %s (beta %g); kernel %s; warp %v; set aside %v; initial %d (0: default)\n\n", nSeeds, *noise, *known, *acq, *beta, *kernel, *warp, *aside, *initial)
+	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v (known to the planner: %v); acquisition %s (beta %g, shortlist %g); kernel %s; warp %v; set aside %v; initial %d (0: default)\n\n", nSeeds, *noise, *known, *acq, *beta, *shortlist, *kernel, *warp, *aside, *initial)
 	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
 	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
 	for _, f := range testfn.All() {
