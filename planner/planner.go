@@ -223,7 +223,8 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 	if err != nil {
 		return Result{}, err
 	}
-	score, method, err := p.scorer(believer, p.bestMean(search.Model, search.x), feasible, rng)
+	best := p.bestMean(search.Model, search.x)
+	score, method, err := p.scorer(believer, best, feasible, rng)
 	if err != nil {
 		return Result{}, err
 	}
@@ -246,7 +247,7 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 		ei = math.Exp(s)
 	}
 	if p.cfg.Acquisition == AcqExpectedImprovement && p.cfg.Shortlist > 0 {
-		if u, s, err = p.shortlist(ctx, believer, score, allowed, u, s, around, rng); err != nil {
+		if u, s, err = p.shortlist(ctx, believer, best, feasible, allowed, u, s, around, rng); err != nil {
 			return Result{}, err
 		}
 		method = MethodShortlist
@@ -458,18 +459,7 @@ func byValue(x [][]float64, y []float64) [][]float64 {
 
 // scorer returns the acquisition to maximise over the unit box.
 func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) float64, rng *rand.Rand) (func([]float64) float64, string, error) {
-	// Where failure is more likely than success nothing is proposed;
-	// elsewhere EI and PI are weighted by the chance of success.
-	logFeasible := func(u []float64) float64 {
-		if feasible == nil {
-			return 0
-		}
-		pf := feasible(u)
-		if pf < 0.5 {
-			return math.Inf(-1)
-		}
-		return math.Log(pf)
-	}
+	logFeasible := func(u []float64) float64 { return logFeasibility(feasible, u) }
 	switch p.cfg.Acquisition {
 	case AcqConfidenceBound:
 		return func(u []float64) float64 {
@@ -501,6 +491,20 @@ func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) flo
 			return acquisition.LogExpectedImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
 		}, "expected improvement", nil
 	}
+}
+
+// logFeasibility is the log of the chance of success at u that weighs EI
+// and PI: where failure is more likely than success (or on a nil
+// feasibility, no failed runs: 0) nothing is proposed, −Inf.
+func logFeasibility(feasible func([]float64) float64, u []float64) float64 {
+	if feasible == nil {
+		return 0
+	}
+	pf := feasible(u)
+	if pf < 0.5 {
+		return math.Inf(-1)
+	}
+	return math.Log(pf)
 }
 
 // feasibility returns the probability that a run at u gives a usable

@@ -39,30 +39,37 @@ import (
 const shortlistBeta = 1.0
 
 // shortlist returns the point of lowest confidence bound on m among the
-// points whose acquisition score (log expected improvement, plus log
-// feasibility) is within ln κ of top, the largest score found, which is at
-// best; and that point's score. allowed bars points (spacing, regions set
-// aside); around seeds the search (best runs first). best itself always
-// qualifies, so the answer is never worse by the bound than best.
-func (p *Planner) shortlist(ctx context.Context, m *gp.Model, score func([]float64) float64, allowed func([]float64) bool, best campaign.Point, top float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
+// points whose acquisition score, log expected improvement over best plus
+// log feasibility (as scorer's), is within ln κ of top, the largest score
+// found, which is at point; and that point's score. allowed bars points
+// (spacing, regions set aside); around seeds the search (best runs
+// first). point itself always qualifies, so the answer is never worse by
+// the bound than point. Each candidate costs one prediction.
+func (p *Planner) shortlist(ctx context.Context, m *gp.Model, best float64, feasible func([]float64) float64, allowed func([]float64) bool, point campaign.Point, top float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
 	floor := top + math.Log(p.cfg.Shortlist)
-	bound := func(v []float64) float64 {
+	at := func(v []float64) (score, bound float64) {
 		mu, vv := m.Predict(p.encode(v))
-		return acquisition.LowerConfidenceBound(mu, math.Sqrt(vv), shortlistBeta)
+		sd := math.Sqrt(vv)
+		return acquisition.LogExpectedImprovement(mu, sd, best) + logFeasibility(feasible, v), acquisition.LowerConfidenceBound(mu, sd, shortlistBeta)
 	}
 	u, b, err := p.maximise(ctx, func(v []float64) float64 {
-		if !allowed(v) || !(score(v) >= floor) {
+		if !allowed(v) {
 			return math.Inf(-1)
 		}
-		return -bound(v)
-	}, append([][]float64{best}, around...), rng)
+		if s, bound := at(v); s >= floor {
+			return -bound
+		}
+		return math.Inf(-1)
+	}, append([][]float64{point}, around...), rng)
 	switch {
 	case errors.Is(err, errNoCandidate):
-		return best, top, nil
+		return point, top, nil
 	case err != nil:
 		return nil, 0, err
-	case -b >= bound(best):
-		return best, top, nil
 	}
-	return u, score(u), nil
+	if _, pb := at(point); -b >= pb {
+		return point, top, nil
+	}
+	s, _ := at(u)
+	return u, s, nil
 }
