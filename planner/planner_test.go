@@ -80,8 +80,8 @@ func braninCampaign(seed uint64, maxRuns int) campaign.Config {
 // over 600 seeds of the runs-to-optimum benchmark (README) about one
 // campaign in a hundred needs more than 40 runs, and which seed does
 // shifts with any change to the planner. The median over 600 seeds is 16
-// to 17 runs (README) and a ten-seed median varies by about 2 (estimated
-// from the per-campaign sd of about 5.5, not measured), so 21
+// runs (README) and a ten-seed median varies by about 2 (estimated from
+// the per-campaign sd of about 4 to 5.5, not measured), so 21
 // leaves room for chance while a planner a quarter slower would usually
 // fail; these seeds give 15.
 func TestProposalsApproachBraninMinimum(t *testing.T) {
