@@ -35,7 +35,9 @@ import (
 // 16.2, Forrester 9.5 to 9.9; Hartmann 6-D (seeds 1001-1030) 64.5 to
 // 58.5. κ = 0.5 gave 17.2 and 15.8 (fresh: 16.9, 15.9), κ = 0.1 16.8 and
 // 17.0 (the camel's trap again); β = 1.5 or 0.5 with κ = 0.3, 17.4 and
-// 16.4 or 17.9 and 18.1.
+// 16.4 or 17.9 and 18.1. (Those last were measured with a first version
+// that did not fall back on the largest-EI point; at κ = 0.3 both
+// versions gave the figures above.)
 const shortlistBeta = 1.0
 
 // shortlist returns the point of lowest confidence bound on m among the
