@@ -87,14 +87,7 @@ func TestConstraintErrorsNameTheKey(t *testing.T) {
 func TestBatchProposalsAreDistinct(t *testing.T) {
 	cc := braninCampaign(8, 40)
 	p := New(cc, Default())
-	var trials []campaign.Trial
-	for i := 0; i < 10; i++ {
-		res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials})
-		if err != nil {
-			t.Fatal(err)
-		}
-		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: branin(res.Proposal.Point)})
-	}
+	trials := braninTrials(t, p, 10)
 	var pending []campaign.Point
 	for q := 0; q < 6; q++ {
 		res, err := p.Propose(context.Background(), Request{RunID: "R", Index: 10 + q, Trials: trials, Pending: pending})

@@ -64,6 +64,21 @@ func runCampaign(t testing.TB, cc campaign.Config, f func([]float64) float64, n 
 	return trace
 }
 
+// braninTrials runs n closed-loop proposals of p on Branin and returns the
+// runs made.
+func braninTrials(t testing.TB, p *Planner, n int) []campaign.Trial {
+	t.Helper()
+	var trials []campaign.Trial
+	for i := 0; i < n; i++ {
+		res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials})
+		if err != nil {
+			t.Fatalf("proposal %d: %v", i, err)
+		}
+		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: branin(res.Proposal.Point)})
+	}
+	return trials
+}
+
 func braninCampaign(seed uint64, maxRuns int) campaign.Config {
 	return campaign.Config{
 		Name: "branin", StateDir: "x", Seed: seed, MaxRuns: maxRuns,

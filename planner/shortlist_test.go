@@ -23,14 +23,7 @@ func TestShortlistKeepsImprovementAndLowersBound(t *testing.T) {
 		plain.Shortlist = 0
 		// Runs from the plain planner, so both see the same campaign.
 		p0 := New(cc, plain)
-		var trials []campaign.Trial
-		for i := 0; i < 9; i++ {
-			res, err := p0.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials})
-			if err != nil {
-				t.Fatal(err)
-			}
-			trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: branin(res.Proposal.Point)})
-		}
+		trials := braninTrials(t, p0, 9)
 		req := Request{RunID: "R", Index: len(trials), Trials: trials}
 		r0, err := p0.Propose(context.Background(), req)
 		if err != nil {
