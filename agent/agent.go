@@ -92,6 +92,7 @@ type Agent struct {
 	retry     []watch.File // result files to ingest once it can
 
 	folderLost map[string]bool        // export folders lost, as last reported
+	lostSaid   bool                   // the hold for lost export folders is logged
 	watchState map[string]WatchStatus // by export folder, as written to watch.json
 
 	refusals   int       // consecutive gate refusals
@@ -133,7 +134,7 @@ func New(cfg Config, opt Options) (*Agent, error) {
 	}
 	a := &Agent{
 		cfg: cfg, opt: opt, parsers: ps, folderLost: map[string]bool{}, watchState: map[string]WatchStatus{},
-		log:        opt.Logger.With().Str("component", "agent").Str("campaign", cfg.Campaign.Name).Logger(),
+		log:        opt.Logger.With().Str("component", "agent").Logger(),
 		planner:    planner.New(cfg.Campaign, cfg.Planner),
 		incomplete: map[string]waiting{},
 		holdSeen:   map[string]time.Time{},
@@ -193,7 +194,14 @@ func (a *Agent) Run(ctx context.Context) error {
 			case <-ctx.Done():
 			}
 		}
-		a.watchState[filepath.Clean(ic.Watch.Dir)] = WatchStatus{Instrument: ic.Name, Dir: ic.Watch.Dir, OK: true, Since: a.opt.Now().UTC()}
+		ws := WatchStatus{Instrument: ic.Name, Dir: ic.Watch.Dir, OK: true, Since: a.opt.Now().UTC()}
+		// Known at once, not at the watcher's first look: no handoff
+		// goes to an instrument whose results cannot be seen.
+		if _, err := os.ReadDir(ic.Watch.Dir); err != nil {
+			ws.OK, ws.Problem = false, err.Error()
+			a.folderLost[filepath.Clean(ic.Watch.Dir)] = true
+		}
+		a.watchState[filepath.Clean(ic.Watch.Dir)] = ws
 		watchers = append(watchers, w)
 	}
 	if err := writeWatchStatus(a.cfg.Campaign.StateDir, a.watchState); err != nil {
@@ -507,15 +515,22 @@ func (a *Agent) inFlightOn(i int) []*Run {
 // previous is the setpoint the gate judges a new move against: the last
 // one handed off to the instrument that would take the next setpoint.
 func (a *Agent) previous() campaign.Point {
-	return a.state.lastOn(a.cfg.Instruments[a.pickInstrument()].Name, len(a.cfg.Instruments) == 1)
+	i := a.pickInstrument()
+	if i < 0 {
+		i = 0 // every export folder lost: nothing is handed off anyway
+	}
+	return a.state.lastOn(a.cfg.Instruments[i].Name, len(a.cfg.Instruments) == 1)
 }
 
 // pickInstrument chooses where the next setpoint goes: the instrument
 // with the fewest runs in flight (the first of them on a tie), so that
 // each is kept busy and none gets a queue while another idles.
 func (a *Agent) pickInstrument() int {
-	best, load := 0, -1
+	best, load := -1, -1
 	for i := range a.cfg.Instruments {
+		if a.exportLost(i) {
+			continue // its results could not be seen
+		}
 		if n := len(a.inFlightOn(i)); load < 0 || n < load {
 			best, load = i, n
 		}
@@ -539,7 +554,7 @@ type waiting struct {
 // archives a true copy and records it.
 func (a *Agent) ingest(f watch.File) error {
 	path := f.Path
-	log := a.log.With().Str("file", watch.Quote(path)).Logger()
+	log := a.log.With().Str("file", path).Logger()
 	if f.Problem != "" {
 		return a.refuseName(f)
 	}
@@ -575,7 +590,7 @@ func (a *Agent) ingest(f watch.File) error {
 		timeout := a.cfg.Formats[a.cfg.Instruments[inst].Format].IncompleteTimeout
 		if a.opt.Now().Sub(first) < timeout {
 			if !seen {
-				log.Info().Err(err).Dur("timeout", timeout).Msg("result file is not complete yet; waiting")
+				log.Info().Err(err).Stringer("timeout", timeout).Msg("result file is not complete yet; waiting")
 			}
 			return nil
 		}
@@ -635,8 +650,11 @@ func (a *Agent) ingest(f watch.File) error {
 		log.Warn().Str("run", rec.RunID).Str("failed", val.Failed).Msg("result ingested: the run gave no usable value")
 		return nil
 	}
-	log.Info().Str("run", rec.RunID).Float64(resp, val.Number).
-		Int("line", val.Line).Int("column", val.Column).Msg("result ingested")
+	ev := log.Info().Str("run", rec.RunID).Float64(resp, val.Number)
+	if val.Line > 0 {
+		ev = ev.Int("line", val.Line).Int("column", val.Column)
+	}
+	ev.Msg("result ingested")
 	return nil
 }
 
@@ -689,6 +707,14 @@ func (a *Agent) handoffReady() error {
 			return nil
 		}
 		inst := a.pickInstrument()
+		if inst < 0 {
+			if !a.lostSaid {
+				a.lostSaid = true
+				a.log.Warn().Msg("handoffs held: no instrument's export folder can be read, so no result could be seen")
+			}
+			return nil
+		}
+		a.lostSaid = false
 		ic := a.cfg.Instruments[inst]
 		sp := campaign.Setpoint{RunID: r.ID, Point: r.Point}
 		// Gate once more right before writing, against the setpoint this
@@ -753,7 +779,7 @@ func (a *Agent) handoffReady() error {
 func (a *Agent) writeFailed(run string, err error) {
 	a.writeErrs++
 	a.writeAfter = a.opt.Now().Add(backoff(a.writeErrs))
-	a.log.Error().Err(err).Str("run", run).Dur("retry_in", backoff(a.writeErrs)).Msg("handoff failed; no setpoint written")
+	a.log.Error().Err(err).Str("run", run).Stringer("retry_in", backoff(a.writeErrs)).Msg("handoff failed; no setpoint written")
 }
 
 // spent counts the runs that use up the budget: every proposal that was
@@ -809,7 +835,7 @@ func (a *Agent) plan(ctx context.Context) error {
 		}
 		a.planErrs++
 		a.planAfter = a.opt.Now().Add(backoff(a.planErrs))
-		a.log.Error().Err(err).Dur("retry_in", backoff(a.planErrs)).Msg("planning failed; no setpoint written")
+		a.log.Error().Err(err).Stringer("retry_in", backoff(a.planErrs)).Msg("planning failed; no setpoint written")
 		return nil
 	}
 	a.planErrs = 0
@@ -829,7 +855,8 @@ func (a *Agent) plan(ctx context.Context) error {
 		return nil
 	}
 	d := a.gate.Check(prop.Setpoint, a.previous())
-	e := Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d, Limits: d.Limits}
+	e := Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d, Limits: d.Limits,
+		Stopping: res.Stopping.String()}
 	if d.Verdict == safety.Hold && region == nil {
 		// Show the person signing off what would run inside the limits.
 		if alt, err := a.propose(ctx, id, a.cfg.Safety.ReviewBox(a.cfg.Campaign.Factors)); err == nil {
@@ -854,7 +881,7 @@ func (a *Agent) plan(ctx context.Context) error {
 		a.refusals = 0
 	}
 	ev.Str("run", id).Str("method", prop.Method).Interface("setpoint", named(a.cfg.Campaign.Factors, prop.Point)).
-		Str("gate", d.Summary()).Dur("took", a.opt.Now().Sub(start)).Msg("proposal")
+		Str("gate", d.Summary()).Stringer("took", a.opt.Now().Sub(start).Round(time.Millisecond)).Msg("proposal")
 	if a.opt.Observer != nil {
 		a.opt.Observer.Planned(a.opt.Now().Sub(start))
 	}

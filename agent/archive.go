@@ -94,6 +94,6 @@ func (a *Agent) refuseName(f watch.File) error {
 		a.log.Error().Err(err).Msg("cannot write the quarantine note")
 		return nil
 	}
-	a.log.Warn().Str("file", watch.Quote(f.Path)).Str("reason", f.Problem).Msg("result file refused by its name; not read")
+	a.log.Warn().Str("file", f.Path).Str("reason", f.Problem).Msg("result file refused by its name; not read")
 	return a.record(Entry{Kind: KindQuarantine, File: f.Path, Reason: f.Problem, Copy: filepath.Join(dir, name)})
 }

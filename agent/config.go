@@ -6,6 +6,7 @@ import (
 	"net"
 	"os"
 	"path/filepath"
+	"regexp"
 	"sort"
 	"strconv"
 	"strings"
@@ -324,6 +325,87 @@ func (e *ConfigError) Error() string {
 	return b.String()
 }
 
+// decodeConfig decodes a configuration's text over the defaults, each
+// format and instrument over its own defaults.
+func decodeConfig(text string) (Config, toml.MetaData, error) {
+	cfg := DefaultConfig()
+	var raw struct {
+		Formats     map[string]toml.Primitive `toml:"formats"`
+		Instruments []toml.Primitive          `toml:"instruments"`
+	}
+	md, err := toml.Decode(text, &cfg)
+	if err == nil {
+		_, err = toml.Decode(text, &raw)
+	}
+	if err != nil {
+		return Config{}, md, err
+	}
+	// Each format starts from the defaults, so a format states only
+	// what differs.
+	cfg.Formats = map[string]parsers.Spec{}
+	for name, prim := range raw.Formats {
+		spec := parsers.DefaultSpec()
+		if err := md.PrimitiveDecode(prim, &spec); err != nil {
+			return Config{}, md, fmt.Errorf("formats.%s: %w", name, err)
+		}
+		cfg.Formats[name] = spec
+	}
+	cfg.hadSingle = md.IsDefined("instrument")
+	cfg.Instruments = nil
+	for i, prim := range raw.Instruments {
+		ic := defaultInstrument()
+		if err := md.PrimitiveDecode(prim, &ic); err != nil {
+			return Config{}, md, fmt.Errorf("instruments[%d]: %w", i, err)
+		}
+		cfg.Instruments = append(cfg.Instruments, ic)
+	}
+	cfg.listed = len(raw.Instruments) > 0
+	if cfg.listed {
+		cfg.Instrument = cfg.Instruments[0]
+	} else if cfg.hadSingle {
+		cfg.Instruments = []InstrumentConfig{cfg.Instrument}
+	}
+	return cfg, md, nil
+}
+
+// durationHint is added to a problem with a duration.
+const durationHint = `; write durations as a number and a unit with no space: "500ms", "2s", "10m", "1h30m"`
+
+// quotedValue finds the first quoted text in an error message.
+var quotedValue = regexp.MustCompile(`"((?:[^"\\]|\\.)*)"`)
+
+// decodeProblem turns a decoding error into a problem with its line and,
+// where the decoder names it, its key. An error without a position (from
+// a format or instrument table decoded on its own) is placed at the first
+// line that holds the quoted value it names.
+func decodeProblem(err error, text string) LocatedProblem {
+	var pe toml.ParseError
+	if errors.As(err, &pe) {
+		msg := pe.Message
+		if strings.Contains(msg, "duration") {
+			msg += durationHint
+		}
+		line := pe.Position.Line
+		if line == 0 {
+			line = pe.Line
+		}
+		return LocatedProblem{Line: line, Problem: campaign.Problem{Key: pe.LastKey, Message: msg}}
+	}
+	lp := LocatedProblem{Problem: campaign.Problem{Message: err.Error()}}
+	if strings.Contains(lp.Message, "duration") {
+		lp.Message += durationHint
+	}
+	if m := quotedValue.FindStringSubmatch(err.Error()); m != nil {
+		for i, l := range strings.Split(text, "\n") {
+			if k, v, ok := strings.Cut(l, "="); ok && strings.Contains(v, `"`+m[1]+`"`) {
+				lp.Line, lp.Key = i+1, strings.TrimSpace(k)
+				break
+			}
+		}
+	}
+	return lp
+}
+
 // LoadConfig reads, decodes and validates a configuration file. Unknown
 // keys are errors. Relative folders are taken relative to the file's own
 // folder. Every problem is reported at once, as a *ConfigError.
@@ -332,53 +414,32 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 	if err != nil {
 		return Config{}, fmt.Errorf("read config: %w", err)
 	}
-	cfg := DefaultConfig()
-	var raw struct {
-		Formats     map[string]toml.Primitive `toml:"formats"`
-		Instruments []toml.Primitive          `toml:"instruments"`
-	}
-	md, err := toml.Decode(string(data), &cfg)
-	if err == nil {
-		_, err = toml.Decode(string(data), &raw)
-	}
-	if err == nil {
-		// Each format starts from the defaults, so a format states only
-		// what differs.
-		cfg.Formats = map[string]parsers.Spec{}
-		for name, prim := range raw.Formats {
-			spec := parsers.DefaultSpec()
-			if err = md.PrimitiveDecode(prim, &spec); err != nil {
-				break
-			}
-			cfg.Formats[name] = spec
+	// A value of the wrong type (a duration written "1 s") stops the
+	// decoder at that key. So that every problem is still reported at
+	// once, the line is blanked and the file decoded again, up to a
+	// bound.
+	text := string(data)
+	var out []LocatedProblem
+	var cfg Config
+	var md toml.MetaData
+	for tries := 0; ; tries++ {
+		cfg, md, err = decodeConfig(text)
+		if err == nil {
+			break
 		}
-	}
-	if err == nil {
-		cfg.hadSingle = md.IsDefined("instrument")
-		cfg.Instruments = nil
-		for _, prim := range raw.Instruments {
-			ic := defaultInstrument()
-			if err = md.PrimitiveDecode(prim, &ic); err != nil {
-				break
-			}
-			cfg.Instruments = append(cfg.Instruments, ic)
+		lp := decodeProblem(err, text)
+		out = append(out, lp)
+		lines := strings.Split(text, "\n")
+		// A syntax error ends it: what follows could not be trusted.
+		var any map[string]any
+		_, syntax := toml.Decode(text, &any)
+		if syntax != nil || lp.Line < 1 || lp.Line > len(lines) || tries >= 50 {
+			return Config{}, &ConfigError{Path: path, Problems: out}
 		}
-		cfg.listed = len(raw.Instruments) > 0
-		if cfg.listed {
-			cfg.Instrument = cfg.Instruments[0]
-		} else if cfg.hadSingle {
-			cfg.Instruments = []InstrumentConfig{cfg.Instrument}
-		}
-	}
-	if err != nil {
-		var pe toml.ParseError
-		if errors.As(err, &pe) {
-			return Config{}, &ConfigError{Path: path, Problems: []LocatedProblem{{Line: pe.Position.Line, Problem: campaign.Problem{Message: pe.Message}}}}
-		}
-		return Config{}, &ConfigError{Path: path, Problems: []LocatedProblem{{Problem: campaign.Problem{Message: err.Error()}}}}
+		lines[lp.Line-1] = ""
+		text = strings.Join(lines, "\n")
 	}
 	lines := indexKeys(string(data))
-	var out []LocatedProblem
 	for _, k := range md.Undecoded() {
 		if len(k) <= 2 && len(k) > 0 && k[0] == "formats" {
 			continue // the format tables themselves, decoded one by one above

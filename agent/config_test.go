@@ -84,3 +84,78 @@ func TestSyntaxErrorHasLine(t *testing.T) {
 		t.Fatalf("err %v", err)
 	}
 }
+
+// A value of the wrong type names its key and line, says how to write
+// it, and does not hide the other problems (issue 20: settle = "1 s"
+// gave one problem with no key). Checked both in [instrument.watch] and
+// in an [[instruments]] entry, which is decoded on its own.
+func TestWrongTypeNamesKeyAndKeepsOtherProblems(t *testing.T) {
+	src, err := os.ReadFile(filepath.Join("..", "config.example.toml"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := strings.Replace(string(src), `settle = "2s"`, `settle = "1 s"`, 1)
+	text = strings.Replace(text, "max = 30.0", "max = 1.0", 1)
+	path := filepath.Join(t.TempDir(), "bad.toml")
+	os.WriteFile(path, []byte(text), 0o644)
+	_, err = LoadConfig(path, parsers.Default())
+	var ce *ConfigError
+	if !errors.As(err, &ce) {
+		t.Fatalf("err %v, want a *ConfigError", err)
+	}
+	var settle, other bool
+	for _, p := range ce.Problems {
+		if p.Key == "instrument.watch.settle" && p.Line > 0 && strings.Contains(p.Message, `"2s"`) {
+			settle = true
+		}
+		if p.Key == "campaign.factor[1].max" {
+			other = true
+		}
+	}
+	if !settle || !other {
+		t.Errorf("want the settle problem with key, line and a hint, and the factor's: %v", err)
+	}
+
+	multi := `[campaign]
+name = "m"
+state_dir = "state"
+max_runs = 0
+[[campaign.factor]]
+name = "t"
+min = 0.0
+max = 1.0
+[campaign.response]
+name = "y"
+goal = "minimise"
+[formats.f]
+format = "delimited"
+values.y = { column = "y" }
+[[instruments]]
+name = "a"
+format = "f"
+handoff_dir = "h"
+[instruments.watch]
+dir = "e"
+settle = "1 s"
+[safety.limits.t]
+hard_min = 0.0
+hard_max = 1.0
+`
+	os.WriteFile(path, []byte(multi), 0o644)
+	_, err = LoadConfig(path, parsers.Default())
+	if !errors.As(err, &ce) {
+		t.Fatalf("err %v, want a *ConfigError", err)
+	}
+	settle, other = false, false
+	for _, p := range ce.Problems {
+		if p.Line == 21 && strings.Contains(p.Key, "settle") && strings.Contains(p.Message, "durations") {
+			settle = true
+		}
+		if p.Key == "campaign.max_runs" {
+			other = true
+		}
+	}
+	if !settle || !other {
+		t.Errorf("[[instruments]]: want the settle problem at line 21 with its key, and max_runs: %v", err)
+	}
+}

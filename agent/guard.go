@@ -75,7 +75,7 @@ func (a *Agent) expireHolds() error {
 			continue
 		}
 		if now.Sub(seen) >= limit {
-			a.log.Warn().Str("run", r.ID).Dur("after", limit).Msg("held move lapsed unsigned")
+			a.log.Warn().Str("run", r.ID).Stringer("after", limit).Msg("held move lapsed unsigned")
 			if err := a.record(Entry{Kind: KindExpire, Run: r.ID, Reason: fmt.Sprintf("held %v without sign-off", limit)}); err != nil {
 				return err
 			}

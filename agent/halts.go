@@ -92,7 +92,7 @@ func Notices(cfg Config) []string {
 	var out []string
 	for _, ws := range list {
 		if !ws.OK {
-			out = append(out, fmt.Sprintf("export folder %s lost since %s: %s (looking again with back-off)", ws.Dir, ws.Since.Format(time.RFC3339), ws.Problem))
+			out = append(out, fmt.Sprintf("export folder %s lost since %s: %s (looking again with back-off); handoffs to %s are held until it can be read", ws.Dir, ws.Since.Format(time.RFC3339), ws.Problem, instrumentLabel(ws.Instrument)))
 		}
 		if ws.Polling != "" {
 			out = append(out, fmt.Sprintf("file events off for %s since %s: %s; the scan alone finds files", ws.Dir, ws.Since.Format(time.RFC3339), ws.Polling))
@@ -119,4 +119,11 @@ func SetAsideNote(st *State, d planner.Diagnostics) string {
 		next = runs[d.SearchFrom].ID
 	}
 	return fmt.Sprintf("set aside after no progress: the basins of %s; the search outside them began with %s", strings.Join(ids, ", "), next)
+}
+
+func instrumentLabel(name string) string {
+	if name == "" {
+		return "its instrument"
+	}
+	return "instrument " + name
 }

@@ -16,7 +16,7 @@ func handoffName(runID, format string) string { return runID + "." + format }
 
 // roundPoint rounds every continuous value to 6 significant digits, so
 // that the value gated is exactly the value written and read back by the
-// instrument. Integers, levels and choices are exact already.
+// instrument. Integers, levels and categories are exact already.
 func roundPoint(space campaign.Space, p campaign.Point) campaign.Point {
 	out := make(campaign.Point, len(p))
 	for i, v := range p {
@@ -51,10 +51,10 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format, actionID 
 		return b.Bytes(), nil
 	case HandoffJSON:
 		type value struct {
-			Name   string  `json:"name"`
-			Value  float64 `json:"value"`
-			Choice string  `json:"choice,omitempty"`
-			Unit   string  `json:"unit,omitempty"`
+			Name     string  `json:"name"`
+			Value    float64 `json:"value"`
+			Category string  `json:"category,omitempty"`
+			Unit     string  `json:"unit,omitempty"`
 		}
 		doc := struct {
 			Run       string  `json:"run"`
@@ -66,8 +66,8 @@ func renderHandoff(space campaign.Space, sp campaign.Setpoint, format, actionID 
 				return nil, fmt.Errorf("handoff %s: NaN for %s", sp.RunID, f.Name)
 			}
 			v := value{Name: f.Name, Value: sp.Point[i], Unit: f.Unit}
-			if f.Kind == campaign.Choice {
-				v.Choice = f.Format(sp.Point[i])
+			if f.Kind == campaign.Categorical {
+				v.Category = f.Format(sp.Point[i])
 			}
 			doc.Setpoints = append(doc.Setpoints, v)
 		}

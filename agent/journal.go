@@ -63,6 +63,9 @@ type Entry struct {
 	Method   string           `json:"method,omitempty"`
 	Score    float64          `json:"score,omitempty"`
 	Decision *safety.Decision `json:"decision,omitempty"`
+	// Stopping is the stopping rule's verdict at this proposal, each test
+	// with its value and threshold (empty when the rule is off).
+	Stopping string `json:"stopping,omitempty"`
 
 	// signoff
 	Action string `json:"action,omitempty"`

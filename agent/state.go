@@ -70,6 +70,9 @@ type State struct {
 	Handoffs  int // setpoint files written
 	// Stopped, when not empty, says why the planner stopped proposing.
 	Stopped string
+	// Stopping is the stopping rule's verdict at the latest proposal,
+	// test by test (empty when the rule is off).
+	Stopping string
 	// AllStop, when not empty, says who or what halted every handoff.
 	AllStop string
 	// Ingests counts the results recorded: the campaign state an
@@ -113,6 +116,7 @@ func (s *State) apply(e Entry) {
 	switch e.Kind {
 	case KindProposal:
 		s.Proposals++
+		s.Stopping = e.Stopping
 		r := s.run(e.Run)
 		r.Point, r.Method, r.Proposed, r.Alternative = e.Point, e.Method, e.Time, e.Alternative
 		if e.Decision != nil {

@@ -97,7 +97,7 @@ func TestFactorDisplay(t *testing.T) {
 		{Factor{Name: "t", Kind: Continuous, Min: 0, Max: 1e6}, 123456.7, "1.235e+05"},
 		{Factor{Name: "n", Kind: Integer, Min: 0, Max: 100000}, 12345, "12345"},
 		{Factor{Name: "v", Kind: Levels, Levels: []float64{5, 12.5}}, 12.5, "12.5"},
-		{Factor{Name: "c", Kind: Choice, Choices: []string{"Pd", "Pt"}}, 1, "Pt"},
+		{Factor{Name: "c", Kind: Categorical, Categories: []string{"Pd", "Pt"}}, 1, "Pt"},
 	}
 	for _, c := range cases {
 		if got := c.f.Display(c.v); got != c.want {
@@ -106,5 +106,18 @@ func TestFactorDisplay(t *testing.T) {
 		if c.f.Kind == "" && fmt.Sprintf("%.4g", c.v) != c.f.Display(c.v) {
 			t.Errorf("differs from %%.4g for %v", c.v)
 		}
+	}
+}
+
+// A categorical factor is named so, in the trade's word; the old kind
+// "choice" is refused (issue 20: the project has no users to migrate).
+func TestCategoricalKind(t *testing.T) {
+	ok := Factor{Name: "cat", Kind: Categorical, Categories: []string{"Pd", "Pt"}}
+	if ps := ok.Validate(); len(ps) > 0 {
+		t.Errorf("categorical factor: %v", ps)
+	}
+	old := Factor{Name: "cat", Kind: "choice", Categories: []string{"Pd", "Pt"}}
+	if ps := old.Validate(); len(ps) == 0 || ps[0].Key != "kind" {
+		t.Errorf("kind \"choice\" accepted: %v", ps)
 	}
 }

@@ -74,7 +74,7 @@ func (c Config) Initial() int {
 
 // Constraint is a known restriction of the process over several factors,
 // an expression that must hold for every setpoint, such as
-// "water + ethanol <= 1". Choice factors appear as their names ("catalyst
+// "water + ethanol <= 1". Categorical factors appear as their names ("catalyst
 // == \"Pd\""). The planner never proposes a setpoint that breaks one.
 type Constraint struct {
 	Name       string `toml:"name"`

@@ -18,27 +18,27 @@ func ValidName(s string) bool { return namePattern.MatchString(s) }
 
 // Kinds of factor.
 const (
-	Continuous = "continuous" // any value between min and max (the default)
-	Integer    = "integer"    // whole numbers between min and max
-	Levels     = "levels"     // one of a list of values, e.g. 5, 10, 20 mL
-	Choice     = "choice"     // one of a list of names, e.g. three catalysts
+	Continuous  = "continuous"  // any value between min and max (the default)
+	Integer     = "integer"     // whole numbers between min and max
+	Levels      = "levels"      // one of a list of values, e.g. 5, 10, 20 mL
+	Categorical = "categorical" // one of a list of names, e.g. three catalysts
 )
 
 // Factor is one setting of the process that the campaign varies, between
-// Min and Max in Unit. A choice factor's value in a Point is the index of
-// the choice (0 for the first); its Min and Max are 0 and len(Choices)−1.
+// Min and Max in Unit. A categorical factor's value in a Point is the index of
+// the category (0 for the first); its Min and Max are 0 and len(Categories)−1.
 type Factor struct {
-	Name    string    `toml:"name"`
-	Unit    string    `toml:"unit"`
-	Kind    string    `toml:"kind"`
-	Min     float64   `toml:"min"`
-	Max     float64   `toml:"max"`
-	Levels  []float64 `toml:"levels"`
-	Choices []string  `toml:"choices"`
+	Name       string    `toml:"name"`
+	Unit       string    `toml:"unit"`
+	Kind       string    `toml:"kind"`
+	Min        float64   `toml:"min"`
+	Max        float64   `toml:"max"`
+	Levels     []float64 `toml:"levels"`
+	Categories []string  `toml:"categories"`
 }
 
 // Normalised returns the factor with its kind spelled out and, for levels
-// and choices, Min and Max set from the list (Validate first).
+// and categories, Min and Max set from the list (Validate first).
 func (f Factor) Normalised() Factor {
 	if f.Kind == "" {
 		f.Kind = Continuous
@@ -50,8 +50,8 @@ func (f Factor) Normalised() Factor {
 			sort.Float64s(f.Levels)
 			f.Min, f.Max = f.Levels[0], f.Levels[len(f.Levels)-1]
 		}
-	case Choice:
-		f.Min, f.Max = 0, float64(max(len(f.Choices)-1, 0))
+	case Categorical:
+		f.Min, f.Max = 0, float64(max(len(f.Categories)-1, 0))
 	}
 	return f
 }
@@ -62,7 +62,7 @@ func (f Factor) Valid(v float64) bool {
 		return false
 	}
 	switch f.Kind {
-	case Integer, Choice:
+	case Integer, Categorical:
 		return v == math.Round(v)
 	case Levels:
 		for _, l := range f.Levels {
@@ -80,7 +80,7 @@ func (f Factor) Valid(v float64) bool {
 func (f Factor) Snap(v float64) float64 {
 	v = math.Min(f.Max, math.Max(f.Min, v))
 	switch f.Kind {
-	case Integer, Choice:
+	case Integer, Categorical:
 		return math.Min(f.Max, math.Max(f.Min, math.Round(v)))
 	case Levels:
 		best := f.Levels[0]
@@ -94,20 +94,20 @@ func (f Factor) Snap(v float64) float64 {
 	return v
 }
 
-// Format renders a value as a setpoint file shows it: the choice's name
-// for a choice factor, the shortest exact decimal otherwise.
+// Format renders a value as a setpoint file shows it: the category's name
+// for a categorical factor, the shortest exact decimal otherwise.
 func (f Factor) Format(v float64) string {
-	if f.Kind == Choice {
+	if f.Kind == Categorical {
 		i := int(v)
-		if i >= 0 && i < len(f.Choices) && float64(i) == v {
-			return f.Choices[i]
+		if i >= 0 && i < len(f.Categories) && float64(i) == v {
+			return f.Categories[i]
 		}
 	}
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
 // Display renders a value for people: 4 significant digits for a
-// continuous factor, the exact level, integer or choice otherwise.
+// continuous factor, the exact level, integer or category otherwise.
 func (f Factor) Display(v float64) string {
 	if f.Kind == "" || f.Kind == Continuous {
 		return strconv.FormatFloat(v, 'g', 4, 64)
@@ -136,27 +136,27 @@ func (f Factor) Validate() Problems {
 			seen[l] = true
 		}
 		return ps
-	case Choice:
-		if len(f.Choices) < 2 {
-			ps.Add("choices", "a choice factor needs at least two choices, got %d", len(f.Choices))
+	case Categorical:
+		if len(f.Categories) < 2 {
+			ps.Add("categories", "a categorical factor needs at least two categories, got %d", len(f.Categories))
 		}
 		seen := map[string]bool{}
-		for _, c := range f.Choices {
+		for _, c := range f.Categories {
 			if c == "" || seen[c] || strings.ContainsAny(c, ",\"\r\n") {
-				ps.Add("choices", "choices must be distinct non-empty names without commas, quotes or line breaks, got %q", f.Choices)
+				ps.Add("categories", "categories must be distinct non-empty names without commas, quotes or line breaks, got %q", f.Categories)
 				break
 			}
 			seen[c] = true
 		}
 		return ps
 	default:
-		ps.Add("kind", "must be %q, %q, %q or %q, got %q", Continuous, Integer, Levels, Choice, f.Kind)
+		ps.Add("kind", "must be %q, %q, %q or %q, got %q", Continuous, Integer, Levels, Categorical, f.Kind)
 	}
 	if len(f.Levels) > 0 {
 		ps.Add("levels", "only a factor of kind %q takes levels", Levels)
 	}
-	if len(f.Choices) > 0 {
-		ps.Add("choices", "only a factor of kind %q takes choices", Choice)
+	if len(f.Categories) > 0 {
+		ps.Add("categories", "only a factor of kind %q takes categories", Categorical)
 	}
 	if f.Kind == Integer && (f.Min != math.Round(f.Min) || f.Max != math.Round(f.Max)) {
 		ps.Add("min", "an integer factor needs whole-number bounds, got %v and %v", f.Min, f.Max)
@@ -227,7 +227,7 @@ func (s Space) Normalised() Space {
 }
 
 // Contains reports whether p is a setpoint the factors can take: inside
-// the bounds, whole for integers and choices, one of the levels.
+// the bounds, whole for integers and categories, one of the levels.
 func (s Space) Contains(p Point) bool {
 	if len(p) != len(s) {
 		return false
@@ -292,12 +292,12 @@ func (p Point) Clone() Point { return append(Point(nil), p...) }
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
 // Env returns the setpoint as named values for expressions over factors
-// (constraints, safety rules): each factor's value by name, a choice
-// factor's as the name of the choice.
+// (constraints, safety rules): each factor's value by name, a categorical
+// factor's as the name of the category.
 func (s Space) Env(p Point) map[string]any {
 	env := make(map[string]any, len(s))
 	for i, f := range s {
-		if f.Kind == Choice {
+		if f.Kind == Categorical {
 			env[f.Name] = f.Format(p[i])
 		} else {
 			env[f.Name] = p[i]

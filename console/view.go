@@ -33,6 +33,10 @@ type View struct {
 	// Stopping says whether proposals stopped and why; StopRule says what
 	// rule is configured.
 	Stopping, StopRule string
+	// StopTests is the stopping rule's verdict at the latest proposal,
+	// each test with its value and threshold (empty when the rule is off
+	// or proposals have stopped).
+	StopTests string
 	Best               *RunRow
 	Runs               []RunRow
 	Held               []HeldRow
@@ -169,6 +173,9 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		v.Best = &row
 	}
 	v.Stopping, v.StopRule = stopping(cfg, st)
+	if st.Stopped == "" {
+		v.StopTests = st.Stopping
+	}
 	notices := agent.Notices(cfg)
 	for _, ic := range cfg.Instruments {
 		v.Instruments = append(v.Instruments, instrument(ic, len(cfg.Instruments) == 1, notices, st, entries))

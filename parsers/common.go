@@ -46,7 +46,7 @@ type common struct {
 func newCommon(s Spec) (*common, error) {
 	c := &common{spec: s, convert: map[string]Converter{}, sent: map[string]string{}}
 	var err error
-	if c.runID, err = regexp.Compile(s.RunIDPattern); err != nil {
+	if c.runID, err = regexp.Compile(s.RunIDRegexp()); err != nil {
 		return nil, fmt.Errorf("parsers: run_id_pattern: %w", err)
 	}
 	if s.Trailer != "" {
@@ -121,10 +121,7 @@ func (c *common) value(name, key string, vs ValueSpec, occ []occurrence) (Value,
 	if len(occ) == 0 {
 		return Value{}, perr(name, 0, 0, fmt.Errorf("%w: %s", ErrMissingValue, describe(vs)))
 	}
-	how := c.spec.Reduce
-	if vs.Reduce != "" {
-		how = vs.Reduce
-	}
+	how := orDefault(vs.Reduce, orDefault(c.spec.Reduce, ReduceLast))
 	var nums []float64
 	last := occ[len(occ)-1]
 	out := Value{Unit: vs.FinalUnit(), Rows: len(occ), Line: last.line, Column: last.column}
@@ -242,8 +239,11 @@ func (c *common) finish(name, text, enc string, ex extraction) (Record, error) {
 		if err != nil {
 			return Record{}, err
 		}
-		if v.Rows > 1 {
-			rec.Warnings = append(rec.Warnings, fmt.Sprintf("%s: %d occurrences reduced by %q", n, v.Rows, orDefault(c.spec.Values[n].Reduce, c.spec.Reduce)))
+		// Several occurrences with no reduction configured: the last
+		// was taken, which may not be what the instrument meant. A
+		// reduction the config names is no surprise and not warned of.
+		if v.Rows > 1 && c.spec.Values[n].Reduce == "" && c.spec.Reduce == "" {
+			rec.Warnings = append(rec.Warnings, fmt.Sprintf("%s: %d occurrences, the last taken (set reduce to say which)", n, v.Rows))
 		}
 		rec.Values[n] = v
 	}

@@ -139,7 +139,6 @@ func TestRFC4180(t *testing.T) {
 	spec := DefaultSpec()
 	spec.RunIDSource = RunIDFromColumn
 	spec.RunIDColumn = "id"
-	spec.RunIDPattern = `^(.+)$`
 	spec.Values = map[string]ValueSpec{"v": {Column: "v"}}
 	p, err := Default().New(spec)
 	if err != nil {
@@ -280,3 +279,61 @@ func FuzzDelimited(f *testing.F) { fuzzFormat(f, FormatDelimited) }
 func FuzzReport(f *testing.F)    { fuzzFormat(f, FormatReport) }
 func FuzzJSON(f *testing.F)      { fuzzFormat(f, FormatJSON) }
 func FuzzXML(f *testing.F)       { fuzzFormat(f, FormatXML) }
+
+// With run_id_source = "column" and no run_id_pattern, the column's text
+// is the run id: the file-name pattern is not applied to it (issue 20:
+// every file failed with "R0099" does not match the file-name pattern).
+func TestColumnRunIDWithoutPattern(t *testing.T) {
+	spec := DefaultSpec()
+	spec.RunIDSource = RunIDFromColumn
+	spec.RunIDColumn = "Sample"
+	spec.Values = map[string]ValueSpec{"v": {Column: "v"}}
+	if ps := spec.Validate(Default()); len(ps) > 0 {
+		t.Fatal(ps)
+	}
+	p, err := Default().New(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec, err := p.Parse("export.csv", []byte("Sample,v\nR0099,1.5\n"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if rec.RunID != "R0099" {
+		t.Errorf("run id %q, want R0099", rec.RunID)
+	}
+	// From the file name, the stem stays the default.
+	spec.RunIDSource = RunIDFromFileName
+	if p, err = Default().New(spec); err != nil {
+		t.Fatal(err)
+	}
+	if rec, err = p.Parse("R0100.csv", []byte("Sample,v\nR0099,1.5\n")); err != nil || rec.RunID != "R0100" {
+		t.Errorf("from the file name: %q, %v; want R0100", rec.RunID, err)
+	}
+}
+
+// Several occurrences warn only when no reduction is configured: a
+// reduction the config names is what the user asked for (issue 20: a
+// warning on every file for a configured "mean").
+func TestReductionWarnsOnlyWhenNotConfigured(t *testing.T) {
+	for _, c := range []struct {
+		reduce string
+		warn   bool
+		want   float64
+	}{{"", true, 3}, {"mean", false, 2}, {"last", false, 3}} {
+		spec := DefaultSpec()
+		spec.Reduce = c.reduce
+		spec.Values = map[string]ValueSpec{"v": {Column: "v"}}
+		p, err := Default().New(spec)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rec, err := p.Parse("R1.csv", []byte("v\n1\n3\n"))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := len(rec.Warnings) > 0; got != c.warn || rec.Values["v"].Number != c.want {
+			t.Errorf("reduce %q: value %v, warnings %q; want %v, a warning: %v", c.reduce, rec.Values["v"].Number, rec.Warnings, c.want, c.warn)
+		}
+	}
+}

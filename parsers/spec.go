@@ -139,6 +139,26 @@ type Spec struct {
 	IncompleteTimeout time.Duration `toml:"incomplete_timeout"`
 }
 
+// Run-id patterns used when run_id_pattern is left out: a file name's
+// stem (the name up to its last dot, e.g. R0012 in "R0012.csv"), or, from
+// a column, label or path, the whole text.
+const (
+	defaultFileRunID = `([A-Za-z0-9][A-Za-z0-9_.-]*)\.[^.]*$`
+	defaultTextRunID = `^(.+)$`
+)
+
+// RunIDRegexp returns the run-id pattern in force: run_id_pattern, or
+// the default for the run id's source.
+func (s Spec) RunIDRegexp() string {
+	switch {
+	case s.RunIDPattern != "":
+		return s.RunIDPattern
+	case s.RunIDSource == RunIDFromFileName:
+		return defaultFileRunID
+	}
+	return defaultTextRunID
+}
+
 // DefaultSpec returns the defaults for keys a format may leave out. The
 // sentinel lists are texts commonly written by instrument software
 // (common practice, no single source).
@@ -150,8 +170,6 @@ func DefaultSpec() Spec {
 		Decimal:           ".",
 		Header:            true,
 		RunIDSource:       RunIDFromFileName,
-		RunIDPattern:      `([A-Za-z0-9][A-Za-z0-9_.-]*)\.[^.]*$`,
-		Reduce:            ReduceLast,
 		Missing:           []string{"", "NaN", "nan", "n/a", "N/A", "NA", "-", "--", "---", "----"},
 		OverRange:         []string{"OVER", "OVR", "OVRNG", ">>>>", "+OVER"},
 		UnderRange:        []string{"UNDER", "UNDR", "<<<<", "-OVER"},
@@ -226,7 +244,7 @@ func (s Spec) Validate(reg *Registry) campaign.Problems {
 		ps.Add("incomplete_timeout", "must not be negative, got %v", s.IncompleteTimeout)
 	}
 	ps = append(ps, s.validateRunID()...)
-	if !validReduce(s.Reduce) {
+	if s.Reduce != "" && !validReduce(s.Reduce) {
 		ps.Add("reduce", "must be one of %v, got %q", reductions, s.Reduce)
 	}
 	if len(s.Values) == 0 {
@@ -273,8 +291,6 @@ func (s Spec) validateRunID() campaign.Problems {
 	}
 	if re, err := regexp.Compile(s.RunIDPattern); err != nil {
 		ps.Add("run_id_pattern", "not a regular expression: %v", err)
-	} else if s.RunIDPattern == "" {
-		ps.Add("run_id_pattern", "must not be empty")
 	} else if re.NumSubexp() > 1 {
 		ps.Add("run_id_pattern", "at most one capture group, got %d", re.NumSubexp())
 	}

@@ -15,6 +15,7 @@ const (
 	AcqConfidenceBound     = "confidence_bound"
 	AcqProbability         = "probability_of_improvement"
 	AcqThompson            = "thompson"
+	AcqPortfolio           = "portfolio"
 )
 
 // Config is the [planner] section.
@@ -25,6 +26,9 @@ type Config struct {
 	Acquisition string `toml:"acquisition"`
 	// Beta weighs exploration in the confidence bound: mean − beta·sd.
 	Beta float64 `toml:"beta"`
+	// ThompsonEvery, with the portfolio, makes one run in this many a
+	// Thompson draw and the others expected improvement (portfolio.go).
+	ThompsonEvery int `toml:"thompson_every"`
 	// Shortlist, with expected improvement, is the share κ of the largest
 	// expected improvement a point needs to be shortlisted; the run goes
 	// to the shortlisted point with the lowest confidence bound, mean −
@@ -38,6 +42,12 @@ type Config struct {
 	// FitStarts is the number of random starts of the hyperparameter fit,
 	// on top of the default and the warm start.
 	FitStarts int `toml:"fit_starts"`
+	// RefitEvery: the hyperparameters are fitted from every start (the
+	// previous fit, the default, FitStarts random ones) when the number
+	// of runs is a multiple of this, or when there is no previous fit;
+	// between, from the previous fit alone. 1 fits from every start at
+	// every run.
+	RefitEvery int `toml:"refit_every"`
 	// Kernel is "matern32" (default), "matern52" or
 	// "squared_exponential". Matérn 3/2 by default: on the runs-to-optimum
 	// benchmark over 600 seeds (README) it needed fewer runs than 5/2 on
@@ -82,7 +92,7 @@ type StopConfig struct {
 
 // Default returns the defaults.
 func Default() Config {
-	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2,
+	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1,
 		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64}
 }
 
@@ -90,9 +100,12 @@ func Default() Config {
 func (c Config) Validate() campaign.Problems {
 	var ps campaign.Problems
 	switch c.Acquisition {
-	case AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson:
+	case AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, AcqPortfolio:
 	default:
-		ps.Add("acquisition", "must be %s, %s, %s or %s, got %q", AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, c.Acquisition)
+		ps.Add("acquisition", "must be %s, %s, %s, %s or %s, got %q", AcqPortfolio, AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, c.Acquisition)
+	}
+	if c.ThompsonEvery < 0 {
+		ps.Add("thompson_every", "must be 0 (never) or a whole number of runs, got %d", c.ThompsonEvery)
 	}
 	if !(c.Beta >= 0) || math.IsInf(c.Beta, 0) {
 		ps.Add("beta", "must be a number of at least 0, got %v", c.Beta)
@@ -105,6 +118,9 @@ func (c Config) Validate() campaign.Problems {
 	}
 	if c.Refine < 0 || c.Refine > c.Candidates {
 		ps.Add("refine", "must be between 0 and candidates, got %d", c.Refine)
+	}
+	if c.RefitEvery < 1 {
+		ps.Add("refit_every", "must be a whole number of runs, at least 1, got %d", c.RefitEvery)
 	}
 	if c.FitStarts < 0 {
 		ps.Add("fit_starts", "must not be negative, got %d", c.FitStarts)
@@ -181,5 +197,8 @@ func sharedLength(runs, width int) bool { return runs < isoRunsPerInput*width }
 func (p *Planner) fitOptions(warm *gp.Params, rng *rand.Rand, runs, width int) gp.FitOptions {
 	k, _ := gp.ParseKernel(p.cfg.Kernel) // validated
 	return gp.FitOptions{Kernel: k, Starts: p.cfg.FitStarts, Warm: warm, Rand: rng, FixedNoise: p.cfg.NoiseSD * p.cfg.NoiseSD, NoiseFloor: 1e-8,
-		Isotropic: sharedLength(runs, width)}
+		Isotropic: sharedLength(runs, width),
+		// A switch from one shared length-scale to one per input is a
+		// new model: every start then.
+		WarmOnly: runs%p.cfg.RefitEvery != 0 && sharedLength(runs, width) == sharedLength(runs-1, width)}
 }

@@ -90,16 +90,16 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 	}
 	off := 0
 	for _, f := range p.space {
-		if f.Kind == campaign.Choice {
+		if f.Kind == campaign.Categorical {
 			// One-hot inputs: the shortest of its scales, in units
-			// of "switching choice" (about 1.4 or less: a strong
+			// of "switching category" (about 1.4 or less: a strong
 			// effect; much more: little effect).
 			l := math.Inf(1)
-			for c := range f.Choices {
+			for c := range f.Categories {
 				l = math.Min(l, par.LengthScales[off+c])
 			}
 			d.LengthScales = append(d.LengthScales, Scale{Factor: f.Name, Unit: "(choice)", Value: l})
-			off += len(f.Choices)
+			off += len(f.Categories)
 			continue
 		}
 		d.LengthScales = append(d.LengthScales, Scale{Factor: f.Name, Unit: f.Unit, Value: par.LengthScales[off] * (f.Max - f.Min)})

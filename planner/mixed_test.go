@@ -11,7 +11,7 @@ import (
 )
 
 // randomCampaign builds a campaign of 2-5 factors of every kind with a
-// constraint over two continuous factors and one tying a choice to a
+// constraint over two continuous factors and one tying a category to a
 // continuous factor.
 func randomCampaign(rng *rand.Rand, seed uint64) campaign.Config {
 	space := campaign.Space{
@@ -21,7 +21,7 @@ func randomCampaign(rng *rand.Rand, seed uint64) campaign.Config {
 	extra := []campaign.Factor{
 		{Name: "n", Kind: campaign.Integer, Min: 1, Max: float64(2 + rng.IntN(6))},
 		{Name: "vol", Kind: campaign.Levels, Levels: []float64{5, 10, 20}},
-		{Name: "cat", Kind: campaign.Choice, Choices: []string{"Pd", "Pt", "Ni"}},
+		{Name: "cat", Kind: campaign.Categorical, Categories: []string{"Pd", "Pt", "Ni"}},
 	}
 	rng.Shuffle(len(extra), func(i, j int) { extra[i], extra[j] = extra[j], extra[i] })
 	space = append(space, extra[:1+rng.IntN(3)]...)
@@ -34,7 +34,7 @@ func randomCampaign(rng *rand.Rand, seed uint64) campaign.Config {
 }
 
 // Property: whatever the factors and constraints, every proposal is a
-// valid setpoint (whole numbers, listed levels, existing choices, inside
+// valid setpoint (whole numbers, listed levels, existing categories, inside
 // the bounds) and breaks no constraint: 30 random campaigns, 12 proposals
 // each, through the design and the model phases.
 func TestMixedAndConstrainedProposalsAreAlwaysValid(t *testing.T) {

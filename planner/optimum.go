@@ -2,12 +2,10 @@ package planner
 
 import (
 	"context"
-	"fmt"
 	"math"
 	"math/rand/v2"
 	"runtime"
 	"sort"
-	"strings"
 	"sync"
 
 	"gonum.org/v1/gonum/optimize"
@@ -64,10 +62,26 @@ const optimumFeatures = 512
 // around the best runs), then its best few candidates are refined by local
 // search, so the minimisers are found in any dimension without a grid.
 func (p *Planner) OptimumOf(ctx context.Context, f *Fitted, samples int, rng *rand.Rand) (*Optimum, error) {
+	return p.optimumOf(ctx, f, samples, fullSearch, rng)
+}
+
+// effort is how hard each draw's minimiser is searched for.
+type effort struct {
+	candidates func(d int) int // space-filling candidates shared by the draws
+	refine     int             // candidates refined by local search
+	evals      int             // evaluations per refinement, per factor
+}
+
+var (
+	// fullSearch is for the report and status.
+	fullSearch = effort{candidates: func(d int) int { return min(1024, 128*d) }, refine: 2, evals: 40}
+)
+
+func (p *Planner) optimumOf(ctx context.Context, f *Fitted, samples int, e effort, rng *rand.Rand) (*Optimum, error) {
 	d := p.space.Dim()
 	m, x := f.Model, f.x
 	bestFirst := byValue(x, f.y)
-	cands := LatinHypercube(min(1024, 128*d), d, rng)
+	cands := LatinHypercube(e.candidates(d), d, rng)
 	cands = append(cands, pointsOf(x)...)
 	for _, a := range bestFirst[:min(5, len(bestFirst))] {
 		for j := 0; j < 30; j++ {
@@ -103,7 +117,7 @@ func (p *Planner) OptimumOf(ctx context.Context, f *Fitted, samples int, rng *ra
 		go func() {
 			defer wg.Done()
 			for s := range next {
-				bu, bv := p.minimisePath(paths[s], cands, d)
+				bu, bv := p.minimisePath(paths[s], cands, d, e)
 				o.Minimisers[s] = p.space.FromUnit(nil, bu)
 				lossAt[s] = bv
 				o.Values[s] = p.resp.Measured(f.loss(bv))
@@ -152,7 +166,7 @@ func (p *Planner) OptimumOf(ctx context.Context, f *Fitted, samples int, rng *ra
 // minimisePath finds a draw's minimiser over the valid, feasible
 // setpoints: the best of the shared candidates, refined by Nelder-Mead from
 // its best two.
-func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int) ([]float64, float64) {
+func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int, e effort) ([]float64, float64) {
 	type cv struct {
 		u []float64
 		v float64
@@ -170,7 +184,7 @@ func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int) ([]
 	}
 	sort.Slice(vals, func(a, b int) bool { return vals[a].v < vals[b].v })
 	bu, bv := vals[0].u, vals[0].v
-	for _, st := range vals[:min(2, len(vals))] {
+	for _, st := range vals[:min(e.refine, len(vals))] {
 		res, _ := optimize.Minimize(optimize.Problem{Func: func(u []float64) float64 {
 			v := at(u)
 			if math.IsInf(v, 1) {
@@ -178,7 +192,7 @@ func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int) ([]
 			}
 			return v
 		}},
-			st.u, &optimize.Settings{FuncEvaluations: 40 * d, Converger: &optimize.FunctionConverge{Absolute: 1e-7, Iterations: 10}},
+			st.u, &optimize.Settings{FuncEvaluations: e.evals * d, Converger: &optimize.FunctionConverge{Absolute: 1e-7, Iterations: 10}},
 			&optimize.NelderMead{SimplexSize: 0.02})
 		if res != nil {
 			if u := p.snapUnit(res.X); at(u) < bv {
@@ -282,28 +296,4 @@ func marginal(f campaign.Factor, v []float64) Marginal {
 		mg.Density[i] = s * norm
 	}
 	return mg
-}
-
-// stopping applies the stopping rule: it returns a reason when the 90%
-// credible box of the optimum fits inside every factor's tolerance and the
-// best expected improvement (modelled units; the response's unit unless
-// transformed) is below the threshold. With no tolerances it never stops.
-func (p *Planner) stopping(ctx context.Context, f *Fitted, ei float64, rng *rand.Rand) (string, *Optimum, error) {
-	if len(p.cfg.Stop.Tolerance) == 0 || ei >= p.cfg.Stop.EIBelow {
-		return "", nil, nil
-	}
-	o, err := p.OptimumOf(ctx, f, p.cfg.Samples, rng)
-	if err != nil {
-		return "", nil, fmt.Errorf("planner: optimum distribution: %w", err)
-	}
-	var widths []string
-	for k, f := range p.space {
-		w := o.Box[k][1] - o.Box[k][0]
-		if w > p.cfg.Stop.Tolerance[f.Name] {
-			return "", o, nil
-		}
-		widths = append(widths, fmt.Sprintf("%s %.3g (tolerance %.3g)", f.Name, w, p.cfg.Stop.Tolerance[f.Name]))
-	}
-	return fmt.Sprintf("the optimum is located well enough: the 90%% credible box has widths %s, and the best expected improvement %.3g is below %.3g",
-		strings.Join(widths, ", "), ei, p.cfg.Stop.EIBelow), o, nil
 }

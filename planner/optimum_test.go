@@ -5,6 +5,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"sort"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/stat"
@@ -156,6 +157,9 @@ func TestStoppingRule(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		if i >= 4 {
+			checkStopTests(t, res.Stopping, res.Stop != "")
+		}
 		if res.Stop != "" {
 			if i < 8 {
 				t.Fatalf("stopped after %d runs: %s", i, res.Stop)
@@ -173,4 +177,31 @@ func TestStoppingRule(t *testing.T) {
 		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: f(res.Proposal.Point)})
 	}
 	t.Fatal("the stopping rule never fired in 25 runs")
+}
+
+// checkStopTests checks that a verdict names the improvement test and one
+// location test per factor (a and b), each with its threshold, and that
+// it says stop exactly when every test was worked out and passed.
+func checkStopTests(t *testing.T, s *Stopping, stop bool) {
+	t.Helper()
+	if s == nil || len(s.Tests) != 3 {
+		t.Fatalf("stopping verdict %+v: want the improvement test and two location tests", s)
+	}
+	all := true
+	for i, want := range []string{"expected improvement", "optimum's location along a", "optimum's location along b"} {
+		tt := s.Tests[i]
+		if tt.Name != want || tt.Threshold <= 0 {
+			t.Errorf("test %d is %+v, want %q with its threshold", i, tt, want)
+		}
+		if tt.Done && tt.Passed != (tt.Value <= tt.Threshold) {
+			t.Errorf("test %+v: passed does not follow value and threshold", tt)
+		}
+		all = all && tt.Done && tt.Passed
+	}
+	if s.Stop != all || stop != all {
+		t.Errorf("verdict stop %v, result stop %v, every test passed %v: %s", s.Stop, stop, all, s)
+	}
+	if !strings.Contains(s.String(), "expected improvement") || !strings.Contains(s.String(), "of at most") {
+		t.Errorf("verdict says %q", s)
+	}
 }

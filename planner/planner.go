@@ -22,6 +22,10 @@ const (
 	// (shortlist.go): the lowest confidence bound among the points of
 	// high expected improvement.
 	MethodShortlist = "expected improvement shortlist"
+	// MethodImprovement is plain expected improvement.
+	MethodImprovement = "expected improvement"
+	// MethodThompson is the minimiser of one posterior draw.
+	MethodThompson = "thompson sampling"
 )
 
 // Planner proposes setpoints for one campaign.
@@ -34,8 +38,8 @@ type Planner struct {
 	design []campaign.Point // unit box
 	cons   constraintSet
 
-	hasChoice, hasDiscrete bool
-	encDim                 int // inputs of the surrogate
+	hasCategorical, hasDiscrete bool
+	encDim                      int // inputs of the surrogate
 
 	// region, set on a copy for one request, confines proposals.
 	region [][2]float64
@@ -57,9 +61,9 @@ func New(cc campaign.Config, cfg Config) *Planner {
 	p := &Planner{cfg: cfg, space: cc.Factors.Normalised(), resp: cc.Response, nInit: cc.Initial(), seed: cc.Seed, cons: cons}
 	for _, f := range p.space {
 		switch f.Kind {
-		case campaign.Choice:
-			p.hasChoice, p.hasDiscrete = true, true
-			p.encDim += len(f.Choices)
+		case campaign.Categorical:
+			p.hasCategorical, p.hasDiscrete = true, true
+			p.encDim += len(f.Categories)
 		case campaign.Integer, campaign.Levels:
 			p.hasDiscrete = true
 			p.encDim++
@@ -119,6 +123,9 @@ type Result struct {
 	// Stop, when not empty, says why no more runs are worth making; the
 	// proposal is then only what would have been run.
 	Stop string
+	// Stopping is the stopping rule's verdict, test by test (nil when the
+	// rule is off).
+	Stopping *Stopping
 	// Optimum is the optimum's distribution when the stopping rule needed
 	// it (nil otherwise).
 	Optimum *Optimum
@@ -223,34 +230,20 @@ func (p *Planner) search(ctx context.Context, req Request, ft, search *Fitted, a
 	if err != nil {
 		return Result{}, err
 	}
-	best := p.bestMean(search.Model, search.x)
-	score, method, err := p.scorer(believer, best, feasible, rng)
+	sit := &situation{p: p, model: believer, best: p.bestMean(search.Model, search.x), feasible: feasible,
+		allowed: func(u []float64) bool { return farFrom(u, near) && a.outside(p.encode(u)) },
+		around:  byValue(search.x, search.y), index: req.Index, rng: rng}
+	c, err := p.strategyFor().choose(ctx, sit)
 	if err != nil {
 		return Result{}, err
 	}
-	allowed := func(u []float64) bool { return farFrom(u, near) && a.outside(p.encode(u)) }
-	around := byValue(search.x, search.y)
-	u, s, err := p.maximise(ctx, func(u []float64) float64 {
-		if !allowed(u) {
-			return math.Inf(-1)
-		}
-		return score(u)
-	}, around, rng)
-	if err != nil {
-		return Result{}, err
-	}
-	// The largest expected improvement, reported below, is s (on the
-	// model of every run only when that model chose the point by it);
-	// the shortlist may then pick another point (shortlist.go).
+	u, s, method := c.u, c.score, c.method
+	// The largest expected improvement, reported below, is the
+	// strategy's when it searched for it on the model of every run;
+	// otherwise summary searches for it.
 	ei := math.NaN()
-	if p.cfg.Acquisition == AcqExpectedImprovement && a == nil {
-		ei = math.Exp(s)
-	}
-	if p.cfg.Acquisition == AcqExpectedImprovement && p.cfg.Shortlist > 0 {
-		if u, s, err = p.shortlist(ctx, believer, best, feasible, allowed, u, s, around, rng); err != nil {
-			return Result{}, err
-		}
-		method = MethodShortlist
+	if a == nil {
+		ei = math.Exp(c.logEI)
 	}
 	if a != nil {
 		method += fmt.Sprintf(" in a new search, outside %d stalled region(s)", len(a.centres))
@@ -291,10 +284,14 @@ func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][
 	// the warping's slope at the incumbent.
 	res.EI *= ft.w.slope(best)
 	res.Best = ft.w.from(best)
-	if stop, opt, err := p.stopping(ctx, ft, res.EI, rng); err != nil {
+	stop, opt, err := p.stopping(ctx, ft, res.EI, rng)
+	if err != nil {
 		return Result{}, err
-	} else if stop != "" {
-		res.Stop, res.Optimum = stop, opt
+	}
+	res.Stopping = stop
+	if stop != nil && stop.Stop {
+		res.Stop = "the optimum is located well enough: " + stop.String()
+		res.Optimum = opt
 	}
 	return res, nil
 }
@@ -455,42 +452,6 @@ func byValue(x [][]float64, y []float64) [][]float64 {
 		out[i] = x[j]
 	}
 	return out
-}
-
-// scorer returns the acquisition to maximise over the unit box.
-func (p *Planner) scorer(m *gp.Model, best float64, feasible func([]float64) float64, rng *rand.Rand) (func([]float64) float64, string, error) {
-	logFeasible := func(u []float64) float64 { return logFeasibility(feasible, u) }
-	switch p.cfg.Acquisition {
-	case AcqConfidenceBound:
-		return func(u []float64) float64 {
-			if feasible != nil && feasible(u) < 0.5 {
-				return math.Inf(-1)
-			}
-			mu, v := m.Predict(p.encode(u))
-			return -acquisition.LowerConfidenceBound(mu, math.Sqrt(v), p.cfg.Beta)
-		}, fmt.Sprintf("confidence bound (beta %g)", p.cfg.Beta), nil
-	case AcqProbability:
-		return func(u []float64) float64 {
-			mu, v := m.Predict(p.encode(u))
-			return acquisition.LogProbabilityOfImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
-		}, "probability of improvement", nil
-	case AcqThompson:
-		paths, err := m.Paths(1, 512, rng)
-		if err != nil {
-			return nil, "", fmt.Errorf("planner: thompson draw: %w", err)
-		}
-		return func(u []float64) float64 {
-			if feasible != nil && feasible(u) < 0.5 {
-				return math.Inf(-1)
-			}
-			return -paths[0].At(p.encode(u))
-		}, "thompson sampling", nil
-	default:
-		return func(u []float64) float64 {
-			mu, v := m.Predict(p.encode(u))
-			return acquisition.LogExpectedImprovement(mu, math.Sqrt(v), best) + logFeasible(u)
-		}, "expected improvement", nil
-	}
 }
 
 // logFeasibility is the log of the chance of success at u that weighs EI

@@ -47,8 +47,8 @@ const shortlistBeta = 1.0
 // (spacing, regions set aside); around seeds the search (best runs
 // first). point itself always qualifies, so the answer is never worse by
 // the bound than point. Each candidate costs one prediction.
-func (p *Planner) shortlist(ctx context.Context, m *gp.Model, best float64, feasible func([]float64) float64, allowed func([]float64) bool, point campaign.Point, top float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
-	floor := top + math.Log(p.cfg.Shortlist)
+func (p *Planner) shortlist(ctx context.Context, m *gp.Model, best float64, feasible func([]float64) float64, allowed func([]float64) bool, kappa float64, point campaign.Point, top float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
+	floor := top + math.Log(kappa)
 	at := func(v []float64) (score, bound float64) {
 		mu, vv := m.Predict(p.encode(v))
 		sd := math.Sqrt(vv)

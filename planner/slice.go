@@ -18,7 +18,7 @@ type Band struct {
 }
 
 // Slice predicts along one factor through a point: the factor runs over
-// its range (n even steps; its levels or choices when discrete), every
+// its range (n even steps; its levels or categories when discrete), every
 // other factor stays at its value in through.
 func (p *Planner) Slice(f *Fitted, through campaign.Point, factor, n int) ([]Band, error) {
 	if factor < 0 || factor >= p.space.Dim() || len(through) != p.space.Dim() {
@@ -27,8 +27,8 @@ func (p *Planner) Slice(f *Fitted, through campaign.Point, factor, n int) ([]Ban
 	fac := p.space[factor]
 	var xs []float64
 	switch {
-	case fac.Kind == campaign.Choice:
-		for c := range fac.Choices {
+	case fac.Kind == campaign.Categorical:
+		for c := range fac.Categories {
 			xs = append(xs, float64(c))
 		}
 	case fac.Kind == campaign.Levels:

@@ -11,23 +11,23 @@ import (
 )
 
 // The planner works on the unit box: one coordinate per factor, the
-// factor's value mapped from [min, max] to [0, 1] (a choice factor's index
-// over its choices). The surrogate sees an encoding of it: a choice factor
-// with k choices becomes k one-hot inputs, so that no order is imposed on
-// its choices; every other factor is its unit coordinate.
+// factor's value mapped from [min, max] to [0, 1] (a categorical factor's index
+// over its categories). The surrogate sees an encoding of it: a categorical factor
+// with k categories becomes k one-hot inputs, so that no order is imposed on
+// its categories; every other factor is its unit coordinate.
 
 // encode maps a unit-box point to the surrogate's inputs.
 func (p *Planner) encode(u []float64) []float64 {
-	if !p.hasChoice {
+	if !p.hasCategorical {
 		return u
 	}
 	out := make([]float64, 0, p.encDim)
 	for k, f := range p.space {
-		if f.Kind != campaign.Choice {
+		if f.Kind != campaign.Categorical {
 			out = append(out, u[k])
 			continue
 		}
-		n := len(f.Choices)
+		n := len(f.Categories)
 		idx := int(math.Round(u[k] * float64(n-1)))
 		for c := 0; c < n; c++ {
 			if c == idx {

@@ -55,8 +55,8 @@ func Slice(f campaign.Factor, resp campaign.Response, bands []planner.Band, runs
 		return Figure{}, fmt.Errorf("plots: slice along %s: %d points", f.Name, len(bands))
 	}
 	p := newPlot("Model along "+f.Name, axisLabel(f.Name, f.Unit), axisLabel(resp.Name, resp.Unit))
-	if f.Kind == campaign.Choice {
-		p.X.Tick.Marker = choiceTicks(f)
+	if f.Kind == campaign.Categorical {
+		p.X.Tick.Marker = categoryTicks(f)
 	}
 	upper := make(plotter.XYs, 0, 2*len(bands))
 	med := make(plotter.XYs, len(bands))
@@ -103,8 +103,8 @@ func Location(f campaign.Factor, m planner.Marginal) (Figure, error) {
 		return Figure{}, fmt.Errorf("plots: optimum along %s: no histogram", f.Name)
 	}
 	p := newPlot("Where the optimum is: "+f.Name, axisLabel(f.Name, f.Unit), "probability density")
-	if f.Kind == campaign.Choice {
-		p.X.Tick.Marker = choiceTicks(f)
+	if f.Kind == campaign.Categorical {
+		p.X.Tick.Marker = categoryTicks(f)
 	}
 	total := 0
 	for _, c := range m.Counts {

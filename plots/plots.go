@@ -110,10 +110,10 @@ func runGlyphs(pts plotter.XYs) (*plotter.Scatter, error) {
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 
-// choiceTicks labels a choice factor's axis with its choice names.
-func choiceTicks(f campaign.Factor) plot.Ticker {
+// categoryTicks labels a categorical factor's axis with its category names.
+func categoryTicks(f campaign.Factor) plot.Ticker {
 	var ts plot.ConstantTicks
-	for i, c := range f.Choices {
+	for i, c := range f.Categories {
 		ts = append(ts, plot.Tick{Value: float64(i), Label: c})
 	}
 	return ts

@@ -35,7 +35,7 @@ const (
 )
 
 // Rule is a limit over several factors: When is an expression over the
-// factor names (choice factors as their names), e.g. "temperature > 80 &&
+// factor names (categorical factors as their names), e.g. "temperature > 80 &&
 // pressure > 3"; when it is true the move is held or refused, and Message
 // is shown to the person signing off.
 type Rule struct {
@@ -91,7 +91,7 @@ func (c Config) Version() string {
 }
 
 // Validate reports every problem, keyed relative to the section: every
-// factor needs both hard limits (a choice factor's choices are its
+// factor needs both hard limits (a categorical factor's categories are its
 // limits), limits must be finite and ordered, review limits must lie
 // within hard ones, no limit may name an unknown factor, rules must
 // compile.
@@ -100,7 +100,7 @@ func (c Config) Validate(space campaign.Space) campaign.Problems {
 	for _, f := range space {
 		key := "limits." + f.Name
 		l, ok := c.Limits[f.Name]
-		if !ok && f.Kind == campaign.Choice {
+		if !ok && f.Kind == campaign.Categorical {
 			continue
 		}
 		if !ok {

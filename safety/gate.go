@@ -142,7 +142,7 @@ func (g *Gate) check(sp campaign.Setpoint, previous campaign.Point) Decision {
 	for i, f := range g.space {
 		l, ok := g.cfg.Limits[f.Name]
 		if !ok {
-			continue // a choice factor without limits: checked above
+			continue // a categorical factor without limits: checked above
 		}
 		v := sp.Point[i]
 		unit := ""
@@ -233,8 +233,8 @@ func describeKind(f campaign.Factor) string {
 		return fmt.Sprintf("whole numbers from %g to %g", f.Min, f.Max)
 	case campaign.Levels:
 		return fmt.Sprintf("one of %v", f.Levels)
-	case campaign.Choice:
-		return fmt.Sprintf("a choice index from 0 to %d", len(f.Choices)-1)
+	case campaign.Categorical:
+		return fmt.Sprintf("a category index from 0 to %d", len(f.Categories)-1)
 	}
 	return fmt.Sprintf("from %g to %g", f.Min, f.Max)
 }

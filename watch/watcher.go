@@ -198,7 +198,7 @@ func (w *Watcher) poll(st *state, why string) {
 	}
 	st.dirs = map[string]bool{}
 	st.polling = why
-	w.log.Warn().Str("why", why).Dur("every", w.cfg.Rescan).Msg("no file events: finding files by scanning alone")
+	w.log.Warn().Str("why", why).Stringer("every", w.cfg.Rescan).Msg("no file events: finding files by scanning alone")
 	w.folder(FolderState{OK: true, Polling: why})
 }
 
@@ -321,7 +321,7 @@ func (w *Watcher) scan(st *state) {
 	}
 	if n := len(st.old); n > st.oldSaid {
 		st.oldSaid = n
-		w.log.Info().Int("files", n).Dur("max_age", w.cfg.MaxAge).Msg("files older than max_age left out (benchtender run --include-old takes them)")
+		w.log.Info().Int("files", n).Stringer("max_age", w.cfg.MaxAge).Msg("files older than max_age left out (benchtender run --include-old takes them)")
 	}
 }
 
@@ -404,7 +404,7 @@ func (w *Watcher) look(st *state, path, rel string) {
 	if err != nil || !fi.Mode().IsRegular() {
 		if err != nil && !errors.Is(err, fs.ErrNotExist) {
 			w.trouble(err)
-			w.log.Warn().Err(err).Str("path", Quote(path)).Msg("cannot stat file")
+			w.log.Warn().Err(err).Str("path", path).Msg("cannot stat file")
 		}
 		delete(st.pending, path)
 		if err != nil {
@@ -439,7 +439,7 @@ func (w *Watcher) flag(st *state, path, rel, problem string) {
 		return
 	}
 	st.flagged[path] = true
-	w.log.Warn().Str("path", Quote(path)).Str("problem", problem).Msg("file not read")
+	w.log.Warn().Str("path", path).Str("problem", problem).Msg("file not read")
 	st.ready = append(st.ready, File{Path: path, Rel: rel, Problem: problem})
 }
 

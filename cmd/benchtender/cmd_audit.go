@@ -15,6 +15,9 @@ func cmdAudit(args []string, stdout io.Writer) error {
 	if len(args) > 0 && args[0] == "correct" {
 		return cmdAuditCorrect(args[1:], stdout)
 	}
+	if len(args) > 0 && (args[0] == "-h" || args[0] == "--help" || args[0] == "-help") {
+		return helpRequest{flag.NewFlagSet("audit", flag.ContinueOnError)}
+	}
 	if len(args) == 0 || args[0] != "verify" {
 		return usageError{"audit: the subcommands are verify and correct"}
 	}

@@ -25,7 +25,7 @@ func cmdCheck(args []string, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	for _, w := range cfg.Warnings() {
+	for _, w := range append(cfg.Warnings(), cfg.FolderProblems()...) {
 		fmt.Fprintf(stdout, "warning: %s\n", w)
 	}
 	fmt.Fprintf(stdout, "%s: campaign %s is valid: %d factors, response %s (%s), instrument %s\n",

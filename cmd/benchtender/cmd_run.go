@@ -94,7 +94,6 @@ func prepareCampaign(ctx context.Context, path string, cfg agent.Config, include
 	if err != nil {
 		return nil, nil, err
 	}
-	log = log.With().Str("campaign", cfg.Campaign.Name).Logger()
 	for _, w := range cfg.Warnings() {
 		log.Warn().Msg(w)
 	}
@@ -161,10 +160,23 @@ func newLogger(cfg agent.Config, stderr io.Writer, terminal bool) (zerolog.Logge
 		closeFn = func() { f.Close() }
 	}
 	if terminal {
-		writers = append(writers, zerolog.ConsoleWriter{Out: stderr, TimeFormat: "15:04:05"})
+		// Colour only on a terminal: redirected to a file or a service
+		// manager's journal, escape codes would be written into it.
+		writers = append(writers, zerolog.ConsoleWriter{Out: stderr, TimeFormat: "15:04:05", NoColor: !isTerminal(stderr)})
 	}
 	if len(writers) == 0 {
 		return zerolog.Nop(), closeFn, nil
 	}
-	return zerolog.New(zerolog.MultiLevelWriter(writers...)).Level(level).With().Timestamp().Logger(), closeFn, nil
+	return zerolog.New(zerolog.MultiLevelWriter(writers...)).Level(level).With().Timestamp().Str("campaign", cfg.Campaign.Name).Logger(), closeFn, nil
+}
+
+// isTerminal reports whether w is a character device (a terminal), not a
+// file or a pipe.
+func isTerminal(w io.Writer) bool {
+	f, ok := w.(*os.File)
+	if !ok {
+		return false
+	}
+	fi, err := f.Stat()
+	return err == nil && fi.Mode()&os.ModeCharDevice != 0
 }

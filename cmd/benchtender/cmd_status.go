@@ -45,6 +45,8 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 		fmt.Fprintf(stdout, "proposals stopped: %s\n", st.Stopped)
 	} else if st.Proposals-countStatus(st, agent.StatusRejected, agent.StatusRefused) >= cfg.Campaign.MaxRuns {
 		fmt.Fprintf(stdout, "proposals stopped: the budget of %d runs is spent\n", cfg.Campaign.MaxRuns)
+	} else if st.Stopping != "" {
+		fmt.Fprintf(stdout, "stopping rule at the latest proposal: %s\n", st.Stopping)
 	}
 	resp := cfg.Campaign.Response
 	if b := st.Best(resp); b != nil {

@@ -15,7 +15,12 @@
 //	benchtender status [--config C]     runs so far, the model, where the optimum is
 //	benchtender report [--config C] [--out report.html]   the campaign in one HTML file
 //	benchtender parse --config C [--format NAME] FILE   what a result file would give
-//	benchtender demo [--dir DIR]        an invented campaign on a simulated instrument
+//	benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config C]
+//	benchtender demo [--dir DIR] [--runs N] [--seed N]   an invented campaign on a simulated instrument
+//	benchtender service install|remove  a Windows service that survives a reboot
+//	benchtender version                 version, commit and Go version
+//
+// Every subcommand answers --help with its usage and flags.
 package main
 
 import (
@@ -26,6 +31,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 )
 
@@ -40,6 +46,31 @@ func main() {
 type usageError struct{ msg string }
 
 func (e usageError) Error() string { return e.msg }
+
+// helpRequest is a subcommand's --help (or -h): run prints the
+// subcommand's usage and its flags to standard output and exits 0.
+type helpRequest struct{ fs *flag.FlagSet }
+
+func (h helpRequest) Error() string { return h.fs.Name() + ": help requested" }
+func (h helpRequest) Unwrap() error { return flag.ErrHelp }
+
+// printHelp writes the usage lines of the subcommand named name and the
+// flags of fs.
+func printHelp(w io.Writer, name string, fs *flag.FlagSet) {
+	fmt.Fprintln(w, "usage:")
+	for _, line := range strings.Split(usage, "\n") {
+		if strings.HasPrefix(strings.TrimSpace(line), "benchtender "+name+" ") || strings.TrimSpace(line) == "benchtender "+name {
+			fmt.Fprintln(w, line)
+		}
+	}
+	n := 0
+	fs.VisitAll(func(*flag.Flag) { n++ })
+	if n > 0 {
+		fmt.Fprintln(w, "\nflags:")
+		fs.SetOutput(w)
+		fs.PrintDefaults()
+	}
+}
 
 // configError marks a configuration that did not validate; its problems
 // were already printed.
@@ -81,10 +112,17 @@ const usage = `usage:
   benchtender all-stop [--reason TEXT] [--by ID] [--config CONFIG]
   benchtender resume --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender audit verify [--config CONFIG]
+  benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender status [--config CONFIG]
   benchtender report [--config CONFIG] [--out report.html] [--x FACTOR --y FACTOR]
   benchtender parse --config CONFIG [--format NAME] FILE
-  benchtender demo [--dir DIR]
+  benchtender demo [--dir DIR] [--runs N] [--seed N]
+  benchtender service install --config CONFIG [--name NAME]   (Windows)
+  benchtender service remove [--name NAME]                    (Windows)
+  benchtender version
+  benchtender help
+
+Every command answers --help with its usage and flags.
 `
 
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
@@ -92,6 +130,16 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return usageError{"no command given"}
 	}
 	cmd, rest := args[0], args[1:]
+	err := dispatch(ctx, cmd, rest, stdout, stderr)
+	var h helpRequest
+	if errors.As(err, &h) {
+		printHelp(stdout, h.fs.Name(), h.fs)
+		return nil
+	}
+	return err
+}
+
+func dispatch(ctx context.Context, cmd string, rest []string, stdout, stderr io.Writer) error {
 	switch cmd {
 	case "check":
 		return cmdCheck(rest, stdout)
@@ -113,6 +161,10 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) error {
 		return cmdParse(rest, stdout)
 	case "demo":
 		return cmdDemo(ctx, rest, stdout)
+	case "service":
+		return cmdService(ctx, rest, stdout, stderr)
+	case "version", "-version", "--version":
+		return cmdVersion(rest, stdout)
 	case "help", "-h", "--help":
 		fmt.Fprint(stdout, usage)
 		return nil
@@ -128,7 +180,7 @@ func parseFlags(fs *flag.FlagSet, args []string) ([]string, error) {
 	for {
 		if err := fs.Parse(args); err != nil {
 			if errors.Is(err, flag.ErrHelp) {
-				return nil, err
+				return nil, helpRequest{fs}
 			}
 			return nil, usageError{fmt.Sprintf("%s: %v", fs.Name(), err)}
 		}

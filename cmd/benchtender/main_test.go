@@ -156,6 +156,7 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	if err != nil || !strings.Contains(string(jl), `"name":"Ada Tech"`) {
 		t.Errorf("JSON log: %v\n%s", err, jl)
 	}
+	checkLogs(t, logs.String(), string(jl))
 	st, _ := runBin(t, bin, "status", "--config", cfgPath)
 	if !strings.Contains(st, "1 handoffs") {
 		t.Errorf("status:\n%s", st)
@@ -274,5 +275,27 @@ func TestParseCommand(t *testing.T) {
 	out, code = runBin(t, bin, "parse", "--config", "../../config.example.toml", bad)
 	if code != 1 || !strings.Contains(out, "yield_R0013.csv:5:7: not a number") || !strings.Contains(out, "would quarantine") {
 		t.Errorf("exit %d\n%s", code, out)
+	}
+}
+
+// checkLogs checks what issue 20 found in the logs: the terminal lines,
+// here written to a pipe, carry no colour codes; in the JSON lines every
+// key appears once (campaign was repeated), durations have a unit, file
+// names are not quoted twice.
+func checkLogs(t *testing.T, terminal, jsonLines string) {
+	t.Helper()
+	if strings.Contains(terminal, "\x1b[") {
+		t.Errorf("colour codes written to a pipe:\n%q", terminal[:min(300, len(terminal))])
+	}
+	for _, line := range strings.Split(strings.TrimSpace(jsonLines), "\n") {
+		if n := strings.Count(line, `"campaign":`); n != 1 {
+			t.Errorf("campaign %d times in %s", n, line)
+		}
+		if m := regexp.MustCompile(`"took":"?([^",}]*)`).FindStringSubmatch(line); m != nil && !regexp.MustCompile(`^[0-9.]+(ns|µs|ms|s|m|h)`).MatchString(m[1]) {
+			t.Errorf("took without a unit: %s", line)
+		}
+		if strings.Contains(line, `"file":"\"`) {
+			t.Errorf("file name quoted twice: %s", line)
+		}
 	}
 }

@@ -20,6 +20,10 @@ type FitOptions struct {
 	Starts int
 	// Warm, when not nil, is tried first: usually the previous fit.
 	Warm *Params
+	// WarmOnly, with a usable Warm, fits from the warm start alone (no
+	// default or random starts): one local optimisation instead of
+	// several, for a refit after one more run.
+	WarmOnly bool
 	// NoiseFloor is the smallest noise variance (standardised units)
 	// allowed; default 1e-6.
 	NoiseFloor float64
@@ -82,11 +86,14 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 	}
 
 	var starts [][]float64
-	if opt.Warm != nil && opt.Warm.valid(d) == nil {
+	warm := opt.Warm != nil && opt.Warm.valid(d) == nil
+	if warm {
 		starts = append(starts, obj.theta(*opt.Warm))
 	}
-	starts = append(starts, obj.theta(defaultParams(opt.Kernel, d)))
-	for i := 0; i < opt.Starts; i++ {
+	if !warm || !opt.WarmOnly {
+		starts = append(starts, obj.theta(defaultParams(opt.Kernel, d)))
+	}
+	for i := 0; i < opt.Starts && !(warm && opt.WarmOnly); i++ {
 		if opt.Rand == nil {
 			panic("gp: FitOptions.Rand is nil but Starts > 0")
 		}

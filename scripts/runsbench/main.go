@@ -1,34 +1,33 @@
 // Command runsbench counts how many runs the planner needs to reach the
-// optimum of published test functions (planner/testfn): closed-loop
-// campaigns over many seeds, each stopped when the best value found is
-// within 1% relative error of the known minimum, |best − min|/|min| < 0.01,
-// with the initial design counted. Random search is the baseline. With
-// -noise, every observation carries Gaussian noise of 1% of the function's
-// range and a campaign counts as done when the true value at one of its
-// runs is within 1%.
+// optimum of the published test problems of planner/testfn.Suite:
+// closed-loop campaigns, one per problem and seed, each stopped when the
+// true value of a run comes within the problem's tolerance of the known
+// minimum (1% of |minimum|; see the suite), with the initial design
+// counted, or when the problem's budget is used up. Random search and a
+// Latin hypercube of the budget's size, in random order, are the
+// baselines, over the same seeds.
 //
-//	go run ./scripts/runsbench                 # every function, 30 seeds
-//	go run ./scripts/runsbench -noise -seeds 10 -only branin
-//	go run ./scripts/runsbench -noise -warp=false -only forrester,branin
-//	go run ./scripts/runsbench -noise -known-noise   # noise_sd given
-//	go run ./scripts/runsbench -only "hartmann 6-D" -parallel 2
-//	go run ./scripts/runsbench -acquisition confidence_bound -beta 1 -seed-list 1001,1002
-//	go run ./scripts/runsbench -shortlist 0   # plain expected improvement
+//	go run ./scripts/runsbench -set tuning            # decide on this set
+//	go run ./scripts/runsbench -set validation        # then confirm on this one
+//	go run ./scripts/runsbench -only branin,"levy 4 rotated" -seeds 10
+//	go run ./scripts/runsbench -strategy expected_improvement -csv runs.csv
 //
-// Function names are those of planner/testfn (forrester, branin,
-// six-hump camel, hartmann 6-D).
+// Campaigns run in parallel (-parallel, every core by default) with a
+// progress line on stderr; the table (Markdown) goes to stdout, and with
+// -csv every campaign's count to a file, so that two settings can be
+// compared seed by seed (scripts/runsdiff).
 package main
 
 import (
 	"context"
 	"flag"
 	"fmt"
+	"io"
 	"math"
 	"math/rand/v2"
 	"os"
 	"runtime"
 	"sort"
-	"strconv"
 	"strings"
 	"sync"
 	"time"
@@ -40,164 +39,297 @@ import (
 )
 
 func main() {
-	seeds := flag.Int("seeds", 30, "campaigns per function")
-	noise := flag.Bool("noise", false, "add Gaussian noise of 1% of the function's range")
-	only := flag.String("only", "", "comma-separated function names (default: all)")
-	acq := flag.String("acquisition", planner.AcqExpectedImprovement, "acquisition function")
-	beta := flag.Float64("beta", planner.Default().Beta, "exploration weight of the confidence bound")
-	shortlist := flag.Float64("shortlist", planner.Default().Shortlist, "expected improvement's shortlist share (0: plain expected improvement)")
-	warp := flag.Bool("warp", true, "the planner's output warping")
-	aside := flag.Bool("set-aside", planner.Default().SetAside, "set a stalled basin aside")
-	known := flag.Bool("known-noise", false, "with -noise, tell the planner the noise (noise_sd), as the README advises for noisy instruments")
-	kernel := flag.String("kernel", planner.Default().Kernel, "kernel of the Gaussian process")
-	cands := flag.Int("candidates", planner.Default().Candidates, "space-filling points scored before refinement")
-	refine := flag.Int("refine", planner.Default().Refine, "best candidates refined by local search")
-	starts := flag.Int("fit-starts", planner.Default().FitStarts, "random starts of the hyperparameter fit")
-	initial := flag.Int("initial", 0, "initial design size (0: the campaign default, d+2 and at least 4)")
-	seedList := flag.String("seed-list", "", "comma-separated seeds to run instead of 1..seeds (to study particular campaigns)")
-	parallel := flag.Int("parallel", runtime.GOMAXPROCS(0), "campaigns run at once")
-	flag.Parse()
-	var seedNums []uint64
-	for s := 1; s <= *seeds; s++ {
-		seedNums = append(seedNums, uint64(s))
+	if err := run(os.Args[1:], os.Stdout, os.Stderr); err != nil {
+		fmt.Fprintln(os.Stderr, "runsbench:", err)
+		os.Exit(1)
 	}
-	if *seedList != "" {
-		seedNums = seedNums[:0]
-		for _, f := range strings.Split(*seedList, ",") {
-			n, err := strconv.ParseUint(strings.TrimSpace(f), 10, 64)
-			if err != nil {
-				fmt.Fprintf(os.Stderr, "runsbench: -seed-list: %v\n", err)
-				os.Exit(2)
+}
+
+// job is one campaign to run.
+type job struct {
+	prob testfn.Problem
+	seed uint64
+}
+
+// outcome is what one campaign gave.
+type outcome struct {
+	runs    int
+	reached bool
+	took    time.Duration
+	// stopped is the number of runs after which the stopping rule fired
+	// (0: it did not), with -stop.
+	stopped int
+}
+
+func run(args []string, stdout, stderr io.Writer) error {
+	fs := flag.NewFlagSet("runsbench", flag.ContinueOnError)
+	def := planner.Default()
+	seeds := fs.Int("seeds", 30, "campaigns per problem (seeds first-seed ... first-seed+seeds-1)")
+	first := fs.Uint64("first-seed", 1, "first seed")
+	set := fs.String("set", "all", "tuning, validation or all")
+	only := fs.String("only", "", "comma-separated problem names (default: every problem of the set)")
+	maxFactors := fs.Int("max-factors", 10, "leave out problems with more factors (trid 10 takes minutes a campaign)")
+	stopRule := fs.Bool("stop", false, "turn the stopping rule on (location tolerance 5% of each factor's range, ei_below a tenth of the problem's tolerance) and run each campaign until it fires or the budget is spent")
+	parallel := fs.Int("parallel", runtime.GOMAXPROCS(0), "campaigns run at once")
+	csvPath := fs.String("csv", "", "write every campaign's result to this CSV file")
+	strategy := fs.String("acquisition", def.Acquisition, "proposal strategy")
+	warp := fs.Bool("warp", def.Warp, "the planner's output warping")
+	kernel := fs.String("kernel", def.Kernel, "kernel of the Gaussian process")
+	beta := fs.Float64("beta", def.Beta, "exploration weight of the confidence bound")
+	every := fs.Int("thompson-every", def.ThompsonEvery, "with the portfolio, one run in this many is a Thompson draw")
+	shortlist := fs.Float64("shortlist", def.Shortlist, "expected improvement's shortlist share (0: plain)")
+	aside := fs.Bool("set-aside", def.SetAside, "set a stalled basin aside")
+	refit := fs.Int("refit-every", def.RefitEvery, "fit the hyperparameters from every start every this many runs, from the previous fit between")
+	if err := fs.Parse(args); err != nil {
+		return err
+	}
+	cfg := def
+	cfg.Acquisition, cfg.Warp, cfg.Kernel, cfg.Beta, cfg.ThompsonEvery = *strategy, *warp, *kernel, *beta, *every
+	cfg.Shortlist, cfg.SetAside, cfg.RefitEvery = *shortlist, *aside, *refit
+	if err := cfg.Validate().Err(); err != nil {
+		return err
+	}
+	var probs []testfn.Problem
+	for _, p := range testfn.Suite() {
+		if (*set == "all" || p.Set == *set) && (*only == "" || strings.Contains(","+*only+",", ","+p.Name+",")) && p.Space.Dim() <= *maxFactors {
+			probs = append(probs, p)
+		}
+	}
+	if len(probs) == 0 {
+		return fmt.Errorf("no problem matches -set %q -only %q", *set, *only)
+	}
+	var jobs []job
+	for _, p := range probs {
+		for s := 0; s < *seeds; s++ {
+			jobs = append(jobs, job{p, *first + uint64(s)})
+		}
+	}
+	// The slowest problems first, so that the parallel tail is short.
+	sort.SliceStable(jobs, func(a, b int) bool {
+		return jobs[a].prob.Budget*jobs[a].prob.Space.Dim() > jobs[b].prob.Budget*jobs[b].prob.Space.Dim()
+	})
+	results := make([]outcome, len(jobs))
+	start := time.Now()
+	var mu sync.Mutex
+	done := 0
+	var wg sync.WaitGroup
+	next := make(chan int)
+	for w := 0; w < max(1, *parallel); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				t0 := time.Now()
+				n, ok, stop := campaignRuns(jobs[i].prob, jobs[i].seed, cfg, *stopRule)
+				results[i] = outcome{n, ok, time.Since(t0), stop}
+				mu.Lock()
+				done++
+				el := time.Since(start)
+				eta := time.Duration(float64(el) / float64(done) * float64(len(jobs)-done))
+				fmt.Fprintf(stderr, "\r%d/%d campaigns, %s elapsed, about %s left   ", done, len(jobs), el.Round(time.Second), eta.Round(time.Second))
+				mu.Unlock()
 			}
-			seedNums = append(seedNums, n)
+		}()
+	}
+	for i := range jobs {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	fmt.Fprintln(stderr)
+
+	if *csvPath != "" {
+		if err := writeCSV(*csvPath, jobs, results); err != nil {
+			return err
 		}
 	}
-	nSeeds := len(seedNums)
-	cfg := planner.Default()
-	cfg.Acquisition, cfg.Beta, cfg.Shortlist, cfg.Warp, cfg.SetAside, cfg.Kernel = *acq, *beta, *shortlist, *warp, *aside, *kernel
-	cfg.Candidates, cfg.Refine, cfg.FitStarts = *cands, *refine, *starts
-	fmt.Printf("runs to reach 1%% of the known minimum; %d seeds; noise %v (known to the planner: %v); acquisition %s (beta %g, shortlist %g); kernel %s; warp %v; set aside %v; initial %d (0: default)\n\n", nSeeds, *noise, *known, *acq, *beta, *shortlist, *kernel, *warp, *aside, *initial)
-	fmt.Println("| function | budget | planner mean | sd | median | min-max | reached | random search mean | time per campaign |")
-	fmt.Println("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
-	for _, f := range testfn.All() {
-		if *only != "" && !strings.Contains(","+*only+",", ","+f.Name+",") {
-			continue
-		}
-		budget := map[int]int{1: 40, 2: 60, 6: 200}[f.Space.Dim()]
-		rangeF := span(f)
-		counts := make([]float64, nSeeds)
-		hit := make([]bool, nSeeds)
-		start := time.Now()
-		var wg sync.WaitGroup
-		sem := make(chan struct{}, max(1, *parallel))
-		for i, s := range seedNums {
-			wg.Add(1)
-			sem <- struct{}{}
-			go func() {
-				defer func() { <-sem; wg.Done() }()
-				c := cfg
-				if *noise && *known {
-					c.NoiseSD = 0.01 * rangeF
-				}
-				n, ok := campaignRuns(f, s, budget, *noise, rangeF, c, *initial)
-				counts[i], hit[i] = float64(n), ok
-				fmt.Fprintf(os.Stderr, "%s seed %d: %d runs (reached %v)\n", f.Name, s, n, ok)
-			}()
-		}
-		wg.Wait()
+	fmt.Fprintf(stdout, "Runs to reach the optimum (within the tolerance), seeds %d-%d; acquisition %s (Thompson every %d), shortlist %g, set aside %v, warp %v, kernel %s, refit every %d; %s.\n\n",
+		*first, *first+uint64(*seeds)-1, cfg.Acquisition, cfg.ThompsonEvery, cfg.Shortlist, cfg.SetAside, cfg.Warp, cfg.Kernel, cfg.RefitEvery, time.Since(start).Round(time.Second))
+	fmt.Fprintln(stdout, "| set | problem | factors | budget | mean | median | p90 | reached | random search: mean, reached | Latin hypercube: mean, reached | s per campaign |")
+	fmt.Fprintln(stdout, "| --- | --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
+	for _, p := range probs {
+		var counts []float64
 		reached := 0
-		for _, ok := range hit {
-			if ok {
-				reached++
+		var took time.Duration
+		var seedsOf []uint64
+		for i, j := range jobs {
+			if j.prob.Name == p.Name {
+				counts = append(counts, float64(results[i].runs))
+				took += results[i].took
+				seedsOf = append(seedsOf, j.seed)
+				if results[i].reached {
+					reached++
+				}
 			}
 		}
-		// Wall time per campaign, with -parallel campaigns at once.
-		per := time.Since(start) / time.Duration(nSeeds)
-		var rs []float64
-		for s := 1; s <= 200; s++ {
-			rs = append(rs, float64(randomRuns(f, uint64(s), 1_000_000, *noise, rangeF)))
-		}
-		mean, sd := meanSD(counts)
+		rMean, rHit := baseline(p, seedsOf, randomOrder)
+		lMean, lHit := baseline(p, seedsOf, latinOrder)
 		sort.Float64s(counts)
-		rmean, _ := meanSD(rs)
-		fmt.Printf("| %s | %d | %.1f | %.1f | %.0f | %.0f-%.0f | %d/%d | %.0f | %.1f s |\n", f.Name, budget, mean, sd, counts[len(counts)/2], counts[0], counts[len(counts)-1], reached, nSeeds, rmean, per.Seconds())
+		fmt.Fprintf(stdout, "| %s | %s | %d | %d | %.1f | %.0f | %.0f | %d/%d | %.1f, %d/%d | %.1f, %d/%d | %.1f |\n",
+			p.Set, p.Name, p.Space.Dim(), p.Budget, mean(counts), quantile(counts, 0.5), quantile(counts, 0.9), reached, len(counts),
+			rMean, rHit, len(counts), lMean, lHit, len(counts), took.Seconds()/float64(len(counts)))
 	}
-	fmt.Println("\nA campaign that does not reach 1% within its budget counts as the budget.")
+	fmt.Fprintln(stdout, "\nA campaign that does not reach the optimum within its budget counts as the budget in the mean; p90 is the 90th percentile.")
+	if *stopRule {
+		stopTable(stdout, probs, jobs, results)
+	}
+	return nil
 }
 
-func reachedMin(f testfn.Function, v float64) bool {
-	return math.Abs(v-f.Min)/math.Abs(f.Min) < 0.01
+// stopTable says, per problem, how often the stopping rule fired, how
+// often before the optimum was reached (too early), and how many runs
+// after reaching it (median).
+func stopTable(stdout io.Writer, probs []testfn.Problem, jobs []job, results []outcome) {
+	fmt.Fprintln(stdout, "\nStopping rule (location 5% of each range, ei_below a tenth of the tolerance):")
+	fmt.Fprintln(stdout, "\n| problem | fired | before the optimum was reached | runs after reaching, median | never fired |")
+	fmt.Fprintln(stdout, "| --- | ---: | ---: | ---: | ---: |")
+	for _, p := range probs {
+		var fired, early, never int
+		var after []float64
+		for i, j := range jobs {
+			if j.prob.Name != p.Name {
+				continue
+			}
+			r := results[i]
+			switch {
+			case r.stopped == 0:
+				never++
+			case !r.reached || r.stopped < r.runs:
+				fired++
+				early++
+			default:
+				fired++
+				after = append(after, float64(r.stopped-r.runs))
+			}
+		}
+		med := "–"
+		if len(after) > 0 {
+			sort.Float64s(after)
+			med = fmt.Sprintf("%.0f", quantile(after, 0.5))
+		}
+		fmt.Fprintf(stdout, "| %s | %d | %d | %s | %d |\n", p.Name, fired, early, med, never)
+	}
 }
 
-// campaignRuns runs one closed-loop campaign with the planner configured
-// by cfg and returns the number of evaluations until the 1% level was
-// reached (or the budget).
-func campaignRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64, cfg planner.Config, initial int) (int, bool) {
-	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: budget, Factors: f.Space,
-		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}, InitialRuns: initial}
+// campaignRuns runs one closed-loop campaign and returns the number of
+// runs until one came within the tolerance (or the budget). With stop, the
+// stopping rule is on and the campaign goes on until it fires (its run
+// count is returned last; 0 when it never fired).
+func campaignRuns(prob testfn.Problem, seed uint64, cfg planner.Config, stop bool) (int, bool, int) {
+	f := prob.Instance(seed)
+	if stop {
+		cfg.Stop = planner.StopConfig{Tolerance: map[string]float64{}, EIBelow: prob.Tol / 10}
+		for _, fa := range f.Space {
+			cfg.Stop.Tolerance[fa.Name] = 0.05 * (fa.Max - fa.Min)
+		}
+	}
+	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: prob.Budget, Factors: f.Space,
+		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
 	p := planner.New(cc, cfg)
-	noiseRNG := rand.New(rand.NewPCG(seed, 99))
+	noise := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
 	var warm *gp.Params
-	for i := 0; i < budget; i++ {
+	reachedAt := 0
+	for i := 0; i < prob.Budget; i++ {
 		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm})
 		if err != nil {
-			fmt.Fprintf(os.Stderr, "%s seed %d run %d: %v\n", f.Name, seed, i, err)
-			return budget, false
+			fmt.Fprintf(os.Stderr, "\n%s seed %d run %d: %v\n", prob.Name, seed, i, err)
+			return prob.Budget, false, 0
+		}
+		if res.Stop != "" {
+			if reachedAt == 0 {
+				return prob.Budget, false, i
+			}
+			return reachedAt, true, i
 		}
 		warm = res.Fit
 		truth := f.F(res.Proposal.Point)
 		obs := truth
-		if noisy {
-			obs += 0.01 * rangeF * noiseRNG.NormFloat64()
+		if prob.NoiseSD > 0 {
+			obs += prob.NoiseSD * noise.NormFloat64()
 		}
 		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: obs})
-		if reachedMin(f, truth) {
-			return i + 1, true
+		if prob.Reached(truth) && reachedAt == 0 {
+			reachedAt = i + 1
+			if !stop {
+				return reachedAt, true, 0
+			}
 		}
 	}
-	return budget, false
+	if reachedAt > 0 {
+		return reachedAt, true, 0
+	}
+	return prob.Budget, false, 0
 }
 
-// randomRuns draws uniform points until one reaches the 1% level.
-func randomRuns(f testfn.Function, seed uint64, budget int, noisy bool, rangeF float64) int {
-	rng := rand.New(rand.NewPCG(seed, 7))
-	x := make([]float64, f.Space.Dim())
-	for i := 0; i < budget; i++ {
-		for k, fa := range f.Space {
-			x[k] = fa.Min + rng.Float64()*(fa.Max-fa.Min)
-		}
-		if reachedMin(f, f.F(x)) {
-			return i + 1
+// An order is a baseline's sequence of points for one seed.
+type order func(f testfn.Function, budget int, rng *rand.Rand) [][]float64
+
+// randomOrder is uniform random search.
+func randomOrder(f testfn.Function, budget int, rng *rand.Rand) [][]float64 {
+	pts := make([][]float64, budget)
+	for i := range pts {
+		pts[i] = make([]float64, f.Space.Dim())
+		for k := range pts[i] {
+			pts[i][k] = rng.Float64()
 		}
 	}
-	return budget
+	return pts
 }
 
-// span is the function's range over its domain, from 100,000 random
-// points (for the noise level).
-func span(f testfn.Function) float64 {
-	rng := rand.New(rand.NewPCG(1, 1))
-	lo, hi := math.Inf(1), math.Inf(-1)
-	x := make([]float64, f.Space.Dim())
-	for i := 0; i < 100000; i++ {
-		for k, fa := range f.Space {
-			x[k] = fa.Min + rng.Float64()*(fa.Max-fa.Min)
-		}
-		v := f.F(x)
-		lo, hi = math.Min(lo, v), math.Max(hi, v)
+// latinOrder is a Latin hypercube of the budget's size, run in random
+// order.
+func latinOrder(f testfn.Function, budget int, rng *rand.Rand) [][]float64 {
+	pts := planner.LatinHypercube(budget, f.Space.Dim(), rng)
+	out := make([][]float64, len(pts))
+	for i, j := range rng.Perm(len(pts)) {
+		out[i] = pts[j]
 	}
-	return hi - lo
+	return out
 }
 
-func meanSD(v []float64) (float64, float64) {
-	var s, ss float64
+// baseline returns a baseline's mean runs (a failure counts as the
+// budget) and how many seeds reached the optimum.
+func baseline(p testfn.Problem, seeds []uint64, o order) (float64, int) {
+	var sum float64
+	hit := 0
+	for _, s := range seeds {
+		f := p.Instance(s)
+		rng := rand.New(rand.NewPCG(s, 7))
+		n := p.Budget
+		for i, u := range o(f, p.Budget, rng) {
+			x := f.Space.Snap(f.Space.FromUnit(nil, u))
+			if p.Reached(f.F(x)) {
+				n = i + 1
+				hit++
+				break
+			}
+		}
+		sum += float64(n)
+	}
+	return sum / float64(len(seeds)), hit
+}
+
+func writeCSV(path string, jobs []job, results []outcome) error {
+	var b strings.Builder
+	b.WriteString("problem,seed,runs,reached,seconds\n")
+	for i, j := range jobs {
+		fmt.Fprintf(&b, "%q,%d,%d,%v,%.2f\n", j.prob.Name, j.seed, results[i].runs, results[i].reached, results[i].took.Seconds())
+	}
+	return os.WriteFile(path, []byte(b.String()), 0o644)
+}
+
+func mean(v []float64) float64 {
+	var s float64
 	for _, x := range v {
 		s += x
 	}
-	m := s / float64(len(v))
-	for _, x := range v {
-		ss += (x - m) * (x - m)
-	}
-	return m, math.Sqrt(ss / float64(len(v)-1))
+	return s / float64(len(v))
+}
+
+// quantile is the empirical quantile of sorted values (the smallest value
+// with at least q of the values at or below it).
+func quantile(sorted []float64, q float64) float64 {
+	i := int(math.Ceil(q*float64(len(sorted)))) - 1
+	return sorted[min(max(i, 0), len(sorted)-1)]
 }

@@ -1,0 +1,60 @@
+package agent
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+)
+
+// An export folder that cannot be read (misspelt, a share not mounted)
+// holds handoffs: the instrument's results could never be seen. The move
+// is proposed and kept; once the folder appears, it is handed off. Before
+// (issue 20), setpoints went out to an instrument whose results the daemon
+// could not see.
+func TestLostExportFolderHoldsHandoffs(t *testing.T) {
+	tc := newTestCampaign(t, "5", passLimits)
+	exports := filepath.Join(tc.dir, "exports")
+	if err := os.Remove(exports); err != nil {
+		t.Fatal(err)
+	}
+	if ps := tc.cfg.FolderProblems(); len(ps) != 1 || !strings.Contains(ps[0], "export folder") || !strings.Contains(ps[0], "holds handoffs") {
+		t.Errorf("check's folder problems: %q", ps)
+	}
+	events, stop := tc.start(t)
+	defer stop()
+	waitFor(t, events, "the first proposal", kind(KindProposal))
+	// A window in which a handoff would show if the hold did not work.
+	quiet := time.After(1500 * time.Millisecond)
+	for done := false; !done; {
+		select {
+		case e := <-events:
+			if e.Kind == KindHandoff || e.Kind == KindHandoffOK {
+				t.Fatalf("handed off %s while the export folder is missing", e.Run)
+			}
+		case <-quiet:
+			done = true
+		}
+	}
+	if ns := Notices(tc.cfg); len(ns) == 0 || !strings.Contains(strings.Join(ns, "\n"), "handoffs to instrument bench are held") {
+		t.Errorf("status notices: %q", ns)
+	}
+	if err := os.Mkdir(exports, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	waitFor(t, events, "the handoff once the folder is back", kind(KindHandoffOK))
+}
+
+// check's folder warnings: none for a campaign whose folders exist and
+// can be used; a handoff folder that does not exist is named.
+func TestFolderProblems(t *testing.T) {
+	tc := newTestCampaign(t, "5", passLimits)
+	if ps := tc.cfg.FolderProblems(); len(ps) != 0 {
+		t.Errorf("folders in place: %q", ps)
+	}
+	os.Remove(filepath.Join(tc.dir, "handoff"))
+	if ps := tc.cfg.FolderProblems(); len(ps) != 1 || !strings.Contains(ps[0], "handoff folder") {
+		t.Errorf("handoff folder missing: %q", ps)
+	}
+}

@@ -1,0 +1,174 @@
+package planner
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strings"
+
+	"benchtender/campaign"
+)
+
+// The stopping rule.
+//
+// A campaign may stop before its budget when two tests both pass:
+//
+//   - improvement: the largest expected improvement anywhere, in the
+//     response's unit, is below stop.ei_below: no run is expected to gain
+//     more than that;
+//   - location: for every factor, the 90% credible box of the optimum's
+//     location (from posterior draws, optimum.go) is no wider than that
+//     factor's stop.tolerance.
+//
+// The location test needs posterior draws and their minimisers, the
+// dearest part. It is worked out only once the improvement test passes,
+// and then on a finite candidate set (locationBox): joint posterior
+// samples at a few hundred points, space-filling ones plus points close
+// around the best runs, each sample's minimiser taken among them (the
+// discrete approximation of the minimiser's distribution used by entropy
+// search, Hennig and Schuler 2012, "Entropy search for
+// information-efficient global optimization", JMLR 13, section 2.2). One
+// factorisation of the candidates' joint covariance serves every sample,
+// where pathwise draws (the report's) cost a search per draw;
+// BenchmarkProposeStopping measures what is left. Each test is reported
+// with its value and threshold whether or not it passed, so status can
+// say which one keeps the campaign going.
+
+// StopTest is one test of the stopping rule.
+type StopTest struct {
+	// Name says what is tested: "expected improvement" or "optimum's
+	// location along <factor>".
+	Name string
+	// Value and Threshold are in the response's unit (improvement) or the
+	// factor's (location); the test passes when Value ≤ Threshold.
+	Value, Threshold float64
+	Unit             string
+	// Done is false when the test was not worked out (the location tests
+	// wait for the improvement test).
+	Done, Passed bool
+}
+
+// String says the test in a few words, e.g. "expected improvement 0.012
+// of at most 0.01 %: not met".
+func (t StopTest) String() string {
+	if !t.Done {
+		return fmt.Sprintf("%s: not worked out (waits for the expected improvement)", t.Name)
+	}
+	verdict := "met"
+	if !t.Passed {
+		verdict = "not met"
+	}
+	return strings.TrimSpace(fmt.Sprintf("%s %.3g of at most %.3g %s", t.Name, t.Value, t.Threshold, t.Unit)) + ": " + verdict
+}
+
+// Stopping is the stopping rule's verdict on one proposal.
+type Stopping struct {
+	Tests []StopTest
+	// Stop is true when every test passed.
+	Stop bool
+}
+
+// String lists every test, separated by semicolons.
+func (s *Stopping) String() string {
+	if s == nil {
+		return ""
+	}
+	parts := make([]string, len(s.Tests))
+	for i, t := range s.Tests {
+		parts[i] = t.String()
+	}
+	return strings.Join(parts, "; ")
+}
+
+// stopping applies the rule to f, the model of every run, given the
+// largest expected improvement in the response's unit. It returns nil
+// when no tolerance is configured (the rule is off), and the optimum's
+// distribution when it was worked out.
+func (p *Planner) stopping(ctx context.Context, f *Fitted, ei float64, rng *rand.Rand) (*Stopping, *Optimum, error) {
+	c := p.cfg.Stop
+	if len(c.Tolerance) == 0 {
+		return nil, nil, nil
+	}
+	imp := StopTest{Name: "expected improvement", Value: ei, Threshold: c.EIBelow, Unit: p.resp.Unit, Done: true, Passed: ei <= c.EIBelow}
+	s := &Stopping{Tests: []StopTest{imp}}
+	for _, fa := range p.space {
+		s.Tests = append(s.Tests, StopTest{Name: "optimum's location along " + fa.Name, Threshold: c.Tolerance[fa.Name], Unit: fa.Unit})
+	}
+	if !imp.Passed {
+		return s, nil, nil
+	}
+	box, err := p.locationBox(f, p.cfg.Samples, rng)
+	if err != nil {
+		return nil, nil, fmt.Errorf("planner: stopping rule: %w", err)
+	}
+	s.Stop = true
+	for k := range p.space {
+		t := &s.Tests[k+1]
+		t.Value, t.Done = box[k][1]-box[k][0], true
+		t.Passed = t.Value <= t.Threshold
+		s.Stop = s.Stop && t.Passed
+	}
+	if !s.Stop {
+		return s, nil, nil
+	}
+	// Stopping: the full distribution goes with the reason.
+	o, err := p.OptimumOf(ctx, f, p.cfg.Samples, rng)
+	if err != nil {
+		return nil, nil, fmt.Errorf("planner: optimum distribution: %w", err)
+	}
+	return s, o, nil
+}
+
+// locationBox returns the 90% credible box of the optimum's location, in
+// factor units, from samples joint posterior draws at a candidate set:
+// min(64, 16·d) points of a Latin hypercube, the runs, and 10 points
+// around each of the three best runs at each of two scales (2% and 6% of
+// the range), snapped to valid, feasible setpoints.
+func (p *Planner) locationBox(f *Fitted, samples int, rng *rand.Rand) ([][2]float64, error) {
+	d := p.space.Dim()
+	var cands []campaign.Point
+	add := func(u campaign.Point) {
+		if u = p.snapUnit(u); p.feasibleUnit(u) {
+			cands = append(cands, u)
+		}
+	}
+	for _, u := range LatinHypercube(min(64, 16*d), d, rng) {
+		add(u)
+	}
+	for _, u := range f.x {
+		add(u)
+	}
+	for _, sigma := range []float64{0.02, 0.06} {
+		for _, a := range byValue(f.x, f.y)[:min(3, len(f.x))] {
+			for j := 0; j < 10; j++ {
+				c := make(campaign.Point, d)
+				for k := range c {
+					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
+				}
+				add(c)
+			}
+		}
+	}
+	xs := make([][]float64, len(cands))
+	for i, u := range cands {
+		xs[i] = p.encode(u)
+	}
+	draws, _, err := f.Model.Sample(xs, samples, rng)
+	if err != nil {
+		return nil, err
+	}
+	mins := make([]campaign.Point, samples)
+	for s := range mins {
+		row := draws.RawRowView(s)
+		best := 0
+		for i, v := range row {
+			if v < row[best] {
+				best = i
+			}
+		}
+		mins[s] = p.space.FromUnit(nil, cands[best])
+	}
+	box, _ := credibleBox(mins, 0.9)
+	return box, nil
+}
