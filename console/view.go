@@ -36,15 +36,15 @@ type View struct {
 	// StopTests is the stopping rule's verdict at the latest proposal,
 	// each test with its value and threshold (empty when the rule is off
 	// or proposals have stopped).
-	StopTests string
-	Best               *RunRow
-	Runs               []RunRow
-	Held               []HeldRow
-	Instruments        []Instrument
-	Model              *Model
-	ModelNote          string // why there is no model yet
-	Optimum            *Optimum
-	Figures            []plots.Figure
+	StopTests   string
+	Best        *RunRow
+	Runs        []RunRow
+	Held        []HeldRow
+	Instruments []Instrument
+	Model       *Model
+	ModelNote   string // why there is no model yet
+	Optimum     *Optimum
+	Figures     []plots.Figure
 	// PairX, PairY index the factors of the 2-D optimum plot (-1: none).
 	PairX, PairY int
 	Audit        []agent.AuditEntry // newest first
