@@ -93,6 +93,7 @@ type Agent struct {
 
 	folderLost map[string]bool        // export folders lost, as last reported
 	lostSaid   bool                   // the hold for lost export folders is logged
+	occupied   map[string]bool        // handoff files found in place unrecorded, as logged
 	watchState map[string]WatchStatus // by export folder, as written to watch.json
 
 	refusals   int       // consecutive gate refusals
@@ -133,7 +134,7 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		ps = append(ps, p)
 	}
 	a := &Agent{
-		cfg: cfg, opt: opt, parsers: ps, folderLost: map[string]bool{}, watchState: map[string]WatchStatus{},
+		cfg: cfg, opt: opt, parsers: ps, folderLost: map[string]bool{}, occupied: map[string]bool{}, watchState: map[string]WatchStatus{},
 		log:        opt.Logger.With().Str("component", "agent").Logger(),
 		planner:    planner.New(cfg.Campaign, cfg.Planner),
 		incomplete: map[string]waiting{},
@@ -738,6 +739,21 @@ func (a *Agent) handoffReady() error {
 		}
 		name := handoffName(r.ID, ic.HandoffFormat)
 		path := filepath.Join(ic.HandoffDir, name)
+		if _, err := os.Lstat(path); err == nil {
+			// A setpoint file for this run is already there, and the
+			// journal does not say it was handed off: it may have been
+			// (a journal restored from an older backup), so it is not
+			// overwritten or sent again; a person must look.
+			if !a.occupied[path] {
+				a.occupied[path] = true
+				a.log.Error().Str("run", r.ID).Str("file", path).Msg("not handed off: a setpoint file for this run is already in the handoff folder, though the journal has no handoff of it; move it away once you know whether the instrument ran it")
+				if err := a.auditNote("handoff refused", r.ID, "a setpoint file for this run is already in the handoff folder ("+path+") and the journal has no handoff of it"); err != nil {
+					return err
+				}
+			}
+			continue
+		}
+		delete(a.occupied, path)
 		// Three steps, each durable before the next: the file is staged
 		// under a temp name with the action id it carries, the intent is
 		// journalled, the file is renamed into place. A crash between any
@@ -846,6 +862,19 @@ func (a *Agent) plan(ctx context.Context) error {
 		a.log.Info().Str("reason", res.Stop).Msg("stopping rule met; no more proposals")
 		return a.record(Entry{Kind: KindStop, Reason: res.Stop})
 	}
+	if na := res.NewAside; na != nil {
+		// Decided once: journalled before the proposal it shapes, and
+		// passed back with every later request, so it never changes.
+		runs := a.state.TrialRuns()
+		run := ""
+		if na.Run >= 0 && na.Run < len(runs) {
+			run = runs[na.Run].ID
+		}
+		a.log.Info().Str("centre_run", run).Str("reason", na.Reason).Msg("basin set aside; a new search starts outside it")
+		if err := a.record(Entry{Kind: KindSetAside, Run: run, Point: na.Centre, Aside: na, Reason: na.Reason}); err != nil {
+			return err
+		}
+	}
 	prop := res.Proposal
 	prop.Point = roundPoint(a.cfg.Campaign.Factors, prop.Point)
 	if v := a.planner.Violated(prop.Point); v != "" {
@@ -899,6 +928,7 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64) (re
 	res, err = a.proposer.Propose(ctx, planner.Request{
 		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Pending: a.state.Pending(),
 		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm, Region: region,
+		Aside: a.state.Asides,
 	})
 	if err == nil && (res.Proposal.RunID != id || !res.Proposal.Point.Finite() || len(res.Proposal.Point) != a.cfg.Campaign.Factors.Dim()) {
 		err = fmt.Errorf("planner returned an unusable proposal %+v", res.Proposal)

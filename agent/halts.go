@@ -9,7 +9,6 @@ import (
 	"strings"
 	"time"
 
-	"benchtender/planner"
 )
 
 // Halts says, in words for the morning's reader, what stops handoffs now:
@@ -102,23 +101,25 @@ func Notices(cfg Config) []string {
 }
 
 // SetAsideNote says, in a line for status and the console, which runs'
-// basins the planner has set aside after progress stalled there and which
-// run began the search outside them; empty when none is (d from
-// planner.Diagnose over st.Trials()).
-func SetAsideNote(st *State, d planner.Diagnostics) string {
-	runs := st.TrialRuns()
-	if len(d.SetAside) == 0 || len(runs) != d.Runs {
+// basins the planner has set aside after progress stalled there, why, and
+// how many runs the search outside them has made; empty when none is.
+func SetAsideNote(st *State) string {
+	if len(st.Asides) == 0 {
 		return ""
 	}
-	var ids []string
-	for _, i := range d.SetAside {
-		ids = append(ids, runs[i].ID)
+	var parts []string
+	for i, a := range st.Asides {
+		parts = append(parts, fmt.Sprintf("%s (%s)", orUnknown(st.AsideRuns[i]), a.Reason))
 	}
-	next := "the next run"
-	if d.SearchFrom < len(runs) {
-		next = runs[d.SearchFrom].ID
+	return fmt.Sprintf("set aside after no progress, for good: the basins of %s; the search outside them has %d completed runs",
+		strings.Join(parts, "; "), max(0, len(st.Trials())-st.Asides[len(st.Asides)-1].From))
+}
+
+func orUnknown(s string) string {
+	if s == "" {
+		return "an unknown run"
 	}
-	return fmt.Sprintf("set aside after no progress: the basins of %s; the search outside them began with %s", strings.Join(ids, ", "), next)
+	return s
 }
 
 func instrumentLabel(name string) string {

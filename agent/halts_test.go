@@ -2,7 +2,6 @@ package agent
 
 import (
 	"fmt"
-	"strings"
 	"testing"
 
 	"benchtender/campaign"
@@ -10,6 +9,9 @@ import (
 	"benchtender/safety"
 )
 
+// Regions set aside are journalled once and replayed as they were: the
+// state holds them in order with their centre runs, and the note names
+// each with its reason and counts the new search's runs.
 func TestSetAsideNote(t *testing.T) {
 	pass := safety.Decision{Verdict: safety.Pass}
 	var es []Entry
@@ -17,21 +19,19 @@ func TestSetAsideNote(t *testing.T) {
 		run := fmt.Sprintf("R%04d", i)
 		es = append(es, Entry{Kind: KindProposal, Run: run, Point: campaign.Point{float64(i), 2}, Method: "test", Decision: &pass},
 			Entry{Kind: KindIngest, Run: run, File: run + ".csv", SHA256: run, Value: float64(i)})
+		if i == 4 {
+			es = append(es, Entry{Kind: KindSetAside, Run: "R0002", Aside: &planner.Aside{Run: 1, Centre: campaign.Point{2, 2}, Scales: []float64{0.1, 0.1}, From: 4, Reason: "15 runs without progress since run 2, the best of its search"}})
+		}
 	}
 	st := Replay(es)
-	d := planner.Diagnostics{Runs: 6, SetAside: []int{1, 3}, SearchFrom: 4}
-	want := "set aside after no progress: the basins of R0002, R0004; the search outside them began with R0005"
-	if got := SetAsideNote(st, d); got != want {
+	if len(st.Asides) != 1 || st.Asides[0].From != 4 || st.AsideRuns[0] != "R0002" {
+		t.Fatalf("replayed regions %+v, runs %v", st.Asides, st.AsideRuns)
+	}
+	want := "set aside after no progress, for good: the basins of R0002 (15 runs without progress since run 2, the best of its search); the search outside them has 2 completed runs"
+	if got := SetAsideNote(st); got != want {
 		t.Errorf("note %q, want %q", got, want)
 	}
-	d.SearchFrom = 6
-	if got := SetAsideNote(st, d); !strings.HasSuffix(got, "began with the next run") {
-		t.Errorf("a search whose first run is still to come: %q", got)
-	}
-	if got := SetAsideNote(st, planner.Diagnostics{Runs: 6}); got != "" {
+	if got := SetAsideNote(Replay(es[:4])); got != "" {
 		t.Errorf("nothing set aside: %q", got)
-	}
-	if got := SetAsideNote(st, planner.Diagnostics{Runs: 5, SetAside: []int{1}}); got != "" {
-		t.Errorf("diagnostics of other runs: %q", got)
 	}
 }

@@ -10,9 +10,11 @@ import (
 	"io"
 	"os"
 	"strconv"
+	"strings"
 	"time"
 
 	"benchtender/campaign"
+	"benchtender/planner"
 	"benchtender/safety"
 )
 
@@ -32,6 +34,7 @@ const (
 	KindAllStop    = "all-stop"   // the all-stop file appeared: every handoff halted
 	KindResume     = "resume"     // a person cleared the all-stop
 	KindCorrection = "correction" // a person corrects an earlier audit entry
+	KindSetAside   = "set-aside"  // the planner set a stalled basin aside, for good
 )
 
 // Sign-off actions.
@@ -63,6 +66,9 @@ type Entry struct {
 	Method   string           `json:"method,omitempty"`
 	Score    float64          `json:"score,omitempty"`
 	Decision *safety.Decision `json:"decision,omitempty"`
+	// Aside is a region the planner set aside (set-aside): decided once,
+	// passed back to the planner with every later request.
+	Aside *planner.Aside `json:"aside,omitempty"`
 	// Stopping is the stopping rule's verdict at this proposal, each test
 	// with its value and threshold (empty when the rule is off).
 	Stopping string `json:"stopping,omitempty"`
@@ -107,8 +113,8 @@ var (
 	ErrNetworkFS = errors.New("state folder on a network file system")
 )
 
-// ErrCorrupt means a journal record other than the last is damaged: the
-// journal cannot be trusted and nothing may start on it.
+// ErrCorrupt means a complete journal record is damaged: the journal
+// cannot be trusted and nothing may start on it.
 var ErrCorrupt = errors.New("journal is corrupt")
 
 // encodeEntry renders one line: "<length> <crc32c as 8 hex digits> <json>\n".
@@ -150,9 +156,16 @@ func decodeLine(line []byte) (Entry, error) {
 	return e, nil
 }
 
-// readJournal reads every record. A damaged or incomplete last record (a
-// write torn by a crash) is reported through tornAt, the offset where the
-// good records end; damage anywhere before it is ErrCorrupt.
+// readJournal reads every record. A last line without its line end is a
+// write torn by a crash: Append writes the line end last and returns only
+// once the whole line is on disk. A part of a record is dropped (nothing
+// was done on the strength of it); a whole, valid record that lacks only
+// its line end is kept. Either is reported through torn, with goodLen the
+// offset where the kept records' bytes end. A line that has its line end but does
+// not decode (bad checksum, length or JSON) was written whole and damaged
+// afterwards: that, wherever it is, is ErrCorrupt naming the line. (Cutting
+// such a record as if torn once made a handoff the instrument had taken
+// look unsent, and it was sent again: issue 19.)
 func readJournal(path string) (entries []Entry, goodLen int64, torn bool, err error) {
 	f, err := os.Open(path)
 	if errors.Is(err, os.ErrNotExist) {
@@ -165,8 +178,6 @@ func readJournal(path string) (entries []Entry, goodLen int64, torn bool, err er
 	r := bufio.NewReaderSize(f, 1<<16)
 	var off int64
 	lineNo := 0
-	var pending error
-	pendingLine := 0
 	for {
 		line, rerr := r.ReadBytes('\n')
 		if len(line) == 0 && rerr == io.EOF {
@@ -176,29 +187,95 @@ func readJournal(path string) (entries []Entry, goodLen int64, torn bool, err er
 			return nil, 0, false, rerr
 		}
 		lineNo++
-		if pending != nil {
-			// A damaged record with more after it is not a torn tail.
-			return nil, 0, false, fmt.Errorf("%w: %s line %d: %v", ErrCorrupt, path, pendingLine, pending)
-		}
-		complete := line[len(line)-1] == '\n'
-		e, derr := decodeLine(bytes.TrimSuffix(line, []byte("\n")))
-		switch {
-		case derr == nil && complete:
-			entries = append(entries, e)
-			off += int64(len(line))
-		case !complete:
+		if line[len(line)-1] != '\n' {
+			// Only the last line can lack its line end. A whole, valid
+			// record that lacks only that (and perhaps has zero bytes
+			// after it) is kept: whether or not its Append returned,
+			// what it records is checked against the files at start
+			// (recoverHandoffs), and dropping it could forget a handoff
+			// that happened. goodLen then ends after it, and the caller
+			// writes the line end.
+			whole := bytes.TrimRight(line, "\x00")
+			if e, derr := decodeLine(whole); derr == nil {
+				return append(entries, e), off + int64(len(whole)), true, nil
+			}
+			// Otherwise torn, if what is there can be the start of a
+			// record.
+			if err := tornPrefix(line); err != nil {
+				return nil, 0, false, fmt.Errorf("%w: %s line %d (byte %d): the last line has no line end, yet is no torn record: %v; compare it with the audit trail (audit.log) and restore the journal from a backup", ErrCorrupt, path, lineNo, off, err)
+			}
 			return entries, off, true, nil
-		default:
-			pending, pendingLine = derr, lineNo
 		}
+		e, derr := decodeLine(bytes.TrimSuffix(line, []byte("\n")))
+		if derr != nil {
+			return nil, 0, false, fmt.Errorf("%w: %s line %d (byte %d): %v; the record was written whole and damaged since, so nothing is cut or repaired: compare it with the same entry in the audit trail (audit.log) and restore the journal from a backup", ErrCorrupt, path, lineNo, off, derr)
+		}
+		entries = append(entries, e)
+		off += int64(len(line))
 		if rerr == io.EOF {
 			break
 		}
 	}
-	if pending != nil {
-		return entries, off, true, nil
-	}
 	return entries, off, false, nil
+}
+
+// lastByte returns the byte of the file at path just before offset end
+// (0 when it cannot be read).
+func lastByte(path string, end int64) byte {
+	f, err := os.Open(path)
+	if err != nil {
+		return 0
+	}
+	defer f.Close()
+	b := make([]byte, 1)
+	if _, err := f.ReadAt(b, end-1); err != nil {
+		return 0
+	}
+	return b[0]
+}
+
+// tornPrefix returns nil when line (a last line, without its line end)
+// can be what a crash left of an Append: the start of "<length> <crc>
+// <json>", at most as long as the record, possibly followed by zero bytes
+// (some file systems extend a file before its data reach the disk). A
+// line longer than its record, or with other characters in its header,
+// is damage, not a torn write.
+func tornPrefix(line []byte) error {
+	line = bytes.TrimRight(line, "\x00")
+	sp1 := bytes.IndexByte(line, ' ')
+	digits := line
+	if sp1 >= 0 {
+		digits = line[:sp1]
+	}
+	for _, c := range digits {
+		if c < '0' || c > '9' {
+			return fmt.Errorf("%q is not a record length", digits)
+		}
+	}
+	if sp1 < 0 {
+		return nil
+	}
+	n, err := strconv.Atoi(string(digits))
+	if err != nil {
+		return fmt.Errorf("malformed length: %w", err)
+	}
+	rest := line[sp1+1:]
+	hexLen := min(len(rest), 8)
+	for _, c := range rest[:hexLen] {
+		if !strings.ContainsRune("0123456789abcdefABCDEF", rune(c)) {
+			return fmt.Errorf("%q is not a checksum", rest[:hexLen])
+		}
+	}
+	if len(rest) <= 8 {
+		return nil
+	}
+	if rest[8] != ' ' {
+		return errors.New("malformed record header")
+	}
+	if body := rest[9:]; len(body) > n {
+		return fmt.Errorf("%d bytes where the record declares %d", len(body), n)
+	}
+	return nil
 }
 
 // ReadJournal reads a journal without changing it, for commands that only
@@ -217,9 +294,10 @@ type Journal struct {
 }
 
 // OpenJournal opens (or creates) the journal at path and returns it with
-// the records it holds. A torn last record is cut off and reported through
-// truncated (the number of bytes removed); damage before the last record
-// is an error wrapping ErrCorrupt, and then nothing is changed.
+// the records it holds. A torn last record (no line end) is cut off and
+// reported through truncated (the number of bytes removed); a damaged
+// complete record, the last one included, is an error wrapping
+// ErrCorrupt, and then nothing is changed.
 func OpenJournal(path string) (*Journal, []Entry, int64, error) {
 	entries, good, torn, err := readJournal(path)
 	if err != nil {
@@ -239,6 +317,14 @@ func OpenJournal(path string) (*Journal, []Entry, int64, error) {
 	f, err := os.OpenFile(path, os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
 	if err != nil {
 		return nil, nil, 0, fmt.Errorf("open journal: %w", err)
+	}
+	if torn && good > 0 && lastByte(path, good) != '\n' {
+		// A whole last record without its line end: kept, and ended.
+		if _, err := f.Write([]byte{'\n'}); err != nil {
+			f.Close()
+			return nil, nil, 0, fmt.Errorf("open journal: end the last record: %w", err)
+		}
+		cut--
 	}
 	if err := f.Sync(); err != nil {
 		f.Close()

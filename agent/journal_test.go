@@ -45,7 +45,8 @@ func TestJournalRoundTrip(t *testing.T) {
 }
 
 // A record torn by a crash, cut at any byte of the last record, is cut off
-// on open and the records before it are kept.
+// on open and the records before it are kept; a record whole but for its
+// line end is kept and ended.
 func TestJournalTornTailAtEveryOffset(t *testing.T) {
 	dir := t.TempDir()
 	full := filepath.Join(dir, "full.log")
@@ -67,6 +68,13 @@ func TestJournalTornTailAtEveryOffset(t *testing.T) {
 			t.Fatalf("cut at %d: %v", cut, err)
 		}
 		j.Close()
+		if cut == len(data)-1 {
+			// Whole but for its line end: kept, and the line end written.
+			if after, _ := os.ReadFile(path); len(got) != 3 || string(after) != string(data) {
+				t.Fatalf("cut before the last line end: %d entries, file %q", len(got), after[start:])
+			}
+			continue
+		}
 		if len(got) != 2 || removed != int64(cut-start) {
 			t.Fatalf("cut at %d: %d entries, %d bytes removed; want 2 and %d", cut, len(got), removed, cut-start)
 		}

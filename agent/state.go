@@ -5,6 +5,7 @@ import (
 	"time"
 
 	"benchtender/campaign"
+	"benchtender/planner"
 	"benchtender/safety"
 )
 
@@ -70,6 +71,10 @@ type State struct {
 	Handoffs  int // setpoint files written
 	// Stopped, when not empty, says why the planner stopped proposing.
 	Stopped string
+	// Asides are the regions the planner set aside, oldest first, and the
+	// run at each one's centre.
+	Asides    []planner.Aside
+	AsideRuns []string
 	// Stopping is the stopping rule's verdict at the latest proposal,
 	// test by test (empty when the rule is off).
 	Stopping string
@@ -129,6 +134,11 @@ func (s *State) apply(e Entry) {
 			r.Status = StatusHeld
 		default:
 			r.Status = StatusRefused
+		}
+	case KindSetAside:
+		if e.Aside != nil {
+			s.Asides = append(s.Asides, *e.Aside)
+			s.AsideRuns = append(s.AsideRuns, e.Run)
 		}
 	case KindSignoff, KindResume:
 		if e.Request != "" {

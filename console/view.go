@@ -319,7 +319,7 @@ func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt
 		return fmt.Errorf("no model yet: %v", err)
 	}
 	m := &Model{Kernel: d.Kernel, Units: d.Units, Runs: d.Runs, LogLikelihood: d.LogLikelihood,
-		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, LOORMSE: d.LOORMSE, Outside2: d.Outside2, SetAside: agent.SetAsideNote(st, d)}
+		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, LOORMSE: d.LOORMSE, Outside2: d.Outside2, SetAside: agent.SetAsideNote(st)}
 	for _, s := range d.LengthScales {
 		m.Scales = append(m.Scales, strings.TrimSpace(fmt.Sprintf("%s %.3g %s", s.Factor, s.Value, s.Unit)))
 	}

@@ -52,12 +52,6 @@ type Diagnostics struct {
 	// response's unit; Outside2 the share of runs whose standardised error exceeds
 	// 2 in size.
 	LOORMSE, Outside2 float64
-	// SetAside lists, by index in the trials given, the runs whose basins
-	// were set aside after progress stalled there (stall.go); SearchFrom
-	// is the index of the first run of the new search outside them (0
-	// when nothing is set aside).
-	SetAside   []int
-	SearchFrom int
 }
 
 // Diagnose fits the surrogate to the trials as a proposal would and
@@ -127,8 +121,5 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 	}
 	d.LOORMSE = math.Sqrt(ss / float64(len(trials)))
 	d.Outside2 = float64(out) / float64(len(trials))
-	if a, from := p.setAsideFor(f); a != nil {
-		d.SetAside, d.SearchFrom = a.runs, from
-	}
 	return d, f, nil
 }

@@ -88,8 +88,7 @@ type Request struct {
 	// it picks the design point and seeds the random choices.
 	Index int
 	// Trials are the completed runs with a usable value, in factor units,
-	// in the order the runs were proposed (setting a stalled basin aside
-	// replays them in this order; stall.go).
+	// in the order the runs were proposed.
 	Trials []campaign.Trial
 	// Pending are runs handed off (or about to be) whose results have not
 	// come: the model treats them as observed at its own prediction, so
@@ -107,6 +106,9 @@ type Request struct {
 	// intervals (in factor units), for example the review limits while a
 	// move outside them waits for sign-off.
 	Region [][2]float64
+	// Aside are the regions set aside so far (stall.go), as the planner
+	// returned them in Result.NewAside, oldest first.
+	Aside []Aside
 }
 
 // Result is a proposal and what the model thought when making it.
@@ -129,6 +131,10 @@ type Result struct {
 	// Optimum is the optimum's distribution when the stopping rule needed
 	// it (nil otherwise).
 	Optimum *Optimum
+	// NewAside, when not nil, is a region this proposal set aside
+	// (stall.go): the caller records it and passes it back in every later
+	// Request.Aside.
+	NewAside *Aside
 }
 
 // minSpacing is the smallest distance, in the unit box, between a proposal
@@ -183,9 +189,27 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	// Where progress has stalled, the basin is set aside and a new search
 	// starts outside it (stall.go). When nothing outside the regions can
 	// be proposed (a small region to search, tight constraints), the
-	// search goes on as before.
-	if aside, epoch := p.setAsideFor(ft); aside != nil {
-		res, err := p.searchOutside(ctx, req, ft, aside, epoch, near, rng)
+	// search goes on as before and no new region is set aside.
+	a, epoch, err := p.asidesOf(req.Aside)
+	if err != nil {
+		return Result{}, err
+	}
+	if req.Region == nil {
+		if na := p.stalled(ft, a, epoch); na != nil {
+			if a == nil {
+				a = &aside{}
+			}
+			a.add(p, *na)
+			res, err := p.searchOutside(ctx, req, ft, a, na.From, near, rng)
+			if !errors.Is(err, errNoCandidate) {
+				res.NewAside = na
+				return res, err
+			}
+			a.centres, a.invLen2 = a.centres[:len(a.centres)-1], a.invLen2[:len(a.invLen2)-1]
+		}
+	}
+	if a != nil && len(a.centres) > 0 {
+		res, err := p.searchOutside(ctx, req, ft, a, epoch, near, rng)
 		if !errors.Is(err, errNoCandidate) {
 			return res, err
 		}

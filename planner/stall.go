@@ -1,6 +1,7 @@
 package planner
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 
@@ -30,10 +31,15 @@ import (
 // "Scalable global optimization via local Bayesian optimization",
 // NeurIPS: TuRBO restarts a local search once its region has collapsed)
 // without discarding the runs: the new search still uses the whole model.
-// Once a run beats the best outside the regions by the gain, the count
-// starts again; a run that beats the best overall is simply the new
-// incumbent. The regions are worked out again from the runs in order at
-// every request, so the planner stays stateless.
+//
+// A region is decided once, when the stall is seen, with the length
+// scales of that moment, and returned in Result.NewAside; the caller
+// records it (the agent journals it with its reason) and passes every
+// region back in Request.Aside, so a region never changes or vanishes
+// afterwards (worked out again from the current length scales at every
+// request, as before, regions came and went: issue 18). The planner keeps
+// no state. Progress is measured on the modelled loss before the output
+// warp, against the range of every run so far.
 const (
 	stallGain = 1e-3
 	// asideRadius is in length scales: a Matérn 3/2 (or 5/2) correlation
@@ -49,11 +55,30 @@ const (
 // progress.
 func stallRuns(d int) int { return max(15, 3*d) }
 
-// aside is a set of regions set aside, in the surrogate's inputs.
+// Aside is a region set aside after progress stalled in it. The planner
+// decides it once (Result.NewAside); the caller records it and passes it
+// back, unchanged, in every later Request.Aside.
+type Aside struct {
+	// Run is the index, among the trials of the request that decided it,
+	// of the best run of the stalled search: the region's centre.
+	Run int `json:"run"`
+	// Centre is that run's setpoint, in factor units.
+	Centre campaign.Point `json:"centre"`
+	// Scales are the surrogate's length scales, one per input on the unit
+	// box, when it was decided: the region is the ellipsoid of
+	// asideRadius of them around Centre.
+	Scales []float64 `json:"scales"`
+	// From is the number of trials when it was decided: the new search
+	// is made of the trials from there on.
+	From int `json:"from"`
+	// Reason says why, in words.
+	Reason string `json:"reason"`
+}
+
+// aside is the regions set aside, in the surrogate's inputs.
 type aside struct {
 	centres [][]float64
-	runs    []int     // index of each centre's run
-	invLen2 []float64 // 1/ℓ² per input
+	invLen2 [][]float64 // 1/ℓ² per input, per region
 }
 
 // outside reports whether the surrogate input g lies outside every region.
@@ -61,10 +86,10 @@ func (a *aside) outside(g []float64) bool {
 	if a == nil {
 		return true
 	}
-	for _, c := range a.centres {
+	for r, c := range a.centres {
 		var s float64
 		for k := range g {
-			s += (g[k] - c[k]) * (g[k] - c[k]) * a.invLen2[k]
+			s += (g[k] - c[k]) * (g[k] - c[k]) * a.invLen2[r][k]
 		}
 		if s < asideRadius*asideRadius {
 			return false
@@ -73,50 +98,67 @@ func (a *aside) outside(g []float64) bool {
 	return true
 }
 
-// setAside returns the regions set aside, given the surrogate inputs of
-// the runs in the order they were made, their modelled losses and the
-// fitted length scales, and the index of the first run of the current
-// search (0 while nothing is set aside); nil when none is.
-func setAside(g [][]float64, y []float64, lengthScales []float64) (*aside, int) {
-	if len(g) == 0 {
-		return nil, 0
+// add appends a region.
+func (a *aside) add(p *Planner, r Aside) {
+	inv := make([]float64, len(r.Scales))
+	for k, l := range r.Scales {
+		inv[k] = 1 / (l * l)
 	}
-	window := stallRuns(len(g[0]))
-	a := &aside{invLen2: make([]float64, len(lengthScales))}
-	for k, l := range lengthScales {
-		a.invLen2[k] = 1 / (l * l)
-	}
-	lo, hi := math.Inf(1), math.Inf(-1)
-	best, bestAt, last, epoch := math.Inf(1), -1, 0, 0
-	for i := range g {
-		lo, hi = math.Min(lo, y[i]), math.Max(hi, y[i])
-		if a.outside(g[i]) && y[i] < best-stallGain*(hi-lo) {
-			best, bestAt, last = y[i], i, i
-			continue
-		}
-		if bestAt >= 0 && i-last >= window {
-			a.centres = append(a.centres, g[bestAt])
-			a.runs = append(a.runs, bestAt)
-			best, bestAt, last, epoch = math.Inf(1), -1, i+1, i+1
-		}
-	}
-	if len(a.centres) == 0 {
-		return nil, 0
-	}
-	return a, epoch
+	a.centres = append(a.centres, p.encode(p.space.ToUnit(nil, r.Centre)))
+	a.invLen2 = append(a.invLen2, inv)
 }
 
-// setAsideFor returns the regions set aside for a fitted campaign, or nil
-// when there is none or the config turns setting aside off.
-func (p *Planner) setAsideFor(f *Fitted) (*aside, int) {
-	if !p.cfg.SetAside {
-		return nil, 0
+// asidesOf returns the regions given, and the first trial of the current
+// search (0 while none is set aside); nil when none is, or when the
+// config turns setting aside off. Regions that do not fit the campaign
+// (another number of inputs) are an error: they were not recorded for it.
+func (p *Planner) asidesOf(given []Aside) (*aside, int, error) {
+	if !p.cfg.SetAside || len(given) == 0 {
+		return nil, 0, nil
 	}
-	g := make([][]float64, len(f.x))
-	for i, u := range f.x {
-		g[i] = p.encode(u)
+	a := &aside{}
+	from := 0
+	for i, r := range given {
+		if len(r.Centre) != p.space.Dim() || len(r.Scales) != p.encDim || !r.Centre.Finite() {
+			return nil, 0, fmt.Errorf("planner: region set aside %d does not fit the campaign (%d values, %d scales)", i, len(r.Centre), len(r.Scales))
+		}
+		a.add(p, r)
+		from = max(from, r.From)
 	}
-	return setAside(g, f.y, f.Model.Params().LengthScales)
+	return a, from, nil
+}
+
+// stalled returns a new region to set aside when, among the runs of the
+// current search (from on) that lie outside every region, stallRuns runs
+// have passed since the best of them last improved by more than
+// stallGain of the losses' range; nil otherwise.
+func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
+	if !p.cfg.SetAside || len(f.x) == 0 {
+		return nil
+	}
+	window := stallRuns(p.encDim)
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range f.y[:min(from, len(f.y))] {
+		lo, hi = math.Min(lo, v), math.Max(hi, v)
+	}
+	best, bestAt, last := math.Inf(1), -1, 0
+	for i := from; i < len(f.y); i++ {
+		lo, hi = math.Min(lo, f.y[i]), math.Max(hi, f.y[i])
+		if a.outside(p.encode(f.x[i])) && f.y[i] < best-stallGain*(hi-lo) {
+			best, bestAt, last = f.y[i], i, i
+		}
+	}
+	n := len(f.y)
+	if bestAt < 0 || n-1-last < window {
+		return nil
+	}
+	return &Aside{
+		Run:    bestAt,
+		Centre: p.space.FromUnit(nil, f.x[bestAt]),
+		Scales: f.Model.Params().LengthScales,
+		From:   n,
+		Reason: fmt.Sprintf("%d runs without progress since run %d, the best of its search", n-1-last, bestAt+1),
+	}
 }
 
 // restartPoint returns point n of the design of the search that started

@@ -12,8 +12,26 @@ import (
 	"benchtender/planner/gp"
 )
 
+// stalledAfter fits a planner on the unit square to runs at g with
+// losses y and returns the region it would set aside now (nil: none).
+func stalledAfter(t *testing.T, g [][]float64, y []float64) *Aside {
+	t.Helper()
+	cc := campaign.Config{Name: "s", StateDir: "x", Seed: 1, MaxRuns: 100,
+		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	p := New(cc, Default())
+	var trials []campaign.Trial
+	for i := range g {
+		trials = append(trials, campaign.Trial{Point: g[i], Value: y[i]})
+	}
+	ft, err := p.fit(trials, nil, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p.stalled(ft, nil, 0)
+}
+
 func TestSetAsideAfterStall(t *testing.T) {
-	ls := []float64{0.1, 0.1}
 	window := stallRuns(2)
 	// Four runs that improve, then runs that do not: the basin is set
 	// aside once window runs have passed without progress.
@@ -24,25 +42,28 @@ func TestSetAsideAfterStall(t *testing.T) {
 		y = append(y, 10-float64(i))
 	}
 	for i := 0; i < window-1; i++ {
-		g = append(g, []float64{0.3, 0.5 + 0.001*float64(i)})
+		g = append(g, []float64{0.3, 0.5 + 0.01*float64(i+1)})
 		y = append(y, 7+1e-6) // no better than the best, 7 at (0.3, 0.5)
 	}
-	if a, _ := setAside(g, y, ls); a != nil {
-		t.Fatalf("%d runs without progress set %d region(s) aside; want none before %d", window-1, len(a.centres), window)
+	if a := stalledAfter(t, g, y); a != nil {
+		t.Fatalf("%d runs without progress set a region aside (%+v); want none before %d", window-1, a, window)
 	}
 	g = append(g, []float64{0.31, 0.5})
 	y = append(y, 7)
-	a, epoch := setAside(g, y, ls)
-	if a == nil || len(a.centres) != 1 {
-		t.Fatalf("after %d runs without progress: regions %v, want one", window, a)
+	a := stalledAfter(t, g, y)
+	if a == nil {
+		t.Fatalf("after %d runs without progress no region is set aside", window)
 	}
-	if c := a.centres[0]; math.Abs(c[0]-0.3) > 1e-12 || c[1] != 0.5 {
-		t.Errorf("region centred at %v, want the best run (0.3, 0.5)", c)
+	if c := a.Centre; math.Abs(c[0]-0.3) > 1e-12 || c[1] != 0.5 || a.Run != 3 {
+		t.Errorf("region centred at run %d %v, want the best run, 4th, at (0.3, 0.5)", a.Run, c)
 	}
-	if epoch != len(g) {
-		t.Errorf("the new search starts at run %d, want %d (the next)", epoch, len(g))
+	if a.From != len(g) || len(a.Scales) != 2 || !strings.Contains(a.Reason, "without progress") {
+		t.Errorf("region %+v: want the new search to start at %d, two length scales and a reason", a, len(g))
 	}
 	// The region is an ellipsoid of asideRadius length scales.
+	reg := &aside{}
+	reg.add(New(campaign.Config{Name: "s", StateDir: "x", MaxRuns: 9, Factors: campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}, Default()), Aside{Centre: campaign.Point{0.3, 0.5}, Scales: []float64{0.1, 0.1}})
 	for _, c := range []struct {
 		g       []float64
 		outside bool
@@ -53,7 +74,7 @@ func TestSetAsideAfterStall(t *testing.T) {
 		{[]float64{0.3 + 0.15, 0.5 + 0.15}, true}, // (1.5² + 1.5²) > 2²
 		{[]float64{0.3 + 0.13, 0.5 + 0.13}, false},
 	} {
-		if got := a.outside(c.g); got != c.outside {
+		if got := reg.outside(c.g); got != c.outside {
 			t.Errorf("outside(%v) = %v, want %v", c.g, got, c.outside)
 		}
 	}
@@ -61,13 +82,13 @@ func TestSetAsideAfterStall(t *testing.T) {
 	// count; a tiny gain does not.
 	g2 := append([][]float64(nil), g[:4+window/2]...)
 	y2 := append([]float64(nil), y[:4+window/2]...)
-	g2 = append(g2, []float64{0.3, 0.6})
+	g2 = append(g2, []float64{0.3, 0.9})
 	y2 = append(y2, 7-10*stallGain*3)
 	for i := 0; i < window-1; i++ {
-		g2 = append(g2, []float64{0.3, 0.6 + 0.001*float64(i)})
+		g2 = append(g2, []float64{0.9, 0.1 + 0.01*float64(i)})
 		y2 = append(y2, 7-10*stallGain*3-1e-9)
 	}
-	if a, _ := setAside(g2, y2, ls); a != nil {
+	if a := stalledAfter(t, g2, y2); a != nil {
 		t.Errorf("progress %d runs ago set a region aside", window-1)
 	}
 }
@@ -88,7 +109,9 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
 	// Runs until the well (below −1.45) is found, the methods used and
 	// the runs made.
+	var asides []Aside
 	run := func(setAside bool) (int, []string, []campaign.Trial) {
+		asides = nil
 		cfg := Default()
 		cfg.SetAside = setAside
 		p := New(cc, cfg)
@@ -96,11 +119,24 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 		var warm *gp.Params
 		var methods []string
 		for i := 0; i < cc.MaxRuns; i++ {
-			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Warm: warm})
+			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Warm: warm, Aside: asides})
 			if err != nil {
 				t.Fatalf("set aside %v, proposal %d: %v", setAside, i, err)
 			}
 			warm = res.Fit
+			if res.NewAside != nil {
+				asides = append(asides, *res.NewAside)
+			}
+			// Every proposal keeps out of every region recorded so far,
+			// with the length scales it was recorded with, whatever the
+			// model's scales are now: a region never vanishes.
+			reg, _, err := p.asidesOf(asides)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !reg.outside(p.encode(p.space.ToUnit(nil, res.Proposal.Point))) {
+				t.Fatalf("proposal %d (%s) at %v lies in a region set aside", i, res.Proposal.Method, res.Proposal.Point)
+			}
 			methods = append(methods, res.Proposal.Method)
 			// A new search's design point still reports from the model
 			// of every run, for status and the stopping rule.
@@ -122,7 +158,7 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 	if n, _, _ := run(false); n <= cc.MaxRuns {
 		t.Fatalf("without setting aside the well was found in %d runs; the case no longer tests the mechanism", n)
 	}
-	n, methods, trials := run(true)
+	n, methods, _ := run(true)
 	if n > cc.MaxRuns {
 		t.Fatalf("with setting aside the well was not found in %d runs; methods %q", cc.MaxRuns, methods)
 	}
@@ -137,14 +173,10 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 		t.Fatalf("no proposal came from a new search's design: %q", methods)
 	}
 	t.Logf("well found in %d runs; the new search began at run %d", n, first+1)
-	// Diagnose reports what the proposals did: the run whose basin was
-	// set aside, and the first run of the new search.
-	d, _, err := New(cc, Default()).Diagnose(context.Background(), trials)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if len(d.SetAside) != 1 || d.SearchFrom != first {
-		t.Errorf("Diagnose: set aside %v, search from %d; the proposals began one new search at %d", d.SetAside, d.SearchFrom, first)
+	// One region was decided, once, and the new search began right after
+	// it; no later proposal decided it again.
+	if len(asides) != 1 || asides[0].From != first {
+		t.Errorf("regions set aside %+v; the proposals began one new search at %d", asides, first)
 	}
 }
 
@@ -165,12 +197,16 @@ func TestSetAsideProposalsStayValid(t *testing.T) {
 		p := New(cc, cfg)
 		var trials []campaign.Trial
 		var pending []campaign.Point
+		var asides []Aside
 		// Until a new search has made 10 proposals, or 90 in all.
 		stalled := 0
 		for i := 0; i < 90 && stalled < 10; i++ {
-			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Pending: pending})
+			res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Pending: pending, Aside: asides})
 			if err != nil {
 				t.Fatalf("campaign %d proposal %d: %v", c, i, err)
+			}
+			if res.NewAside != nil {
+				asides = append(asides, *res.NewAside)
 			}
 			pt := res.Proposal.Point
 			assertValid(t, p, c, i, res)

@@ -81,7 +81,7 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 	for _, c := range worst[:min(3, len(worst))] {
 		fmt.Fprintf(stdout, "    %s measured %.4g, predicted from the others %.4g (standardised error %+.2f)\n", runs[c.Index].ID, c.Measured, c.Predicted, c.Standardised)
 	}
-	if note := agent.SetAsideNote(st, d); note != "" {
+	if note := agent.SetAsideNote(st); note != "" {
 		fmt.Fprintf(stdout, "  %s\n", note)
 	}
 	o, err := pl.OptimumOf(ctx, fitted, cfg.Planner.Samples, rand.New(rand.NewPCG(cfg.Campaign.Seed, 0x0b7)))

@@ -126,7 +126,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 				done++
 				el := time.Since(start)
 				eta := time.Duration(float64(el) / float64(done) * float64(len(jobs)-done))
-				fmt.Fprintf(stderr, "\r%d/%d campaigns, %s elapsed, about %s left   ", done, len(jobs), el.Round(time.Second), eta.Round(time.Second))
+				fmt.Fprintf(stderr, "%d/%d campaigns, %s elapsed, about %s left: %s seed %d, %d runs, reached %v\n", done, len(jobs), el.Round(time.Second), eta.Round(time.Second), jobs[i].prob.Name, jobs[i].seed, results[i].runs, results[i].reached)
 				mu.Unlock()
 			}
 		}()
@@ -229,9 +229,10 @@ func campaignRuns(prob testfn.Problem, seed uint64, cfg planner.Config, stop boo
 	noise := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
 	var warm *gp.Params
+	var asides []planner.Aside
 	reachedAt := 0
 	for i := 0; i < prob.Budget; i++ {
-		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm})
+		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm, Aside: asides})
 		if err != nil {
 			fmt.Fprintf(os.Stderr, "\n%s seed %d run %d: %v\n", prob.Name, seed, i, err)
 			return prob.Budget, false, 0
@@ -243,6 +244,9 @@ func campaignRuns(prob testfn.Problem, seed uint64, cfg planner.Config, stop boo
 			return reachedAt, true, i
 		}
 		warm = res.Fit
+		if res.NewAside != nil {
+			asides = append(asides, *res.NewAside) // as the agent journals it
+		}
 		truth := f.F(res.Proposal.Point)
 		obs := truth
 		if prob.NoiseSD > 0 {
