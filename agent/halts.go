@@ -8,7 +8,6 @@ import (
 	"sort"
 	"strings"
 	"time"
-
 )
 
 // Halts says, in words for the morning's reader, what stops handoffs now:
