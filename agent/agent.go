@@ -335,6 +335,15 @@ func (a *Agent) open() error {
 	// handoff's action id proves its rename never happened.
 	swept := map[string][]string{} // by the target's full path
 	dirs := []string{sd, inboxDir(sd), filepath.Join(sd, "quarantine")}
+	// The archive's fan-out folders too (archive/xx/): a crash while
+	// archiving leaves a temp file there.
+	if fan, err := os.ReadDir(filepath.Join(sd, "archive")); err == nil {
+		for _, e := range fan {
+			if e.IsDir() {
+				dirs = append(dirs, filepath.Join(sd, "archive", e.Name()))
+			}
+		}
+	}
 	handoffDirs := map[string]bool{}
 	for _, ic := range a.cfg.Instruments {
 		dirs = append(dirs, ic.HandoffDir)
@@ -560,6 +569,9 @@ func (a *Agent) ingest(f watch.File) error {
 		return a.refuseName(f)
 	}
 	data, err := a.readExport(f)
+	if errors.Is(err, errTooLarge) {
+		return a.refuseUnread(f.Path, err.Error())
+	}
 	if err != nil {
 		// Gone or unreadable now; a later scan will offer it again.
 		log.Warn().Err(err).Msg("cannot read result file")
@@ -617,6 +629,13 @@ func (a *Agent) ingest(f watch.File) error {
 	}
 	resp := a.cfg.Campaign.Response.Name
 	val := rec.Values[resp]
+	if val.Failed == "" {
+		// Implausible values are failed runs with their reason: kept on
+		// record, never modelled.
+		if why := a.cfg.Campaign.Response.Check(val.Number); why != "" {
+			val.Failed, val.Number = why, 0
+		}
+	}
 	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed}
 	if !campaign.ValidRunID(rec.RunID) {
 		return a.refuseFile(path, sha, data, fmt.Sprintf("run id %q is not usable (letters, digits, '_', '.', '-'; at most 64)", rec.RunID))
@@ -639,7 +658,7 @@ func (a *Agent) ingest(f watch.File) error {
 	}
 	// A true copy first: the record survives the instrument PC purging
 	// its exports.
-	cp, err := archive(a.cfg.Campaign.StateDir, sha, data)
+	cp, err := archive(a.cfg.Campaign.StateDir, sha, data, modeOf(path))
 	if err != nil {
 		return storageError{err}
 	}
@@ -687,7 +706,7 @@ func (a *Agent) pointFrom(rec parsers.Record) (campaign.Point, bool) {
 // refuseFile quarantines a result file and records why.
 func (a *Agent) refuseFile(path, sha string, data []byte, reason string) error {
 	dir := filepath.Join(a.cfg.Campaign.StateDir, "quarantine")
-	cp, err := quarantine(dir, path, sha, data, reason, a.opt.Now())
+	cp, err := quarantine(dir, path, sha, data, reason, a.opt.Now(), modeOf(path))
 	if err != nil {
 		// Not recorded, so a later scan offers the file again.
 		a.log.Error().Err(err).Str("file", path).Msg("cannot quarantine result file")

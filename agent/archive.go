@@ -15,6 +15,10 @@ import (
 // kilobytes; this bounds what a runaway writer can make the agent hold).
 const maxResultFile = 64 << 20
 
+// errTooLarge marks a result file over maxResultFile: refused, with a
+// note, and not read.
+var errTooLarge = errors.New("over the size limit for a result file")
+
 // readExport reads a result file through an os.Root on the export folder:
 // no name, ".." part or symbolic link can lead the read out of it. The
 // export folder is only ever read.
@@ -39,7 +43,7 @@ func (a *Agent) readExport(f watch.File) ([]byte, error) {
 		return nil, fmt.Errorf("read %s: %w", watch.Quote(f.Path), err)
 	}
 	if fi.Size() > maxResultFile {
-		return nil, fmt.Errorf("read %s: %d bytes, over the %d-byte limit for a result file", watch.Quote(f.Path), fi.Size(), maxResultFile)
+		return nil, fmt.Errorf("%w: %s has %d bytes, the limit is %d", errTooLarge, watch.Quote(f.Path), fi.Size(), maxResultFile)
 	}
 	return root.ReadFile(rel)
 }
@@ -52,8 +56,9 @@ func archivePath(stateDir, sha string) string {
 
 // archive keeps a true copy of an ingested file, named by its SHA-256,
 // so the record survives the instrument PC purging its exports. The same
-// content is kept once. It returns the copy's path.
-func archive(stateDir, sha string, data []byte) (string, error) {
+// content is kept once, read-only, no more readable than the original
+// (mode). It returns the copy's path.
+func archive(stateDir, sha string, data []byte, mode os.FileMode) (string, error) {
 	path := archivePath(stateDir, sha)
 	if b, err := os.ReadFile(path); err == nil {
 		if sum := sha256.Sum256(b); hex.EncodeToString(sum[:]) == sha {
@@ -67,7 +72,7 @@ func archive(stateDir, sha string, data []byte) (string, error) {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return "", fmt.Errorf("archive: %w", err)
 	}
-	if err := writeFileAtomic(dir, sha, data, 0o444); err != nil {
+	if err := writeFileAtomic(dir, sha, data, mode&0o444); err != nil {
 		return "", fmt.Errorf("archive: %w", err)
 	}
 	return path, nil
@@ -78,6 +83,14 @@ func archive(stateDir, sha string, data []byte) (string, error) {
 // folder says why; nothing of the file is read or copied. Recorded once,
 // also across restarts.
 func (a *Agent) refuseName(f watch.File) error {
+	return a.refuseUnread(f.Path, f.Problem)
+}
+
+// refuseUnread records a file refused without reading it (its name, its
+// size): a note in the quarantine folder says why; recorded once, also
+// across restarts.
+func (a *Agent) refuseUnread(path, problem string) error {
+	f := watch.File{Path: path, Problem: problem}
 	if a.state.Refused[f.Path] {
 		return nil
 	}
@@ -88,12 +101,12 @@ func (a *Agent) refuseName(f watch.File) error {
 	}
 	sum := sha256.Sum256([]byte(f.Path))
 	name := "name-" + hex.EncodeToString(sum[:8]) + ".reason.txt"
-	note := fmt.Sprintf("file:     %s\nrefused:  %s\nreason:   %s\n\nThe file was not read, moved or changed; only its name was seen.\n",
+	note := fmt.Sprintf("file:     %s\nrefused:  %s\nreason:   %s\n\nThe file was not read, moved or changed.\n",
 		watch.Quote(f.Path), a.opt.Now().UTC().Format("2006-01-02T15:04:05Z"), f.Problem)
 	if err := writeFileAtomic(dir, name, []byte(note), 0o644); err != nil {
 		a.log.Error().Err(err).Msg("cannot write the quarantine note")
 		return nil
 	}
-	a.log.Warn().Str("file", f.Path).Str("reason", f.Problem).Msg("result file refused by its name; not read")
+	a.log.Warn().Str("file", f.Path).Str("reason", f.Problem).Msg("result file refused; not read")
 	return a.record(Entry{Kind: KindQuarantine, File: f.Path, Reason: f.Problem, Copy: filepath.Join(dir, name)})
 }

@@ -485,4 +485,18 @@ func (c *Config) resolve(base string) {
 }
 
 // Warnings lists settings that are legal but probably not meant.
-func (c Config) Warnings() []string { return c.Safety.Warnings(c.Campaign.Factors) }
+func (c Config) Warnings() []string {
+	out := c.Safety.Warnings(c.Campaign.Factors)
+	for _, ic := range c.Instruments {
+		spec, ok := c.Formats[ic.Format]
+		if ok && spec.Trailer == "" && spec.Rows == 0 && ic.Watch.Settle < shortSettle {
+			out = append(out, fmt.Sprintf("instrument %s: format %s has no trailer and no rows, and settle is %v: a writer that pauses longer than that gets a cut-off file read as a result; give the format a trailer (a line only a finished file has) or rows, or a longer settle", ic.Name, ic.Format, ic.Watch.Settle))
+		}
+	}
+	return out
+}
+
+// shortSettle: below it, a file with nothing to show it is finished may be
+// read while its writer pauses (common practice: instrument software often
+// writes a header, then pauses for the measurement).
+const shortSettle = 10 * time.Second

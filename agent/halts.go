@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"errors"
 	"encoding/json"
 	"fmt"
 	"os"
@@ -17,7 +18,13 @@ import (
 func Halts(cfg Config, st *State) []string {
 	var out []string
 	if st.AllStop != "" {
-		out = append(out, fmt.Sprintf("ALL-STOP: every handoff halted: %s (clear with benchtender resume)", st.AllStop))
+		// The reason says what was true when it was recorded ("... exists");
+		// say what is true now.
+		now := "the all-stop file is still there"
+		if _, err := os.Stat(allStopPath(cfg)); errors.Is(err, os.ErrNotExist) {
+			now = "the all-stop file has since been removed, but handoffs stay halted until a person resumes them"
+		}
+		out = append(out, fmt.Sprintf("ALL-STOP: every handoff halted since: %s; %s (clear with benchtender resume)", st.AllStop, now))
 	}
 	trail, err := ReadAudit(auditPath(cfg.Campaign.StateDir))
 	if err != nil {

@@ -121,3 +121,39 @@ func TestCategoricalKind(t *testing.T) {
 		t.Errorf("kind \"choice\" accepted: %v", ps)
 	}
 }
+
+// A response's physical range and plausibility: values outside the range,
+// not finite or beyond 1e15 in size are refused with a reason naming the
+// response (issue 19: 1e308 was accepted and made the model's checks
+// infinite); the range must be ordered.
+func TestResponseCheck(t *testing.T) {
+	lo, hi := 0.0, 100.0
+	r := Response{Name: "yield", Unit: "%", Goal: Maximise, Min: &lo, Max: &hi}
+	for _, c := range []struct {
+		v    float64
+		want string
+	}{
+		{42, ""}, {0, ""}, {100, ""},
+		{-0.5, "below its physical range, 0 to 100 %"},
+		{100.5, "above its physical range, 0 to 100 %"},
+		{1e308, "beyond 1e+15"},
+		{math.Inf(1), "not a finite number"},
+		{math.NaN(), "not a finite number"},
+	} {
+		got := r.Check(c.v)
+		if (c.want == "") != (got == "") || !strings.Contains(got, c.want) || (got != "" && !strings.HasPrefix(got, "yield")) {
+			t.Errorf("Check(%v) = %q, want %q", c.v, got, c.want)
+		}
+	}
+	if got := (Response{Name: "y"}).Check(-1e14); got != "" {
+		t.Errorf("no range, a large but plausible value: %q", got)
+	}
+	if r.Clamp(111) != 100 || r.Clamp(-3) != 0 || r.Clamp(50) != 50 {
+		t.Error("Clamp does not keep values in the range")
+	}
+	bad := r
+	bad.Max = &lo
+	if ps := bad.Validate(); len(ps) == 0 || ps[0].Key != "max" {
+		t.Errorf("min 0, max 0 accepted: %v", ps)
+	}
+}

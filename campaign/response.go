@@ -3,6 +3,7 @@ package campaign
 import (
 	"fmt"
 	"math"
+	"strings"
 )
 
 // Goal says whether the response is to be made small or large.
@@ -29,6 +30,62 @@ type Response struct {
 	// logarithm; for responses that are strictly positive and vary over
 	// orders of magnitude, such as impurity levels or rates).
 	Transform string `toml:"transform"`
+	// Min and Max, when set, are the response's physical range (0 and
+	// 100 for a percentage yield): a value outside it is recorded as a
+	// failed run with the reason, never modelled.
+	Min *float64 `toml:"min"`
+	Max *float64 `toml:"max"`
+}
+
+// maxMagnitude bounds any response value, with or without a range: a
+// number beyond it is no measurement (an instrument's overflow marker,
+// a unit error) and is refused. 1e15 is ours: above any physical
+// quantity a lab records in sensible units, and far below the range where
+// the model's arithmetic fails (a value of 1e308 made its checks
+// infinite: issue 19).
+const maxMagnitude = 1e15
+
+// Check says why a measured value cannot be used ("" when it can): not a
+// finite number, beyond maxMagnitude, or outside the configured range.
+func (r Response) Check(v float64) string {
+	switch {
+	case math.IsNaN(v) || math.IsInf(v, 0):
+		return fmt.Sprintf("%s is %v, not a finite number", r.Name, v)
+	case math.Abs(v) > maxMagnitude:
+		return fmt.Sprintf("%s = %g is beyond %g in size: no plausible measurement", r.Name, v, maxMagnitude)
+	case r.Min != nil && v < *r.Min:
+		return strings.TrimSpace(fmt.Sprintf("%s = %g is below its physical range, %g to %s %s", r.Name, v, *r.Min, r.maxText(), r.Unit))
+	case r.Max != nil && v > *r.Max:
+		return strings.TrimSpace(fmt.Sprintf("%s = %g is above its physical range, %s to %g %s", r.Name, v, r.minText(), *r.Max, r.Unit))
+	}
+	return ""
+}
+
+// Clamp returns v brought inside the physical range, when one is set:
+// for reporting what the model predicts (a yield band above 100% means
+// 100%).
+func (r Response) Clamp(v float64) float64 {
+	if r.Min != nil && v < *r.Min {
+		return *r.Min
+	}
+	if r.Max != nil && v > *r.Max {
+		return *r.Max
+	}
+	return v
+}
+
+func (r Response) minText() string {
+	if r.Min == nil {
+		return "-inf"
+	}
+	return fmt.Sprintf("%g", *r.Min)
+}
+
+func (r Response) maxText() string {
+	if r.Max == nil {
+		return "inf"
+	}
+	return fmt.Sprintf("%g", *r.Max)
 }
 
 // Validate reports what is wrong with the response.
@@ -42,6 +99,20 @@ func (r Response) Validate() Problems {
 	}
 	if r.Transform != TransformNone && r.Transform != TransformLog {
 		ps.Add("transform", "must be %q or left out, got %q", TransformLog, r.Transform)
+	}
+	for _, b := range []struct {
+		key string
+		v   *float64
+	}{{"min", r.Min}, {"max", r.Max}} {
+		if b.v != nil && (math.IsNaN(*b.v) || math.Abs(*b.v) > maxMagnitude) {
+			ps.Add(b.key, "must be a finite number no larger than %g in size, got %v", maxMagnitude, *b.v)
+		}
+	}
+	if r.Min != nil && r.Max != nil && !(*r.Min < *r.Max) {
+		ps.Add("max", "must be above min (%g), got %g", *r.Min, *r.Max)
+	}
+	if r.Transform == TransformLog && r.Min != nil && *r.Min < 0 {
+		ps.Add("min", "with transform = \"log\" values must be above 0, so min cannot be %g", *r.Min)
 	}
 	return ps
 }

@@ -120,7 +120,7 @@ func (p *Planner) optimumOf(ctx context.Context, f *Fitted, samples int, e effor
 				bu, bv := p.minimisePath(paths[s], cands, d, e)
 				o.Minimisers[s] = p.space.FromUnit(nil, bu)
 				lossAt[s] = bv
-				o.Values[s] = p.resp.Measured(f.loss(bv))
+				o.Values[s] = p.resp.Clamp(p.resp.Measured(f.loss(bv)))
 				if bestRun >= 0 && p.cfg.Stop.ValueTolerance > 0 {
 					near[s] = math.Abs(p.resp.Measured(f.loss(paths[s].At(p.encode(x[bestRun]))))-o.Values[s]) <= p.cfg.Stop.ValueTolerance
 				}
