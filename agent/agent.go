@@ -77,6 +77,7 @@ type Agent struct {
 
 	journal  *Journal
 	audit    *auditLog
+	auditKey []byte
 	state    *State
 	warm     *gp.Params
 	gate     *safety.Gate
@@ -285,7 +286,12 @@ func (a *Agent) open() error {
 			return fmt.Errorf("agent: handoff folder %s of instrument %s does not exist or is not a folder", ic.HandoffDir, ic.Name)
 		}
 	}
-	audit, tornAudit, err := openAudit(auditPath(sd))
+	key, err := LoadAuditKey(a.cfg, true)
+	if err != nil {
+		return fmt.Errorf("agent: %w; nothing was started", err)
+	}
+	a.auditKey = key
+	audit, tornAudit, err := openAudit(auditPath(sd), key)
 	if err != nil {
 		return fmt.Errorf("agent: %s: %w; nothing was started (run benchtender audit verify)", auditPath(sd), err)
 	}
@@ -296,22 +302,15 @@ func (a *Agent) open() error {
 		return fmt.Errorf("agent: %w", err)
 	}
 	a.journal, a.state = j, Replay(entries)
+	// The journal and the trail must agree; the one gap a crash leaves
+	// (the last entry journalled, not yet audited) is closed now.
+	if err := a.reconcile(entries); err != nil {
+		return fmt.Errorf("agent: %w; nothing was started: find out what happened (backups, the instrument's own log), then record it with benchtender audit accept", err)
+	}
 	if tornAudit {
 		a.log.Warn().Msg("audit trail ended in a torn entry (a write cut short by a crash); cut it off")
 		if err := a.auditNote("audit trail repaired", "audit trail", "a torn last entry was cut off at start"); err != nil {
 			return err
-		}
-	}
-	// Entries journalled but not audited before a crash are audited now.
-	audited, err := lastJournalSeq(auditPath(sd))
-	if err != nil {
-		return fmt.Errorf("agent: %w", err)
-	}
-	for _, e := range entries {
-		if e.Seq > audited {
-			if err := a.auditEntry(e); err != nil {
-				return err
-			}
 		}
 	}
 	if cut > 0 {
@@ -404,9 +403,10 @@ func (a *Agent) recoverHandoffs(swept map[string][]string) error {
 // state and tells Notify.
 func (a *Agent) record(e Entry) error {
 	e.Time = a.opt.Now().UTC()
-	if a.storage != "" || a.journal == nil || a.journal.f == nil {
+	if a.storage != "" || a.journal == nil || a.journal.f == nil || a.audit == nil {
 		return storageError{fmt.Errorf("journal not writable: %s", a.storage)}
 	}
+	e.AuditHead = a.audit.head()
 	e, err := a.journal.Append(e)
 	if err != nil {
 		a.log.Error().Err(err).Msg("journal write failed; nothing more happens until it can be recorded")

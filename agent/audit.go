@@ -3,6 +3,7 @@ package agent
 import (
 	"bufio"
 	"bytes"
+	"crypto/hmac"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -15,11 +16,14 @@ import (
 )
 
 // AuditEntry is one line of the audit trail: who did what to which
-// subject, when and why. Entries are chained: Hash is the SHA-256 of the
-// previous entry's hash and this entry's fields, so any edit, deletion or
-// reordering breaks the chain (what 21 CFR Part 11 §11.10(e) asks of an
-// audit trail: secure, computer-generated, time-stamped, never obscuring
-// earlier entries). A correction is a new entry whose Corrects names the
+// subject, when and why. Entries are chained with a secret key: Hash is
+// HMAC-SHA256 (RFC 2104) under the trail's key of the previous entry's
+// hash and this entry's fields, so an edit, deletion or reordering breaks
+// the chain, and without the key it cannot be computed again (what 21 CFR
+// Part 11 §11.10(e) asks of an audit trail: secure, computer-generated,
+// time-stamped, never obscuring earlier entries). Entries cut from the
+// end are found by the journal, whose every entry carries the trail's
+// head (crossCheck). A correction is a new entry whose Corrects names the
 // entry it corrects; nothing is edited or deleted.
 type AuditEntry struct {
 	Seq int64 `json:"seq"`
@@ -42,11 +46,12 @@ type AuditEntry struct {
 // The agent's own identity in the trail.
 const actorAgent = "benchtender"
 
-// chainHash is SHA-256(prev hash || JSON of the entry without its hash).
-func chainHash(e AuditEntry) string {
+// chainHash is HMAC-SHA256 under key of (prev hash || JSON of the entry
+// without its hash).
+func chainHash(e AuditEntry, key []byte) string {
 	e.Hash = ""
 	b, _ := json.Marshal(e)
-	h := sha256.New()
+	h := hmac.New(sha256.New, key)
 	h.Write([]byte(e.Prev))
 	h.Write(b)
 	return hex.EncodeToString(h.Sum(nil))
@@ -62,7 +67,7 @@ var ErrAuditTorn = errors.New("audit trail ends in a torn entry")
 
 // VerifyAudit checks the whole chain and returns the number of entries.
 // It names the first entry that breaks it.
-func VerifyAudit(path string) (int, error) {
+func VerifyAudit(path string, key []byte) (int, error) {
 	f, err := os.Open(path)
 	if errors.Is(err, os.ErrNotExist) {
 		return 0, nil
@@ -95,8 +100,8 @@ func VerifyAudit(path string) (int, error) {
 			return n, fmt.Errorf("%w: line %d holds entry %d (an entry was deleted, added or moved)", ErrAuditBroken, n, e.Seq)
 		case e.Prev != prev:
 			return n, fmt.Errorf("%w: entry %d does not follow entry %d (deleted or reordered)", ErrAuditBroken, e.Seq, e.Seq-1)
-		case chainHash(e) != e.Hash:
-			return n, fmt.Errorf("%w: entry %d was changed after it was written", ErrAuditBroken, e.Seq)
+		case chainHash(e, key) != e.Hash:
+			return n, fmt.Errorf("%w: entry %d was changed after it was written, or written without the trail's key", ErrAuditBroken, e.Seq)
 		}
 		if _, err := time.Parse(time.RFC3339Nano, e.Time); err != nil {
 			return n, fmt.Errorf("%w: entry %d has no ISO 8601 time", ErrAuditBroken, e.Seq)
@@ -109,17 +114,22 @@ func VerifyAudit(path string) (int, error) {
 // auditLog appends chained entries, fsynced one by one.
 type auditLog struct {
 	f    *os.File
+	key  []byte
 	seq  int64
 	prev string
 }
+
+// head is the trail's last entry, as "seq:hash" ("0:" when empty): what
+// every journal entry carries, so that cutting either file is found.
+func (a *auditLog) head() string { return fmt.Sprintf("%d:%s", a.seq, a.prev) }
 
 func auditPath(stateDir string) string { return filepath.Join(stateDir, "audit.log") }
 
 // openAudit verifies the trail and opens it for appending. A torn last
 // entry (a crash while writing) is cut off and reported by torn; any other
 // damage is an error and nothing is changed.
-func openAudit(path string) (a *auditLog, torn bool, err error) {
-	n, err := VerifyAudit(path)
+func openAudit(path string, key []byte) (a *auditLog, torn bool, err error) {
+	n, err := VerifyAudit(path, key)
 	if errors.Is(err, ErrAuditTorn) {
 		good, serr := auditPrefixLen(path, n)
 		if serr != nil {
@@ -134,6 +144,9 @@ func openAudit(path string) (a *auditLog, torn bool, err error) {
 		return nil, false, err
 	}
 	a, err = openAuditAt(path, n)
+	if a != nil {
+		a.key = key
+	}
 	return a, torn, err
 }
 
@@ -192,7 +205,7 @@ func (a *auditLog) append(e AuditEntry, now time.Time) (AuditEntry, error) {
 	e.Seq = a.seq + 1
 	e.Time = now.UTC().Format(time.RFC3339Nano)
 	e.Prev = a.prev
-	e.Hash = chainHash(e)
+	e.Hash = chainHash(e, a.key)
 	b, err := json.Marshal(e)
 	if err != nil {
 		return e, err
@@ -239,27 +252,4 @@ func ReadAudit(path string) ([]AuditEntry, error) {
 		}
 	}
 	return out, sc.Err()
-}
-
-// lastJournalSeq returns the highest journal seq the trail records, so
-// that entries journalled but not yet audited when a crash came can be
-// audited at the next start.
-func lastJournalSeq(path string) (int64, error) {
-	entries, err := ReadAudit(path)
-	if err != nil {
-		return 0, err
-	}
-	var last int64
-	for _, e := range entries {
-		if len(e.Detail) == 0 {
-			continue
-		}
-		var j struct {
-			Seq int64 `json:"seq"`
-		}
-		if json.Unmarshal(e.Detail, &j) == nil && j.Seq > last {
-			last = j.Seq
-		}
-	}
-	return last, nil
 }

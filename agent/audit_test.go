@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"encoding/hex"
 	"errors"
 	"os"
 	"path/filepath"
@@ -9,10 +10,23 @@ import (
 	"time"
 )
 
+// testKey keys the trails these tests write by hand.
+var testKey = []byte("0123456789abcdef0123456789abcdef")
+
+// keyOf is the key the agent made for a test campaign.
+func keyOf(t *testing.T, tc *testCampaign) []byte {
+	t.Helper()
+	k, err := LoadAuditKey(tc.cfg, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return k
+}
+
 func writeTrail(t *testing.T, n int) (string, []string) {
 	t.Helper()
 	path := filepath.Join(t.TempDir(), "audit.log")
-	a, _, err := openAudit(path)
+	a, _, err := openAudit(path, testKey)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -33,7 +47,7 @@ func writeTrail(t *testing.T, n int) (string, []string) {
 // earlier entries), and reopening goes on from the last entry.
 func TestAuditVerifyDetectsTampering(t *testing.T) {
 	path, lines := writeTrail(t, 4)
-	if n, err := VerifyAudit(path); err != nil || n != 4 {
+	if n, err := VerifyAudit(path, testKey); err != nil || n != 4 {
 		t.Fatalf("intact trail: %d entries, %v", n, err)
 	}
 	join := func(ls []string) string {
@@ -53,15 +67,15 @@ func TestAuditVerifyDetectsTampering(t *testing.T) {
 		t.Run(name, func(t *testing.T) {
 			p := filepath.Join(t.TempDir(), "audit.log")
 			os.WriteFile(p, []byte(content), 0o644)
-			if _, err := VerifyAudit(p); !errors.Is(err, ErrAuditBroken) {
+			if _, err := VerifyAudit(p, testKey); !errors.Is(err, ErrAuditBroken) {
 				t.Fatalf("%s trail: %v, want ErrAuditBroken", name, err)
 			}
-			if _, _, err := openAudit(p); err == nil {
+			if _, _, err := openAudit(p, testKey); err == nil {
 				t.Fatalf("a %s trail was opened for appending", name)
 			}
 		})
 	}
-	a, _, err := openAudit(path)
+	a, _, err := openAudit(path, testKey)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -69,7 +83,7 @@ func TestAuditVerifyDetectsTampering(t *testing.T) {
 		t.Fatalf("append after reopen: %+v %v", e, err)
 	}
 	a.close()
-	if n, err := VerifyAudit(path); err != nil || n != 5 {
+	if n, err := VerifyAudit(path, testKey); err != nil || n != 5 {
 		t.Fatalf("after reopen: %d, %v", n, err)
 	}
 }
@@ -79,6 +93,7 @@ func TestAgentRefusesBrokenAudit(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	os.MkdirAll(tc.cfg.Campaign.StateDir, 0o755)
 	_, lines := writeTrail(t, 3)
+	os.WriteFile(tc.cfg.Audit.KeyFile, []byte(hex.EncodeToString(testKey)), 0o600)
 	broken := lines[0] + lines[2] + "\n"
 	p := auditPath(tc.cfg.Campaign.StateDir)
 	os.WriteFile(p, []byte(broken), 0o644)
@@ -117,7 +132,7 @@ func TestCorrectionIsANewEntry(t *testing.T) {
 	if !strings.Contains(string(after[len(before):]), `"action":"correction","subject":"audit entry 1"`) || !strings.Contains(string(after), `"corrects":1`) {
 		t.Errorf("correction entry missing:\n%s", after[len(before):])
 	}
-	if _, err := VerifyAudit(auditPath(tc.cfg.Campaign.StateDir)); err != nil {
+	if _, err := VerifyAudit(auditPath(tc.cfg.Campaign.StateDir), keyOf(t, tc)); err != nil {
 		t.Error(err)
 	}
 }
@@ -128,15 +143,15 @@ func TestAuditTornTailIsCut(t *testing.T) {
 	path, lines := writeTrail(t, 3)
 	torn := strings.Join(lines[:2], "") + lines[2][:30]
 	os.WriteFile(path, []byte(torn), 0o644)
-	if _, err := VerifyAudit(path); !errors.Is(err, ErrAuditTorn) {
+	if _, err := VerifyAudit(path, testKey); !errors.Is(err, ErrAuditTorn) {
 		t.Fatalf("verify: %v, want ErrAuditTorn", err)
 	}
-	a, cut, err := openAudit(path)
+	a, cut, err := openAudit(path, testKey)
 	if err != nil || !cut {
 		t.Fatalf("open: cut %v, %v", cut, err)
 	}
 	a.close()
-	if n, err := VerifyAudit(path); err != nil || n != 2 {
+	if n, err := VerifyAudit(path, testKey); err != nil || n != 2 {
 		t.Fatalf("after the cut: %d entries, %v", n, err)
 	}
 }

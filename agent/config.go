@@ -38,6 +38,7 @@ type Config struct {
 	Safety  safety.Config           `toml:"safety"`
 	Log     LogConfig               `toml:"log"`
 	Console ConsoleConfig           `toml:"console"`
+	Audit   AuditConfig             `toml:"audit"`
 }
 
 // ConsoleConfig is the [console] section: the web console the daemon
@@ -479,6 +480,7 @@ func (c *Config) resolve(base string) {
 		c.Instrument = c.Instruments[0]
 	}
 	c.Console.TokensFile = abs(c.Console.TokensFile)
+	c.Audit.KeyFile = abs(c.Audit.KeyFile)
 	if c.Log.File != "" && !filepath.IsAbs(c.Log.File) {
 		c.Log.File = filepath.Join(c.Campaign.StateDir, c.Log.File)
 	}

@@ -90,7 +90,7 @@ func (a *Agent) tryRecover() {
 func (a *Agent) reopen() error {
 	a.closeStores()
 	sd := a.cfg.Campaign.StateDir
-	audit, _, err := openAudit(auditPath(sd))
+	audit, _, err := openAudit(auditPath(sd), a.auditKey)
 	if err != nil {
 		return err
 	}
@@ -100,18 +100,7 @@ func (a *Agent) reopen() error {
 		return err
 	}
 	a.audit, a.journal, a.state = audit, j, Replay(entries)
-	audited, err := lastJournalSeq(auditPath(sd))
-	if err != nil {
-		return err
-	}
-	for _, e := range entries {
-		if e.Seq > audited {
-			if err := a.auditEntry(e); err != nil {
-				return err
-			}
-		}
-	}
-	return nil
+	return a.reconcile(entries)
 }
 
 func (a *Agent) closeStores() {

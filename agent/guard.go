@@ -120,7 +120,14 @@ func (a *Agent) reloadConfig() error {
 }
 
 // auditEntry writes the audit trail's entry for a journal entry.
-func (a *Agent) auditEntry(e Entry) error {
+// The audit entry carries the journal entry's own time, so that the two
+// records agree to the nanosecond and a lost audit line can be put back
+// exactly as it was.
+func (a *Agent) auditEntry(e Entry) error { return a.auditEntryAt(e, e.Time) }
+
+// auditEntryAt audits a journal entry with the time given (its own, when
+// a crash delayed its audit entry).
+func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
 	ae := AuditEntry{Actor: actorAgent, Subject: e.Run, Reason: e.Reason}
 	switch e.Kind {
 	case KindIngest, KindQuarantine, KindDuplicate:
@@ -163,7 +170,7 @@ func (a *Agent) auditEntry(e Entry) error {
 	if a.audit == nil {
 		return storageError{fmt.Errorf("agent: audit trail not open")}
 	}
-	if _, err := a.audit.append(ae, a.opt.Now()); err != nil {
+	if _, err := a.audit.append(ae, at); err != nil {
 		a.log.Error().Err(err).Msg("audit trail write failed; nothing more happens until it can be recorded")
 		return storageError{fmt.Errorf("agent: %w", err)}
 	}

@@ -75,6 +75,9 @@ unit = "%"
 
 [log]
 file = ""
+
+[audit]
+key_file = "audit.key"
 `
 
 const defaultLimits = `

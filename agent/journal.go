@@ -69,6 +69,9 @@ type Entry struct {
 	// Aside is a region the planner set aside (set-aside): decided once,
 	// passed back to the planner with every later request.
 	Aside *planner.Aside `json:"aside,omitempty"`
+	// AuditHead is the audit trail's head ("seq:hash") when this entry
+	// was written: cutting either file is then found (anchor.go).
+	AuditHead string `json:"audit_head,omitempty"`
 	// Stopping is the stopping rule's verdict at this proposal, each test
 	// with its value and threshold (empty when the rule is off).
 	Stopping string `json:"stopping,omitempty"`

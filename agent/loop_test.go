@@ -140,8 +140,8 @@ hard_max = 21.0
 hard_min = 1.0
 hard_max = 5.0
 `)
-	if w := tc.cfg.Warnings(); len(w) != 1 || !strings.Contains(w[0], "temp") {
-		t.Errorf("warnings %q, want one about temp", w)
+	if w := tc.cfg.Warnings(); len(w) < 1 || !strings.Contains(w[0], "temp") || !strings.Contains(w[0], "hard limits") {
+		t.Errorf("warnings %q, want the first about temp's hard limits", w)
 	}
 	events, stop := tc.start(t)
 	for i := 0; i < maxRefusals; i++ {

@@ -144,7 +144,11 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	r, ok := st.Runs[req.Run]
 	switch {
 	case req.Action == ActionCorrect:
-		n, err := VerifyAudit(auditPath(cfg.Campaign.StateDir))
+		key, err := LoadAuditKey(cfg, false)
+		if err != nil {
+			return "", err
+		}
+		n, err := VerifyAudit(auditPath(cfg.Campaign.StateDir), key)
 		if err != nil {
 			return "", err
 		}

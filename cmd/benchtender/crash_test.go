@@ -118,7 +118,7 @@ func TestCrashAndRestart(t *testing.T) {
 			t.Errorf("%s handed off %d times", run, n)
 		}
 	}
-	n, err := agent.VerifyAudit(filepath.Join(cfg.Campaign.StateDir, "audit.log"))
+	n, err := agent.CheckRecord(cfg)
 	if err != nil {
 		t.Errorf("audit trail: %v", err)
 	}

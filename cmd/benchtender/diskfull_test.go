@@ -89,7 +89,11 @@ cp -r "$STATE" "$OUT/state"
 	if len(es) <= len(before) {
 		t.Errorf("no progress after the disk was emptied: %d entries then, %d at the end", len(before), len(es))
 	}
-	if _, err := agent.VerifyAudit(filepath.Join(out, "state", "audit.log")); err != nil {
+	key, err := agent.LoadAuditKey(cfg, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := agent.VerifyAudit(filepath.Join(out, "state", "audit.log"), key); err != nil {
 		t.Errorf("audit trail: %v", err)
 	}
 	trail, _ := os.ReadFile(filepath.Join(out, "state", "audit.log"))

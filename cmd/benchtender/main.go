@@ -16,6 +16,7 @@
 //	benchtender report [--config C] [--out report.html]   the campaign in one HTML file
 //	benchtender parse --config C [--format NAME] FILE   what a result file would give
 //	benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config C]
+//	benchtender audit accept --by ID --name NAME --reason TEXT [--config C]   after a journal/trail mismatch
 //	benchtender demo [--dir DIR] [--runs N] [--seed N]   an invented campaign on a simulated instrument
 //	benchtender service install|remove  a Windows service that survives a reboot
 //	benchtender version                 version, commit and Go version
@@ -113,6 +114,7 @@ const usage = `usage:
   benchtender resume --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender audit verify [--config CONFIG]
   benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config CONFIG]
+  benchtender audit accept --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender status [--config CONFIG]
   benchtender report [--config CONFIG] [--out report.html] [--x FACTOR --y FACTOR]
   benchtender parse --config CONFIG [--format NAME] FILE

@@ -17,6 +17,19 @@ import (
 	"time"
 )
 
+// TestMain keeps the audit keys the daemons under test make (in the user's
+// configuration folder by default) out of the real one.
+func TestMain(m *testing.M) {
+	dir, err := os.MkdirTemp("", "benchtender-config-")
+	if err != nil {
+		panic(err)
+	}
+	os.Setenv("XDG_CONFIG_HOME", dir)
+	code := m.Run()
+	os.RemoveAll(dir)
+	os.Exit(code)
+}
+
 // binary builds the real benchtender command once per test run.
 func binary(t *testing.T) string {
 	t.Helper()
@@ -164,7 +177,7 @@ func TestHoldApproveWhileDaemonRuns(t *testing.T) {
 	// The audit trail records the approval with the printed name and its
 	// meaning, and its chain verifies (21 CFR Part 11 §11.10(e), §11.50).
 	av, code := runBin(t, bin, "audit", "verify", "--config", cfgPath)
-	if code != 0 || !strings.Contains(av, "the chain verifies") {
+	if code != 0 || !strings.Contains(av, "the keyed chain verifies and the journal agrees") {
 		t.Errorf("audit verify: exit %d\n%s", code, av)
 	}
 	trail, _ := os.ReadFile(filepath.Join(dir, "state", "audit.log"))
@@ -260,7 +273,7 @@ func TestParseCommand(t *testing.T) {
 	bin := binary(t)
 	dir := t.TempDir()
 	good := filepath.Join(dir, "yield_R0012_export.csv")
-	os.WriteFile(good, []byte("CR-1 export (invented)\nOperator: day\nDate: 2026-12-01\nSample;Yield [%];Purity [%];T_jacket [F];Cooling;Seed\nR0012;45,5;98,0;104,0;10;0,5\n"), 0o644)
+	os.WriteFile(good, []byte("CR-1 export (invented)\nOperator: day\nDate: 2026-12-01\nSample;Yield [%];Purity [%];T_jacket [F];Cooling;Seed\nR0012;45,5;98,0;104,0;10;0,5\nMean;45,5;98,0;;;\n"), 0o644)
 	out, code := runBin(t, bin, "parse", "--config", "../../config.example.toml", good)
 	if code != 0 {
 		t.Fatalf("exit %d\n%s", code, out)
@@ -271,7 +284,7 @@ func TestParseCommand(t *testing.T) {
 		}
 	}
 	bad := filepath.Join(dir, "yield_R0013.csv")
-	os.WriteFile(bad, []byte("a\nb\nc\nSample;Yield [%];Purity [%];T_jacket [F];Cooling;Seed\nR0013;4x;98,0;104,0;10;0,5\n"), 0o644)
+	os.WriteFile(bad, []byte("a\nb\nc\nSample;Yield [%];Purity [%];T_jacket [F];Cooling;Seed\nR0013;4x;98,0;104,0;10;0,5\nMean;4x;98,0;;;\n"), 0o644)
 	out, code = runBin(t, bin, "parse", "--config", "../../config.example.toml", bad)
 	if code != 1 || !strings.Contains(out, "yield_R0013.csv:5:7: not a number") || !strings.Contains(out, "would quarantine") {
 		t.Errorf("exit %d\n%s", code, out)
