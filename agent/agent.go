@@ -886,10 +886,14 @@ func (a *Agent) plan(ctx context.Context) error {
 		// passed back with every later request, so it never changes.
 		runs := a.state.TrialRuns()
 		run := ""
-		if na.Run >= 0 && na.Run < len(runs) {
+		if !na.Release && na.Run >= 0 && na.Run < len(runs) {
 			run = runs[na.Run].ID
 		}
-		a.log.Info().Str("centre_run", run).Str("reason", na.Reason).Msg("basin set aside; a new search starts outside it")
+		msg := "basin set aside; a new search starts outside it"
+		if na.Release {
+			msg = "regions set aside are released; the search goes on over the whole box"
+		}
+		a.log.Info().Str("centre_run", run).Str("reason", na.Reason).Msg(msg)
 		if err := a.record(Entry{Kind: KindSetAside, Run: run, Point: na.Centre, Aside: na, Reason: na.Reason}); err != nil {
 			return err
 		}

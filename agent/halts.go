@@ -108,17 +108,28 @@ func Notices(cfg Config) []string {
 
 // SetAsideNote says, in a line for status and the console, which runs'
 // basins the planner has set aside after progress stalled there, why, and
-// how many runs the search outside them has made; empty when none is.
+// how many runs the search outside them has made, or when regions were
+// last released; empty when none ever was.
 func SetAsideNote(st *State) string {
-	if len(st.Asides) == 0 {
-		return ""
-	}
 	var parts []string
+	released := ""
+	from := 0
 	for i, a := range st.Asides {
+		if a.Release {
+			parts, released, from = nil, a.Reason, a.From
+			continue
+		}
 		parts = append(parts, fmt.Sprintf("%s (%s)", orUnknown(st.AsideRuns[i]), a.Reason))
+		from = a.From
 	}
-	return fmt.Sprintf("set aside after no progress, for good: the basins of %s; the search outside them has %d completed runs",
-		strings.Join(parts, "; "), max(0, len(st.Trials())-st.Asides[len(st.Asides)-1].From))
+	done := max(0, len(st.Trials())-from)
+	switch {
+	case len(parts) > 0:
+		return fmt.Sprintf("set aside after no progress: the basins of %s; the search outside them has %d completed runs", strings.Join(parts, "; "), done)
+	case released != "":
+		return fmt.Sprintf("regions set aside earlier were released (%s); %d runs since", released, done)
+	}
+	return ""
 }
 
 func orUnknown(s string) string {

@@ -27,11 +27,15 @@ func TestSetAsideNote(t *testing.T) {
 	if len(st.Asides) != 1 || st.Asides[0].From != 4 || st.AsideRuns[0] != "R0002" {
 		t.Fatalf("replayed regions %+v, runs %v", st.Asides, st.AsideRuns)
 	}
-	want := "set aside after no progress, for good: the basins of R0002 (15 runs without progress since run 2, the best of its search); the search outside them has 2 completed runs"
+	want := "set aside after no progress: the basins of R0002 (15 runs without progress since run 2, the best of its search); the search outside them has 2 completed runs"
 	if got := SetAsideNote(st); got != want {
 		t.Errorf("note %q, want %q", got, want)
 	}
 	if got := SetAsideNote(Replay(es[:4])); got != "" {
 		t.Errorf("nothing set aside: %q", got)
+	}
+	rel := append(append([]Entry(nil), es...), Entry{Kind: KindSetAside, Aside: &planner.Aside{Release: true, From: 5, Reason: "nothing better outside"}})
+	if got := SetAsideNote(Replay(rel)); got != "regions set aside earlier were released (nothing better outside); 1 runs since" {
+		t.Errorf("after a release: %q", got)
 	}
 }

@@ -131,9 +131,9 @@ type Result struct {
 	// Optimum is the optimum's distribution when the stopping rule needed
 	// it (nil otherwise).
 	Optimum *Optimum
-	// NewAside, when not nil, is a region this proposal set aside
-	// (stall.go): the caller records it and passes it back in every later
-	// Request.Aside.
+	// NewAside, when not nil, is a region this proposal set aside, or a
+	// release of every region (stall.go): the caller records it and passes
+	// it back in every later Request.Aside.
 	NewAside *Aside
 }
 
@@ -195,7 +195,11 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 		return Result{}, err
 	}
 	if req.Region == nil {
-		if na := p.stalled(ft, a, epoch); na != nil {
+		if na := p.stalled(ft, a, epoch); na != nil && na.Release {
+			res, err := p.search(ctx, req, ft, ft, nil, near, rng)
+			res.NewAside = na
+			return res, err
+		} else if na != nil {
 			if a == nil {
 				a = &aside{}
 			}

@@ -73,6 +73,10 @@ type Aside struct {
 	From int `json:"from"`
 	// Reason says why, in words.
 	Reason string `json:"reason"`
+	// Release, when true, makes this a release, not a region: every
+	// region before it is released, and the search goes on over the
+	// whole box from From on (Centre and Scales are empty).
+	Release bool `json:"release,omitempty"`
 }
 
 // aside is the regions set aside, in the surrogate's inputs.
@@ -119,11 +123,18 @@ func (p *Planner) asidesOf(given []Aside) (*aside, int, error) {
 	a := &aside{}
 	from := 0
 	for i, r := range given {
+		if r.Release {
+			a, from = &aside{}, max(from, r.From)
+			continue
+		}
 		if len(r.Centre) != p.space.Dim() || len(r.Scales) != p.encDim || !r.Centre.Finite() {
 			return nil, 0, fmt.Errorf("planner: region set aside %d does not fit the campaign (%d values, %d scales)", i, len(r.Centre), len(r.Scales))
 		}
 		a.add(p, r)
 		from = max(from, r.From)
+	}
+	if len(a.centres) == 0 {
+		return nil, from, nil
 	}
 	return a, from, nil
 }
@@ -131,7 +142,14 @@ func (p *Planner) asidesOf(given []Aside) (*aside, int, error) {
 // stalled returns a new region to set aside when, among the runs of the
 // current search (from on) that lie outside every region, stallRuns runs
 // have passed since the best of them last improved by more than
-// stallGain of the losses' range; nil otherwise.
+// stallGain of the losses' range; nil otherwise. When that search runs
+// outside regions already set aside and its best is still worse than the
+// best run of all, it returns a release instead: the search outside found
+// nothing better in a whole stall window, so the regions are released and
+// the campaign goes back to the whole box, best basin included. (Kept for
+// good, a region can hold the optimum itself, set aside while progress
+// along a narrow valley was slow: on the suite's Beale, 8 campaigns of 30
+// more missed the optimum. The release is the restart's way back.)
 func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
 	if !p.cfg.SetAside || len(f.x) == 0 {
 		return nil
@@ -151,6 +169,16 @@ func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
 	n := len(f.y)
 	if bestAt < 0 || n-1-last < window {
 		return nil
+	}
+	if a != nil && len(a.centres) > 0 {
+		overall := math.Inf(1)
+		for _, v := range f.y {
+			overall = math.Min(overall, v)
+		}
+		if best > overall {
+			return &Aside{Release: true, From: n,
+				Reason: fmt.Sprintf("the search outside %d region(s) found nothing better than the best run in %d runs; released, the search goes on over the whole box", len(a.centres), n-from)}
+		}
 	}
 	return &Aside{
 		Run:    bestAt,
