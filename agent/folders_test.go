@@ -25,18 +25,9 @@ func TestLostExportFolderHoldsHandoffs(t *testing.T) {
 	events, stop := tc.start(t)
 	defer stop()
 	waitFor(t, events, "the first proposal", kind(KindProposal))
-	// A window in which a handoff would show if the hold did not work.
-	quiet := time.After(1500 * time.Millisecond)
-	for done := false; !done; {
-		select {
-		case e := <-events:
-			if e.Kind == KindHandoff || e.Kind == KindHandoffOK {
-				t.Fatalf("handed off %s while the export folder is missing", e.Run)
-			}
-		case <-quiet:
-			done = true
-		}
-	}
+	noneFor(t, events, 1500*time.Millisecond, "handed off while the export folder is missing", func(e Entry) bool {
+		return e.Kind == KindHandoff || e.Kind == KindHandoffOK
+	})
 	if ns := Notices(tc.cfg); len(ns) == 0 || !strings.Contains(strings.Join(ns, "\n"), "handoffs to instrument bench are held") {
 		t.Errorf("status notices: %q", ns)
 	}

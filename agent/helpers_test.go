@@ -170,3 +170,20 @@ func readJournalT(t *testing.T, tc *testCampaign) []Entry {
 	}
 	return es
 }
+
+// noneFor reads entries for d and fails on the first that bad accepts:
+// a window in which something that must not happen would show.
+func noneFor(t *testing.T, events <-chan Entry, d time.Duration, what string, bad func(Entry) bool) {
+	t.Helper()
+	quiet := time.After(d)
+	for {
+		select {
+		case e := <-events:
+			if bad(e) {
+				t.Fatalf("%s: %s %s", what, e.Kind, e.Run)
+			}
+		case <-quiet:
+			return
+		}
+	}
+}

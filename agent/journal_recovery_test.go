@@ -161,17 +161,9 @@ func TestUnrecordedSetpointFileIsNotOverwritten(t *testing.T) {
 	events, stop := tc.start(t)
 	defer stop()
 	waitFor(t, events, "the first proposal", kind(KindProposal))
-	quiet := time.After(1500 * time.Millisecond)
-	for done := false; !done; {
-		select {
-		case e := <-events:
-			if e.Kind == KindHandoff && e.Run == "R0001" {
-				t.Fatal("R0001 handed off over a setpoint file already in place")
-			}
-		case <-quiet:
-			done = true
-		}
-	}
+	noneFor(t, events, 1500*time.Millisecond, "handed off over a setpoint file already in place", func(e Entry) bool {
+		return e.Kind == KindHandoff && e.Run == "R0001"
+	})
 	if data, _ := os.ReadFile(old); !strings.Contains(string(data), "earlier") {
 		t.Fatalf("the file in place was changed: %q", data)
 	}
