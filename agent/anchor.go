@@ -129,6 +129,9 @@ func (a *Agent) reconcile(entries []Entry) error {
 	if err != nil {
 		return err
 	}
+	if err := checkWitness(a.cfg, trail); err != nil {
+		return err
+	}
 	gap, err := crossCheck(entries, trail)
 	if err != nil {
 		return err
@@ -172,7 +175,10 @@ func AcceptMismatch(cfg Config, by, name, reason string, now time.Time) (string,
 	if err != nil {
 		return "", err
 	}
-	_, finding := crossCheck(entries, trail)
+	finding := checkWitness(cfg, trail)
+	if finding == nil {
+		_, finding = crossCheck(entries, trail)
+	}
 	if finding == nil {
 		return "", errors.New("audit accept: the journal and the audit trail agree; there is nothing to accept")
 	}
@@ -190,6 +196,9 @@ func AcceptMismatch(cfg Config, by, name, reason string, now time.Time) (string,
 		Reason: reason, Meaning: "acceptance of a gap in the record", Detail: detail}, now)
 	if err != nil {
 		return "", err
+	}
+	if err := writeWitness(cfg, e.Seq, e.Hash, now); err != nil {
+		return "", fmt.Errorf("audit accept: recorded as entry %d, but the witness could not be updated: %w", e.Seq, err)
 	}
 	return fmt.Sprintf("audit entry %d: %s", e.Seq, finding), nil
 }
@@ -215,6 +224,9 @@ func CheckRecord(cfg Config) (int, error) {
 	}
 	trail, err := ReadAudit(auditPath(sd))
 	if err != nil {
+		return n, err
+	}
+	if err := checkWitness(cfg, trail); err != nil {
 		return n, err
 	}
 	gap, err := crossCheck(entries, trail)

@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"errors"
 	"os"
+	"path/filepath"
 	"strings"
 	"testing"
 	"time"
@@ -197,5 +198,58 @@ func TestCrashGapAndAcceptance(t *testing.T) {
 	}
 	if _, err := AcceptMismatch(tc.cfg, "ada", "Ada Tech", "again", time.Now()); err == nil {
 		t.Error("an acceptance with nothing to accept was recorded")
+	}
+}
+
+// With a witness folder, the head copied there after every entry finds
+// what the journal cannot: the trail and the journal cut together at
+// matching points. Without the witness the same cut passes.
+func TestWitnessFindsAMatchingCut(t *testing.T) {
+	tc := newTestCampaign(t, "6", passLimits)
+	tc.cfg.Audit.WitnessDir = filepath.Join(t.TempDir(), "other-disk")
+	os.MkdirAll(tc.cfg.Audit.WitnessDir, 0o755)
+	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
+	waitFor(t, events, "R0001 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	tc.writeResult(t, "res_R0001.csv", resultFile("81,5"))
+	waitFor(t, events, "R0002 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0002" })
+	stop()
+	sd := tc.cfg.Campaign.StateDir
+	if _, err := CheckRecord(tc.cfg); err != nil {
+		t.Fatalf("intact record with its witness: %v", err)
+	}
+	// Cut both at the first handoff's confirmation.
+	es := readJournalT(t, tc)
+	var keep int
+	var last Entry
+	for _, e := range es {
+		line, _ := encodeEntry(e)
+		keep += len(line)
+		last = e
+		if e.Kind == KindHandoffOK {
+			break
+		}
+	}
+	os.Truncate(journalPath(sd), int64(keep))
+	data, _ := os.ReadFile(auditPath(sd))
+	var alen int
+	for _, line := range strings.SplitAfter(string(data), "\n") {
+		alen += len(line)
+		var ae AuditEntry
+		json.Unmarshal([]byte(line), &ae)
+		if detailSeq(ae) == last.Seq {
+			break
+		}
+	}
+	os.Truncate(auditPath(sd), int64(alen))
+	if _, err := CheckRecord(tc.cfg); !errors.Is(err, ErrRecordMismatch) || !strings.Contains(err.Error(), "witness") {
+		t.Fatalf("cut at matching points, with a witness: %v", err)
+	}
+	if err := startErr(t, tc); !errors.Is(err, ErrRecordMismatch) {
+		t.Fatalf("start: %v", err)
+	}
+	blind := tc.cfg
+	blind.Audit.WitnessDir = ""
+	if _, err := CheckRecord(blind); err != nil {
+		t.Fatalf("without the witness the matching cut is not found (as the README says), but got %v", err)
 	}
 }

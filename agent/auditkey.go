@@ -20,6 +20,12 @@ type AuditConfig struct {
 	// named after the campaign in the user's configuration folder
 	// (os.UserConfigDir()/benchtender/audit-keys/).
 	KeyFile string `toml:"key_file"`
+	// WitnessDir, when set, is a folder on another disk or share where
+	// the trail's head (sequence, hash, time) is copied after every
+	// entry: an independent witness. At start and in audit verify the
+	// trail must still hold that head; cutting the trail and the journal
+	// together is then found too.
+	WitnessDir string `toml:"witness_dir"`
 }
 
 // AuditKeyPath is the key file in force for cfg.

@@ -481,6 +481,7 @@ func (c *Config) resolve(base string) {
 	}
 	c.Console.TokensFile = abs(c.Console.TokensFile)
 	c.Audit.KeyFile = abs(c.Audit.KeyFile)
+	c.Audit.WitnessDir = abs(c.Audit.WitnessDir)
 	if c.Log.File != "" && !filepath.IsAbs(c.Log.File) {
 		c.Log.File = filepath.Join(c.Campaign.StateDir, c.Log.File)
 	}

@@ -170,9 +170,20 @@ func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
 	if a.audit == nil {
 		return storageError{fmt.Errorf("agent: audit trail not open")}
 	}
-	if _, err := a.audit.append(ae, at); err != nil {
+	return a.appendAudit(ae, at)
+}
+
+// appendAudit appends to the trail and copies its new head to the
+// witness, if one is configured (a witness that cannot be written is
+// logged: the trail itself is written).
+func (a *Agent) appendAudit(ae AuditEntry, at time.Time) error {
+	e, err := a.audit.append(ae, at)
+	if err != nil {
 		a.log.Error().Err(err).Msg("audit trail write failed; nothing more happens until it can be recorded")
 		return storageError{fmt.Errorf("agent: %w", err)}
+	}
+	if err := writeWitness(a.cfg, e.Seq, e.Hash, a.opt.Now()); err != nil {
+		a.log.Error().Err(err).Str("dir", a.cfg.Audit.WitnessDir).Msg("cannot copy the audit head to the witness folder")
 	}
 	return nil
 }
@@ -182,8 +193,5 @@ func (a *Agent) auditNote(action, subject, reason string) error {
 	if a.audit == nil {
 		return storageError{fmt.Errorf("agent: audit trail not open")}
 	}
-	if _, err := a.audit.append(AuditEntry{Actor: actorAgent, Action: action, Subject: subject, Reason: reason}, a.opt.Now()); err != nil {
-		return storageError{fmt.Errorf("agent: %w", err)}
-	}
-	return nil
+	return a.appendAudit(AuditEntry{Actor: actorAgent, Action: action, Subject: subject, Reason: reason}, a.opt.Now())
 }

@@ -228,3 +228,20 @@ func excerpt(s, near string) string {
 	}
 	return s[i:min(len(s), i+200)]
 }
+
+// The report carries the audit trail's head, to be copied into a notebook,
+// and whether the record checked when it was written (issue 19).
+func TestReportCarriesTheAuditHead(t *testing.T) {
+	f := newFixture(t, "", nil)
+	v, err := Build(t.Context(), f.cfg, BuildOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	if err := Report(&b, v); err != nil {
+		t.Fatal(err)
+	}
+	if v.AuditHead == "" || !strings.Contains(b.String(), v.AuditHead) || !strings.Contains(b.String(), "the keyed chain verifies and the journal agrees") {
+		t.Errorf("report lacks the audit head %q or the check:\n%s", v.AuditHead, excerpt(b.String(), "Audit trail"))
+	}
+}

@@ -49,6 +49,10 @@ type View struct {
 	PairX, PairY int
 	Audit        []agent.AuditEntry // newest first
 	AuditTotal   int
+	// AuditHead is the trail's last entry ("seq hash"), to be copied
+	// into a notebook; RecordCheck says whether the keyed chain verified
+	// and the journal agreed with it when the view was built.
+	AuditHead, RecordCheck string
 }
 
 // Count is the number of runs with one status.
@@ -180,8 +184,16 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 	for _, ic := range cfg.Instruments {
 		v.Instruments = append(v.Instruments, instrument(ic, len(cfg.Instruments) == 1, notices, st, entries))
 	}
+	if _, err := agent.CheckRecord(cfg); err != nil {
+		v.RecordCheck = "does not check: " + err.Error()
+	} else {
+		v.RecordCheck = "the keyed chain verifies and the journal agrees with it"
+	}
 	if trail, err := agent.ReadAudit(filepath.Join(sd, "audit.log")); err == nil {
 		v.AuditTotal = len(trail)
+		if n := len(trail); n > 0 {
+			v.AuditHead = fmt.Sprintf("entry %d, hash %s", trail[n-1].Seq, trail[n-1].Hash)
+		}
 		if opt.AuditTail > 0 && len(trail) > opt.AuditTail {
 			trail = trail[len(trail)-opt.AuditTail:]
 		}
