@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"context"
+	"io/fs"
 	"math/rand/v2"
 	"os"
 	"os/exec"
@@ -74,6 +75,14 @@ func TestCrashAndRestart(t *testing.T) {
 		t.Fatal(err)
 	}
 	st := agent.Replay(es)
+	// The last run swept what the kills left half-written, archive
+	// folders included (issue 19: archive/xx/ was skipped).
+	filepath.WalkDir(cfg.Campaign.StateDir, func(path string, d fs.DirEntry, err error) error {
+		if err == nil && !d.IsDir() && strings.HasPrefix(d.Name(), ".benchtender-") && strings.HasSuffix(d.Name(), ".tmp") {
+			t.Errorf("temp file left after the last clean run: %s", path)
+		}
+		return nil
+	})
 	// Every result file ingested exactly once.
 	ingests := map[string]int{}
 	intents := map[string]int{}
