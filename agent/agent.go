@@ -443,7 +443,12 @@ func (a *Agent) step(ctx context.Context) error {
 	if err := a.handoffReady(); err != nil {
 		return err
 	}
-	return a.plan(ctx)
+	if err := a.plan(ctx); err != nil {
+		return err
+	}
+	// A move the gate has just passed goes out now, not at the next
+	// tick (that wait was most of a result's way to the next setpoint).
+	return a.handoffReady()
 }
 
 // halted says why no setpoint may be written now, or "".

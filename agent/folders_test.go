@@ -49,3 +49,16 @@ func TestFolderProblems(t *testing.T) {
 		t.Errorf("handoff folder missing: %q", ps)
 	}
 }
+
+// A move the gate passes is handed off in the same step, not at the next
+// tick: with a tick of an hour, the first handoff still comes at once,
+// and so does the one after a result arrives (issue 21: about 0.6 s of a
+// 0.7 s arrival-to-handoff was the wait for a 1 s tick).
+func TestHandoffDoesNotWaitForTheTick(t *testing.T) {
+	tc := newTestCampaign(t, "3", passLimits)
+	events, stop := tc.startWith(t, Options{Proposer: fixedAt, Tick: time.Hour})
+	defer stop()
+	waitFor(t, events, "R0001 handed off without a tick", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	tc.writeResult(t, "res_R0001.csv", resultFile("81,5"))
+	waitFor(t, events, "R0002 handed off without a tick", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0002" })
+}
