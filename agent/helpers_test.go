@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"encoding/json"
 	"os"
 	"path/filepath"
 	"strings"
@@ -185,5 +186,36 @@ func noneFor(t *testing.T, events <-chan Entry, d time.Duration, what string, ba
 		case <-quiet:
 			return
 		}
+	}
+}
+
+// cutRecordAfter cuts the journal and the audit trail of the state folder
+// sd just after journal entry last (the entries es are the journal's), as
+// a crash right after that entry was journalled and audited leaves them.
+func cutRecordAfter(t *testing.T, sd string, es []Entry, last int64) {
+	t.Helper()
+	var jlen int
+	for _, e := range es {
+		if e.Seq > last {
+			break
+		}
+		line, _ := encodeEntry(e)
+		jlen += len(line)
+	}
+	if err := os.Truncate(journalPath(sd), int64(jlen)); err != nil {
+		t.Fatal(err)
+	}
+	trail, _ := os.ReadFile(auditPath(sd))
+	var alen int
+	for _, line := range strings.SplitAfter(string(trail), "\n") {
+		alen += len(line)
+		var ae AuditEntry
+		json.Unmarshal([]byte(line), &ae)
+		if detailSeq(ae) == last {
+			break
+		}
+	}
+	if err := os.Truncate(auditPath(sd), int64(alen)); err != nil {
+		t.Fatal(err)
 	}
 }

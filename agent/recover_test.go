@@ -2,7 +2,6 @@ package agent
 
 import (
 	"context"
-	"encoding/json"
 	"os"
 	"path/filepath"
 	"strings"
@@ -70,27 +69,7 @@ func TestRestartSettlesAnUnconfirmedHandoff(t *testing.T) {
 				t.Fatalf("the journal before the confirmation ends in %+v", last)
 			}
 			sd := tc.cfg.Campaign.StateDir
-			var jlen int
-			for _, e := range kept {
-				line, _ := encodeEntry(e)
-				jlen += len(line)
-			}
-			if err := os.Truncate(journalPath(sd), int64(jlen)); err != nil {
-				t.Fatal(err)
-			}
-			trail, _ := os.ReadFile(auditPath(sd))
-			var alen int
-			for _, line := range strings.SplitAfter(string(trail), "\n") {
-				alen += len(line)
-				var ae AuditEntry
-				json.Unmarshal([]byte(line), &ae)
-				if detailSeq(ae) == kept[len(kept)-1].Seq {
-					break
-				}
-			}
-			if err := os.Truncate(auditPath(sd), int64(alen)); err != nil {
-				t.Fatal(err)
-			}
+			cutRecordAfter(t, sd, es, kept[len(kept)-1].Seq)
 			intent := kept[len(kept)-1]
 			handoff := filepath.Join(tc.cfg.Instrument.HandoffDir, "R0001.csv")
 			for _, n := range handoffFiles(t, tc) {
