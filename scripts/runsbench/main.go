@@ -10,12 +10,13 @@
 //	go run ./scripts/runsbench -set tuning            # decide on this set
 //	go run ./scripts/runsbench -set validation        # then confirm on this one
 //	go run ./scripts/runsbench -only branin,"levy 4 rotated" -seeds 10
-//	go run ./scripts/runsbench -strategy expected_improvement -csv runs.csv
+//	go run ./scripts/runsbench -acquisition portfolio -csv runs.csv
+//	go run ./scripts/runsbench -set tuning -max-factors 3 -stop   # the stopping rule
 //
 // Campaigns run in parallel (-parallel, every core by default) with a
-// progress line on stderr; the table (Markdown) goes to stdout, and with
+// progress line per campaign on stderr; the table (Markdown) goes to stdout, and with
 // -csv every campaign's count to a file, so that two settings can be
-// compared seed by seed (scripts/runsdiff).
+// compared seed by seed.
 package main
 
 import (
