@@ -200,16 +200,11 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 			res.NewAside = na
 			return res, err
 		} else if na != nil {
-			if a == nil {
-				a = &aside{}
-			}
-			a.add(p, *na)
-			res, err := p.searchOutside(ctx, req, ft, a, na.From, near, rng)
+			res, err := p.searchOutside(ctx, req, ft, a.with(p, *na), na.From, near, rng)
 			if !errors.Is(err, errNoCandidate) {
 				res.NewAside = na
 				return res, err
 			}
-			a.centres, a.invLen2 = a.centres[:len(a.centres)-1], a.invLen2[:len(a.invLen2)-1]
 		}
 	}
 	if a != nil && len(a.centres) > 0 {

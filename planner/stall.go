@@ -112,6 +112,17 @@ func (a *aside) add(p *Planner, r Aside) {
 	a.invLen2 = append(a.invLen2, inv)
 }
 
+// with returns a copy of the regions (a may be nil) with r added.
+func (a *aside) with(p *Planner, r Aside) *aside {
+	b := &aside{}
+	if a != nil {
+		b.centres = append(b.centres, a.centres...)
+		b.invLen2 = append(b.invLen2, a.invLen2...)
+	}
+	b.add(p, r)
+	return b
+}
+
 // asidesOf returns the regions given, and the first trial of the current
 // search (0 while none is set aside); nil when none is, or when the
 // config turns setting aside off. Regions that do not fit the campaign
