@@ -19,7 +19,7 @@ func cmdAudit(args []string, stdout io.Writer) error {
 	if len(args) > 0 && args[0] == "accept" {
 		return cmdAuditAccept(args[1:], stdout)
 	}
-	if len(args) > 0 && (args[0] == "-h" || args[0] == "--help" || args[0] == "-help") {
+	if len(args) > 0 && isHelp(args[0]) {
 		return helpRequest{flag.NewFlagSet("audit", flag.ContinueOnError)}
 	}
 	if len(args) == 0 || args[0] != "verify" {

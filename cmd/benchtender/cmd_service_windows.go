@@ -30,6 +30,9 @@ func cmdService(ctx context.Context, args []string, stdout, stderr io.Writer) er
 	if len(args) == 0 {
 		return usageError{"service: the subcommands are install, remove and run"}
 	}
+	if isHelp(args[0]) {
+		return helpRequest{flag.NewFlagSet("service", flag.ContinueOnError)}
+	}
 	fs := flag.NewFlagSet("service "+args[0], flag.ContinueOnError)
 	name := fs.String("name", "benchtender", "the service's name")
 	config := fs.String("config", "", "configuration file (install, run)")

@@ -30,6 +30,8 @@ func TestEverySubcommandHasHelp(t *testing.T) {
 		{[]string{"parse", "--help"}, []string{"benchtender parse", "-format"}},
 		{[]string{"demo", "--help"}, []string{"benchtender demo [--dir DIR] [--runs N] [--seed N]", "-runs", "-seed"}},
 		{[]string{"version", "--help"}, []string{"benchtender version"}},
+		{[]string{"service", "--help"}, []string{"benchtender service install", "benchtender service remove"}},
+		{[]string{"audit", "accept", "--help"}, []string{"benchtender audit accept", "-reason"}},
 	}
 	for _, c := range cases {
 		t.Run(strings.Join(c.args, " "), func(t *testing.T) {

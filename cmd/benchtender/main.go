@@ -55,6 +55,9 @@ type helpRequest struct{ fs *flag.FlagSet }
 func (h helpRequest) Error() string { return h.fs.Name() + ": help requested" }
 func (h helpRequest) Unwrap() error { return flag.ErrHelp }
 
+// isHelp reports whether a command-line word asks for help.
+func isHelp(s string) bool { return s == "-h" || s == "-help" || s == "--help" }
+
 // printHelp writes the usage lines of the subcommand named name and the
 // flags of fs.
 func printHelp(w io.Writer, name string, fs *flag.FlagSet) {
