@@ -65,10 +65,11 @@ func problem(f Function, set, shape string) Problem {
 	return Problem{Function: f, Set: set, Shape: shape, Budget: budget, Tol: tol}
 }
 
-func noisy(p Problem, sd float64) Problem {
+// noisy adds Gaussian noise of 1% of |minimum| to every observation.
+func noisy(p Problem) Problem {
 	p.Name += " noisy"
 	p.Shape += ", noise sd 1% of |minimum|"
-	p.NoiseSD = sd
+	p.NoiseSD = 0.01 * math.Abs(p.Min)
 	return p
 }
 
@@ -157,7 +158,7 @@ func Suite() []Problem {
 		shifted(Levy(4), Tuning, "many wells"),
 		problem(StyblinskiTangMixed(), Tuning, "8 wells, one factor whole numbers"),
 		problem(Hartmann6(), Tuning, "smooth, several wells"),
-		noisy(problem(Branin(), Tuning, "smooth, three global minima"), 0.01*0.397887),
+		noisy(problem(Branin(), Tuning, "smooth, three global minima")),
 
 		problem(GramacyLee(), Validation, "many wiggles, rising trend"),
 		problem(McCormick(), Validation, "smooth"),
@@ -168,7 +169,7 @@ func Suite() []Problem {
 		problem(Michalewicz(5), Validation, "flat plateau cut by narrow valleys"),
 		problem(Trid(6), Validation, "ill-conditioned quadratic bowl"),
 		problem(Trid(10), Validation, "ill-conditioned quadratic bowl"),
-		noisy(problem(McCormick(), Validation, "smooth"), 0.01*1.9133),
+		noisy(problem(McCormick(), Validation, "smooth")),
 	}
 }
 
