@@ -94,6 +94,7 @@ type Agent struct {
 
 	folderLost map[string]bool        // export folders lost, as last reported
 	lostSaid   bool                   // the hold for lost export folders is logged
+	queuedSaid string                 // the run last logged as queued for room on an instrument
 	occupied   map[string]bool        // handoff files found in place unrecorded, as logged
 	watchState map[string]WatchStatus // by export folder, as written to watch.json
 
@@ -530,7 +531,7 @@ func (a *Agent) inFlightOn(i int) []*Run {
 // previous is the setpoint the gate judges a new move against: the last
 // one handed off to the instrument that would take the next setpoint.
 func (a *Agent) previous() campaign.Point {
-	i := a.pickInstrument()
+	i, _ := a.pickInstrument()
 	if i < 0 {
 		i = 0 // every export folder lost: nothing is handed off anyway
 	}
@@ -539,18 +540,22 @@ func (a *Agent) previous() campaign.Point {
 
 // pickInstrument chooses where the next setpoint goes: the instrument
 // with the fewest runs in flight (the first of them on a tie), so that
-// each is kept busy and none gets a queue while another idles.
-func (a *Agent) pickInstrument() int {
+// each is kept busy and none gets a queue while another idles. Room says
+// whether it has room for one more setpoint file (its capacity).
+func (a *Agent) pickInstrument() (inst int, room bool) {
 	best, load := -1, -1
-	for i := range a.cfg.Instruments {
+	for i, ic := range a.cfg.Instruments {
 		if a.exportLost(i) {
 			continue // its results could not be seen
 		}
-		if n := len(a.inFlightOn(i)); load < 0 || n < load {
-			best, load = i, n
+		n := len(a.inFlightOn(i))
+		free := n < ic.Capacity
+		switch {
+		case best < 0, free && !room, free == room && n < load:
+			best, load, room = i, n, free
 		}
 	}
-	return best
+	return best, room
 }
 
 // Audit notes about the export folder.
@@ -731,7 +736,7 @@ func (a *Agent) handoffReady() error {
 		if !a.rateAllows() {
 			return nil
 		}
-		inst := a.pickInstrument()
+		inst, room := a.pickInstrument()
 		if inst < 0 {
 			if !a.lostSaid {
 				a.lostSaid = true
@@ -740,6 +745,15 @@ func (a *Agent) handoffReady() error {
 			return nil
 		}
 		a.lostSaid = false
+		if !room {
+			// Every instrument holds as many setpoint files as it may:
+			// the cleared runs wait here, oldest proposal first.
+			if a.queuedSaid != r.ID {
+				a.queuedSaid = r.ID
+				a.log.Info().Str("run", r.ID).Int("queued", len(a.state.Ready())).Msg("cleared for handoff; queued until an instrument has room (capacity)")
+			}
+			return nil
+		}
 		ic := a.cfg.Instruments[inst]
 		sp := campaign.Setpoint{RunID: r.ID, Point: r.Point}
 		// Gate once more right before writing, against the setpoint this
@@ -847,11 +861,12 @@ func (a *Agent) plan(ctx context.Context) error {
 	}
 	busy := len(st.Pending())
 	var region [][2]float64
+	var allowed func(campaign.Point) bool
 	if a.cfg.Safety.KeepBusy && len(st.Held()) > 0 {
 		// Holds wait for a person; meanwhile the instrument works on
 		// proposals inside every limit.
 		busy -= len(st.Held())
-		region = a.cfg.Safety.ReviewBox(a.cfg.Campaign.Factors)
+		region, allowed = a.insideEveryLimit()
 	}
 	if busy >= max(a.cfg.Planner.Batch, len(a.cfg.Instruments)) {
 		return nil
@@ -868,7 +883,7 @@ func (a *Agent) plan(ctx context.Context) error {
 	}
 	start := a.opt.Now()
 	id := fmt.Sprintf("R%04d", st.Proposals+1)
-	res, err := a.propose(ctx, id, region)
+	res, err := a.propose(ctx, id, region, allowed)
 	if err != nil {
 		if ctx.Err() != nil {
 			return nil
@@ -916,7 +931,8 @@ func (a *Agent) plan(ctx context.Context) error {
 		Stopping: res.Stopping.String()}
 	if d.Verdict == safety.Hold && region == nil {
 		// Show the person signing off what would run inside the limits.
-		if alt, err := a.propose(ctx, id, a.cfg.Safety.ReviewBox(a.cfg.Campaign.Factors)); err == nil {
+		box, ok := a.insideEveryLimit()
+		if alt, err := a.propose(ctx, id, box, ok); err == nil && ok(alt.Proposal.Point) {
 			e.Alternative = roundPoint(a.cfg.Campaign.Factors, alt.Proposal.Point)
 		}
 	}
@@ -945,9 +961,28 @@ func (a *Agent) plan(ctx context.Context) error {
 	return nil
 }
 
+// insideEveryLimit confines a proposal to moves the gate passes as they
+// stand, against the setpoint the next run follows.
+func (a *Agent) insideEveryLimit() ([][2]float64, func(campaign.Point) bool) {
+	return insideLimits(a.cfg, a.gate, a.previous())
+}
+
+// insideLimits is the region of moves from prev that pass every
+// per-factor limit (the review box narrowed by each ramp limit), which the
+// planner fills with candidates, and a test that the gate passes the
+// rounded move as it will be written (rules over several factors, levels).
+func insideLimits(cfg Config, gate *safety.Gate, prev campaign.Point) ([][2]float64, func(campaign.Point) bool) {
+	space := cfg.Campaign.Factors
+	passes := func(pt campaign.Point) bool {
+		sp := campaign.Setpoint{RunID: "check", Point: roundPoint(space, pt)}
+		return gate.Check(sp, prev).Verdict == safety.Pass
+	}
+	return cfg.Safety.PassBox(space, prev), passes
+}
+
 // propose asks the planner, turning a panic into an error: a bug in the
 // planner must not take the daemon down or write a setpoint.
-func (a *Agent) propose(ctx context.Context, id string, region [][2]float64) (res planner.Result, err error) {
+func (a *Agent) propose(ctx context.Context, id string, region [][2]float64, allowed func(campaign.Point) bool) (res planner.Result, err error) {
 	defer func() {
 		if p := recover(); p != nil {
 			err = fmt.Errorf("planner panicked: %v", p)
@@ -956,7 +991,7 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64) (re
 	res, err = a.proposer.Propose(ctx, planner.Request{
 		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Pending: a.state.Pending(),
 		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm, Region: region,
-		Aside: a.state.Asides,
+		Allowed: allowed, Aside: a.state.Asides,
 	})
 	if err == nil && (res.Proposal.RunID != id || !res.Proposal.Point.Finite() || len(res.Proposal.Point) != a.cfg.Campaign.Factors.Dim()) {
 		err = fmt.Errorf("planner returned an unusable proposal %+v", res.Proposal)

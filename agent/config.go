@@ -112,13 +112,18 @@ type InstrumentConfig struct {
 	// LookEvery is how often the agent looks at its sign-off inbox, the
 	// all-stop file and its config (default 1 s).
 	LookEvery time.Duration `toml:"look_every"`
+	// Capacity is how many setpoint files the instrument may hold at once
+	// (runs handed off and not yet answered; default 1). Cleared moves
+	// beyond it queue in the agent and go out in the order they were
+	// proposed, one as each result comes in.
+	Capacity int `toml:"capacity"`
 }
 
 // Spec returns the parser spec of the (first) instrument's format.
 func (c Config) Spec() parsers.Spec { return c.Formats[c.Instrument.Format] }
 
 func defaultInstrument() InstrumentConfig {
-	return InstrumentConfig{HandoffFormat: HandoffCSV, Watch: watch.Default()}
+	return InstrumentConfig{HandoffFormat: HandoffCSV, Watch: watch.Default(), Capacity: 1}
 }
 
 // LogConfig is the [log] section.
@@ -172,6 +177,9 @@ func (ic InstrumentConfig) validate() campaign.Problems {
 	}
 	if ic.LookEvery < 0 || (ic.LookEvery > 0 && ic.LookEvery < 10*time.Millisecond) {
 		ps.Add("look_every", "must be at least 10ms, got %v", ic.LookEvery)
+	}
+	if ic.Capacity < 1 || ic.Capacity > maxCapacity {
+		ps.Add("capacity", "must be 1 to %d setpoint files at once, got %d", maxCapacity, ic.Capacity)
 	}
 	if ic.HandoffFormat != HandoffCSV && ic.HandoffFormat != HandoffJSON {
 		ps.Add("handoff_format", "must be %q or %q, got %q", HandoffCSV, HandoffJSON, ic.HandoffFormat)
@@ -490,6 +498,9 @@ func (c *Config) resolve(base string) {
 // Warnings lists settings that are legal but probably not meant.
 func (c Config) Warnings() []string {
 	out := c.Safety.Warnings(c.Campaign.Factors)
+	if total := c.Capacity(); c.Planner.Batch > total {
+		out = append(out, fmt.Sprintf("planner.batch is %d but the instruments take %d setpoint file(s) at once (capacity): the extra proposals queue until a result comes in; raise an instrument's capacity if it really has more positions", c.Planner.Batch, total))
+	}
 	for _, ic := range c.Instruments {
 		spec, ok := c.Formats[ic.Format]
 		if ok && spec.Trailer == "" && spec.Rows == 0 && ic.Watch.Settle < shortSettle {
@@ -497,6 +508,19 @@ func (c Config) Warnings() []string {
 		}
 	}
 	return out
+}
+
+// maxCapacity bounds an instrument's capacity: positions on an autosampler
+// tray, not a queue of hundreds.
+const maxCapacity = 96
+
+// Capacity is how many setpoint files all instruments take at once.
+func (c Config) Capacity() int {
+	n := 0
+	for _, ic := range c.Instruments {
+		n += ic.Capacity
+	}
+	return n
 }
 
 // shortSettle: below it, a file with nothing to show it is finished may be

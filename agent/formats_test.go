@@ -35,7 +35,7 @@ func TestIncompleteFileWaitsThenTimesOut(t *testing.T) {
 	spec.Trailer = "^END"
 	spec.IncompleteTimeout = 700 * time.Millisecond
 	tc.cfg.Formats["bench_csv"] = spec
-	tc.cfg.Planner.Batch = 2
+	tc.positions(2)
 	events, stop := tc.start(t)
 	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
@@ -63,7 +63,7 @@ func TestResultMatchedToOldestHandoff(t *testing.T) {
 	spec := tc.cfg.Formats["bench_csv"]
 	spec.RunIDSource = "oldest_handoff"
 	tc.cfg.Formats["bench_csv"] = spec
-	tc.cfg.Planner.Batch = 2
+	tc.positions(2)
 	events, stop := tc.start(t)
 	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))

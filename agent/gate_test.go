@@ -239,7 +239,13 @@ func writeRequest(t *testing.T, tc *testCampaign, req SignoffRequest) {
 // is handed off with the edited values.
 func TestEditedApprovalIsGatedAgain(t *testing.T) {
 	tc, events, _, p := heldCampaign(t, "", Options{})
-	approve(t, tc, p.Run, "ada", map[string]float64{"temp": 85})
+	// The command says so at once; a request that reaches the inbox all
+	// the same is refused by the daemon.
+	_, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "hotter", Edit: map[string]float64{"temp": 85}})
+	if err == nil || !strings.Contains(err.Error(), "above hard_max") {
+		t.Fatalf("edited past a hard limit: %v", err)
+	}
+	writeRequest(t, tc, SignoffRequest{ID: "hot", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "hotter", Edit: map[string]float64{"temp": 85}, Time: time.Now(), Limits: tc.cfg.Safety.Version()})
 	waitAudit(t, tc, "the gate refuses the move")
 	if files := handoffFiles(t, tc); len(files) != 0 {
 		t.Fatalf("handoff folder holds %v", files)
@@ -259,8 +265,13 @@ func TestTwoPersonRule(t *testing.T) {
 	if !first.Partial {
 		t.Fatalf("first approval %+v is not partial", first)
 	}
-	approve(t, tc, p.Run, "ada", nil)
-	waitAudit(t, tc, "ada approved this move already")
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "again"}); err == nil || !strings.Contains(err.Error(), "a second, different person") {
+		t.Fatalf("the same person approving twice: %v", err)
+	}
+	// Past the command's check (a request written straight into the
+	// inbox), the daemon refuses it too.
+	writeRequest(t, tc, SignoffRequest{ID: "again", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "again", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: 0})
+	waitAudit(t, tc, "ada gave the first approval of this move")
 	if files := handoffFiles(t, tc); len(files) != 0 {
 		t.Fatalf("handed off after one person: %v", files)
 	}
@@ -272,11 +283,59 @@ func TestTwoPersonRule(t *testing.T) {
 	waitFor(t, events, "the handoff", kind(KindHandoffOK))
 }
 
+// A pending first approval is never dropped. Here the proposed move needs
+// one approval (below review_min) but the first approver's edit needs two
+// (flow above review_max): a second plain approval of the proposed values
+// is refused with both sets shown, at the command and in the daemon; the
+// same values complete it; other values with replace start a new first
+// approval that says whose it replaced.
+func TestSecondApprovalNeverDropsTheFirst(t *testing.T) {
+	tc, events, _, p := heldCampaign(t, "review_max = 4.0\n\n[safety]\ntwo_person = [\"review_max\"]\n", Options{})
+	edit := map[string]float64{"flow": 4.5}
+	approve(t, tc, p.Run, "ada", edit)
+	first := waitFor(t, events, "the first approval", kind(KindSignoff))
+	if !first.Partial || first.Point[1] != 4.5 {
+		t.Fatalf("first approval %+v", first)
+	}
+	st := Replay(readJournalT(t, tc))
+	if f := st.Runs[p.Run].First; f == nil || f.By != "ada" || f.Name != "Person ada" || f.Point[1] != 4.5 || f.Time.IsZero() {
+		t.Fatalf("pending first approval %+v", f)
+	}
+	_, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "bo", Name: "Bo", Reason: "fine"})
+	if err == nil || !strings.Contains(err.Error(), "flow=4.5") || !strings.Contains(err.Error(), "ada (Person ada)") {
+		t.Fatalf("a plain second approval after an edited first: %v", err)
+	}
+	writeRequest(t, tc, SignoffRequest{ID: "plain", Run: p.Run, Action: ActionApprove, By: "bo", Name: "Bo", Reason: "fine", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: 0})
+	waitAudit(t, tc, "Approve those same values to complete it")
+	if files := handoffFiles(t, tc); len(files) != 0 {
+		t.Fatalf("handed off with the first approver's edit dropped: %v", files)
+	}
+	// Other values, replacing the first approval: a new first approval.
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "bo", Name: "Bo", Reason: "less flow", Edit: map[string]float64{"flow": 4.2}, Replace: true}); err != nil {
+		t.Fatal(err)
+	}
+	repl := waitFor(t, events, "the replacing approval", kind(KindSignoff))
+	if !repl.Partial || !strings.Contains(repl.Replaces, "ada (Person ada)") || !strings.Contains(repl.Replaces, "flow=4.5") {
+		t.Fatalf("replacing approval %+v", repl)
+	}
+	waitAudit(t, tc, "replaces the first approval by ada (Person ada)")
+	// ada completes bo's values.
+	approve(t, tc, p.Run, "ada", map[string]float64{"flow": 4.2})
+	second := waitFor(t, events, "the second approval", kind(KindSignoff))
+	if second.Partial {
+		t.Fatalf("second approval %+v", second)
+	}
+	h := waitFor(t, events, "the handoff", kind(KindHandoffOK))
+	if h.Point[1] != 4.2 {
+		t.Fatalf("handed off %v, want the values both signed", h.Point)
+	}
+}
+
 // The all-stop file halts every handoff within one tick; only a person's
 // resume clears it, and handoffs go on.
 func TestAllStop(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits)
-	tc.cfg.Planner.Batch = 1
+	tc.positions(1)
 	events, _ := tc.startWith(t, Options{Tick: 50 * time.Millisecond})
 	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	stopFile := allStopPath(tc.cfg)
@@ -330,7 +389,7 @@ func TestHoldExpires(t *testing.T) {
 // At most max_handoffs_per_hour setpoints are written in any hour.
 func TestRateLimit(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits+"\n[safety]\nmax_handoffs_per_hour = 2\n")
-	tc.cfg.Planner.Batch = 4
+	tc.positions(4)
 	events, stop := tc.startWith(t, Options{})
 	waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	waitFor(t, events, "a second handoff", kind(KindHandoffOK))
@@ -363,4 +422,42 @@ func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
 	waitAudit(t, tc, "limits edited")
 	waitFor(t, events, "a handoff once fixed", kind(KindHandoffOK))
 	_ = filepath.Join
+}
+
+// An instrument never holds more setpoint files than its capacity: with
+// keep_busy a move inside the limits goes out while a move waits for
+// sign-off; once that one is approved it queues in the agent and goes out
+// when the result of the run in flight comes in.
+func TestCapacityIsNeverExceeded(t *testing.T) {
+	tc, events, _, p := heldCampaign(t, "\n[safety]\nkeep_busy = true\n", Options{})
+	busy := waitFor(t, events, "the keep-busy handoff", kind(KindHandoffOK))
+	approve(t, tc, p.Run, "ada", nil)
+	waitFor(t, events, "the approval", kind(KindSignoff))
+	// Several looks of the agent: nothing else may be written.
+	noneFor(t, events, 500*time.Millisecond, "a second setpoint file while one is in flight", kind(KindHandoff))
+	if files := handoffFiles(t, tc); len(files) != 1 {
+		t.Fatalf("handoff folder holds %v, capacity 1", files)
+	}
+	if r := Replay(readJournalT(t, tc)).Runs[p.Run]; r.Status != StatusReady {
+		t.Fatalf("approved run is %s, want ready (queued)", r.Status)
+	}
+	tc.writeResult(t, "res_"+busy.Run+".csv", resultFile("50,1"))
+	h := waitFor(t, events, "the queued handoff", kind(KindHandoffOK))
+	if h.Run != p.Run {
+		t.Fatalf("handed off %s, want the queued %s", h.Run, p.Run)
+	}
+}
+
+// An edit of the limits is recorded in words: which factor, which limit,
+// the old and the new value.
+func TestLimitsEditIsRecordedInWords(t *testing.T) {
+	tc := newTestCampaign(t, "6", defaultLimits)
+	events, _ := tc.startWith(t, Options{ConfigPath: tc.cfgPath})
+	waitFor(t, events, "a proposal", kind(KindProposal))
+	good, _ := os.ReadFile(tc.cfgPath)
+	time.Sleep(20 * time.Millisecond) // a new modification time
+	if err := os.WriteFile(tc.cfgPath, []byte(strings.Replace(string(good), "review_max = 75.0", "review_max = 70.0", 1)), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	waitAudit(t, tc, "temp: review max 75 degC → 70 degC")
 }

@@ -111,12 +111,16 @@ func (a *Agent) reloadConfig() error {
 		a.log.Error().Err(err).Msg("the edited config does not validate: no setpoint is written until it is fixed")
 		return a.auditNote("config refused", a.opt.ConfigPath, a.cfgBroken)
 	}
-	was := a.gate.Version()
+	was, wasCfg := a.gate.Version(), a.cfg.Safety
 	a.cfgBroken = ""
 	a.cfg.Safety = cfg.Safety
 	a.gate = safety.NewGate(cfg.Safety, a.cfg.Campaign.Factors)
 	a.log.Info().Str("limits_was", was).Str("limits", a.gate.Version()).Msg("config reloaded; the safety section applies now, other sections at the next start")
-	return a.auditNote("limits edited", a.opt.ConfigPath, fmt.Sprintf("limits version %s replaced %s", a.gate.Version(), was))
+	what := "no limit changed"
+	if ch := cfg.Safety.Changes(wasCfg, a.cfg.Campaign.Factors); len(ch) > 0 {
+		what = strings.Join(ch, "; ")
+	}
+	return a.auditNote("limits edited", a.opt.ConfigPath, fmt.Sprintf("%s (limits version %s replaced %s)", what, a.gate.Version(), was))
 }
 
 // auditEntry writes the audit trail's entry for a journal entry.
@@ -149,11 +153,14 @@ func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
 			ae.Meaning = "first of two approvals"
 		case e.Action == ActionApprove:
 			ae.Meaning = "approval"
-			if len(e.Point) > 0 {
-				ae.Action = "approve with edited values"
-			}
 		default:
 			ae.Meaning = "rejection"
+		}
+		if e.Action == ActionApprove && len(e.Point) > 0 {
+			ae.Action = "approve with edited values " + a.cfg.Campaign.Factors.Describe(e.Point)
+		}
+		if e.Replaces != "" {
+			ae.Meaning += "; replaces the first approval by " + e.Replaces
 		}
 	case KindResume:
 		ae.Actor, ae.Name, ae.Action, ae.Meaning, ae.Subject = e.By, e.Name, "all-stop cleared", "resumption", "all-stop"

@@ -124,6 +124,14 @@ func newTestCampaign(t *testing.T, maxRuns string, limits string) *testCampaign 
 	return &testCampaign{dir: dir, cfgPath: path, cfg: cfg}
 }
 
+// positions gives the campaign's one instrument n positions: a batch of n
+// proposals and a capacity of n setpoint files at once.
+func (tc *testCampaign) positions(n int) {
+	tc.cfg.Planner.Batch = n
+	tc.cfg.Instrument.Capacity = n
+	tc.cfg.Instruments[0].Capacity = n
+}
+
 // start runs an agent on the campaign with default options and returns a
 // channel of its journal entries and a stop function that waits for it.
 func (tc *testCampaign) start(t *testing.T) (<-chan Entry, func()) {

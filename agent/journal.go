@@ -83,6 +83,9 @@ type Entry struct {
 	Name string `json:"name,omitempty"`
 	// Partial marks the first of two approvals a move needs.
 	Partial bool `json:"partial,omitempty"`
+	// Replaces describes the earlier first approval (who, when, which
+	// values) that this approval took the place of, when asked to.
+	Replaces string `json:"replaces,omitempty"`
 	// Request is the id of the sign-off request, used once.
 	Request string `json:"request,omitempty"`
 	// Limits is the version of the limits a sign-off or decision was made

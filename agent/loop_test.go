@@ -266,11 +266,11 @@ func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 	}
 }
 
-// With planner.batch = 2 two setpoints are handed off before any result
-// comes, and they differ.
+// With planner.batch = 2 and an instrument of capacity 2, two setpoints are
+// handed off before any result comes, and they differ.
 func TestBatchOfTwoInFlight(t *testing.T) {
 	tc := newTestCampaign(t, "4", defaultLimits)
-	tc.cfg.Planner.Batch = 2
+	tc.positions(2)
 	events, stop := tc.start(t)
 	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
 	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))

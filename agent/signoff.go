@@ -15,6 +15,7 @@ import (
 	"unicode"
 
 	"benchtender/campaign"
+	"benchtender/safety"
 )
 
 // SignoffRequest is a person's decision on a held move, left in the
@@ -36,6 +37,10 @@ type SignoffRequest struct {
 	// Edit sets factor values of the held move before it is approved;
 	// the edited move passes the gate again.
 	Edit map[string]float64 `json:"edit,omitempty"`
+	// Replace lets an approval of other values than a pending first
+	// approval's take its place (recorded as replacing it); without it
+	// such an approval is refused, showing both sets of values.
+	Replace bool `json:"replace,omitempty"`
 	// Corrects is the audit entry a correction refers to.
 	Corrects int64 `json:"corrects,omitempty"`
 	// Limits and State bind the approval to the version of the limits
@@ -82,8 +87,8 @@ func (r SignoffRequest) Validate() error {
 			return fmt.Errorf("sign-off: edit %s=%v is not a factor and a finite value", k, v)
 		}
 	}
-	if r.Action != ActionApprove && len(r.Edit) > 0 {
-		return errors.New("sign-off: only an approval may edit values")
+	if r.Action != ActionApprove && (len(r.Edit) > 0 || r.Replace) {
+		return errors.New("sign-off: only an approval may edit values or replace a first approval")
 	}
 	if strings.TrimSpace(r.Reason) == "" {
 		return errors.New("sign-off: a reason (--reason) is required")
@@ -166,9 +171,31 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	case r.Status != StatusHeld:
 		return "", fmt.Errorf("sign-off: run %s is %s, not held", req.Run, r.Status)
 	}
-	for k := range req.Edit {
-		if cfg.Campaign.Factors.Index(k) < 0 {
-			return "", fmt.Errorf("sign-off: edit names %q, which is not a factor", k)
+	if req.Action == ActionApprove {
+		// Edits that repeat the held value are no edits (a form sends
+		// every factor).
+		for k, v := range req.Edit {
+			one, err := editedPoint(cfg.Campaign.Factors, r.Point, map[string]float64{k: v})
+			if err == nil && one.Equal(r.Point) {
+				delete(req.Edit, k)
+			}
+		}
+		// Told now rather than only in the daemon's log: a second
+		// approval that does not match the first, or edited values the
+		// gate refuses.
+		point, err := editedPoint(cfg.Campaign.Factors, r.Point, req.Edit)
+		if err != nil {
+			return "", fmt.Errorf("sign-off: %w", err)
+		}
+		if why := secondApproval(cfg.Campaign.Factors, r.First, req, point); why != "" {
+			return "", fmt.Errorf("sign-off of %s refused: %s", req.Run, why)
+		}
+		if len(req.Edit) > 0 {
+			gate := safety.NewGate(cfg.Safety, cfg.Campaign.Factors)
+			d := gate.Check(campaign.Setpoint{RunID: r.ID, Point: point}, st.lastOn(cfg.Instruments[0].Name, len(cfg.Instruments) == 1))
+			if d.Verdict == safety.Refuse {
+				return "", fmt.Errorf("sign-off of %s refused: the gate refuses the edited values %s: %s", req.Run, cfg.Campaign.Factors.Describe(point), d.Summary())
+			}
 		}
 	}
 	dir := inboxDir(cfg.Campaign.StateDir)
@@ -225,4 +252,27 @@ func pendingSignoffs(stateDir string) ([]inboxItem, error) {
 		out = append(out, it)
 	}
 	return out, nil
+}
+
+// WriteAllStop writes the all-stop file, which halts every handoff at the
+// daemon's next look; the file says who, when and why, and the daemon
+// records it. The command line and the console both stop this way.
+func WriteAllStop(cfg Config, by, reason string, now time.Time) (string, error) {
+	for _, s := range []string{by, reason} {
+		if strings.IndexFunc(s, unicode.IsControl) >= 0 {
+			return "", errors.New("all-stop: who and why must be one line of text")
+		}
+	}
+	if by == "" {
+		by = "(not given)"
+	}
+	if reason == "" {
+		reason = "(no reason given)"
+	}
+	file := allStopPath(cfg)
+	text := fmt.Sprintf("all-stop by %s at %s: %s\n", by, now.UTC().Format(time.RFC3339), reason)
+	if err := os.WriteFile(file, []byte(text), 0o644); err != nil {
+		return "", fmt.Errorf("all-stop: %w", err)
+	}
+	return file, nil
 }

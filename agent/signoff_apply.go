@@ -3,6 +3,7 @@ package agent
 import (
 	"fmt"
 	"os"
+	"time"
 
 	"benchtender/campaign"
 	"benchtender/safety"
@@ -83,17 +84,11 @@ func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
 	if req.Action == ActionReject {
 		return e, ""
 	}
-	point := r.Point
+	point, err := editedPoint(a.cfg.Campaign.Factors, r.Point, req.Edit)
+	if err != nil {
+		return Entry{}, err.Error()
+	}
 	if len(req.Edit) > 0 {
-		point = r.Point.Clone()
-		for name, v := range req.Edit {
-			i := a.cfg.Campaign.Factors.Index(name)
-			if i < 0 {
-				return Entry{}, fmt.Sprintf("edit names %q, which is not a factor", name)
-			}
-			point[i] = v
-		}
-		point = roundPoint(a.cfg.Campaign.Factors, point)
 		if v := a.planner.Violated(point); v != "" {
 			return Entry{}, fmt.Sprintf("the edited move breaks constraint %s", v)
 		}
@@ -106,29 +101,59 @@ func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
 		return Entry{}, "the gate refuses the move: " + d.Summary()
 	}
 	e.Decision = &d
-	if d.NeedsTwo(a.cfg.Safety) {
-		for _, by := range r.Approvers {
-			if by == req.By {
-				return Entry{}, fmt.Sprintf("%s approved this move already; a second, different person must approve it", req.By)
-			}
-		}
-		if len(r.Approvers) == 0 {
-			e.Partial = true
-		} else if !samePoint(r.PartialPoint, point) {
-			return Entry{}, fmt.Sprintf("the first approver signed %v, this approval %v: both must sign the same values", r.PartialPoint, point)
-		}
+	// A pending first approval is never dropped silently: a second
+	// approval signs the same values, or says it replaces the first.
+	first := r.First
+	if why := secondApproval(a.cfg.Campaign.Factors, first, req, point); why != "" {
+		return Entry{}, why
+	}
+	if first != nil && !first.Point.Equal(point) {
+		e.Replaces = first.Describe(a.cfg.Campaign.Factors) + ", signing " + a.cfg.Campaign.Factors.Describe(first.Point)
+		first = nil
+	}
+	if first == nil && d.NeedsTwo(a.cfg.Safety) {
+		e.Partial = true
 	}
 	return e, ""
 }
 
-func samePoint(a, b campaign.Point) bool {
-	if len(a) != len(b) {
-		return false
+// secondApproval says why an approval cannot follow the pending first
+// approval (nil when there is none), or "".
+func secondApproval(space campaign.Space, first *Approval, req SignoffRequest, point campaign.Point) string {
+	if first == nil {
+		return ""
 	}
-	for i := range a {
-		if a[i] != b[i] {
-			return false
+	if !first.Point.Equal(point) {
+		if req.Replace {
+			return ""
 		}
+		return fmt.Sprintf("the first approval, by %s, signs %s; this approval signs %s. Approve those same values to complete it, or approve again with replace set (--replace; the console's replace box) to start a new first approval in its place",
+			first.Describe(space), space.Describe(first.Point), space.Describe(point))
 	}
-	return true
+	if first.By == req.By {
+		return fmt.Sprintf("%s gave the first approval of this move; a second, different person must approve it", req.By)
+	}
+	return ""
+}
+
+// editedPoint is the held setpoint with a sign-off's edits applied and
+// rounded to the factors' levels.
+func editedPoint(space campaign.Space, held campaign.Point, edit map[string]float64) (campaign.Point, error) {
+	if len(edit) == 0 {
+		return held, nil
+	}
+	point := held.Clone()
+	for name, v := range edit {
+		i := space.Index(name)
+		if i < 0 {
+			return nil, fmt.Errorf("edit names %q, which is not a factor", name)
+		}
+		point[i] = v
+	}
+	return roundPoint(space, point), nil
+}
+
+// Describe says who gave the approval and when.
+func (f *Approval) Describe(space campaign.Space) string {
+	return fmt.Sprintf("%s (%s) at %s", f.By, f.Name, f.Time.UTC().Format(time.RFC3339))
 }

@@ -41,8 +41,9 @@ type Run struct {
 	Approvers            []string
 	// ApprovedUnder is the limits version of the approval.
 	ApprovedUnder string
-	// PartialPoint is the setpoint the first of two approvers signed.
-	PartialPoint campaign.Point
+	// First is the first of two approvals a move needs, while the second
+	// is awaited: who gave it, when, and the exact values it approves.
+	First *Approval
 	// Alternative is the best proposal inside every limit, for a held
 	// move.
 	Alternative campaign.Point
@@ -56,6 +57,17 @@ type Run struct {
 	// Instrument is the instrument the run was handed off to ("" in
 	// journals from before instruments were named: the first one).
 	Instrument string
+}
+
+// Approval is one person's approval of a held move.
+type Approval struct {
+	By, Name, Reason string
+	Time             time.Time
+	// Point is the setpoint approved (the held one, or edited values).
+	Point campaign.Point
+	// Replaces says which earlier first approval this one took the place
+	// of ("" when none).
+	Replaces string
 }
 
 // State is the campaign as replayed from its journal.
@@ -153,16 +165,19 @@ func (s *State) apply(e Entry) {
 		}
 		r := s.run(e.Run)
 		r.SignedBy, r.SignReason = e.By, e.Reason
+		if e.Replaces != "" {
+			r.Approvers, r.First = nil, nil // the earlier first approval no longer counts
+		}
 		switch {
 		case e.Action == ActionApprove && e.Partial:
 			r.Approvers = append(r.Approvers, e.By)
-			r.PartialPoint = r.Point
+			r.First = &Approval{By: e.By, Name: e.Name, Reason: e.Reason, Time: e.Time, Point: r.Point, Replaces: e.Replaces}
 			if len(e.Point) > 0 {
-				r.PartialPoint = e.Point
+				r.First.Point = e.Point
 			}
 		case e.Action == ActionApprove:
 			r.Approvers = append(r.Approvers, e.By)
-			r.Status, r.ApprovedUnder = StatusReady, e.Limits
+			r.Status, r.ApprovedUnder, r.First = StatusReady, e.Limits, nil
 			if len(e.Point) > 0 {
 				r.Point = e.Point // approved with edited values
 			}
@@ -176,7 +191,7 @@ func (s *State) apply(e Entry) {
 		s.run(e.Run).Status = StatusExpired
 	case KindRegate:
 		r := s.run(e.Run)
-		r.Status, r.Approvers, r.ApprovedUnder, r.PartialPoint = StatusHeld, nil, "", nil
+		r.Status, r.Approvers, r.ApprovedUnder, r.First = StatusHeld, nil, "", nil
 		if e.Decision != nil {
 			r.Decision = *e.Decision
 		}

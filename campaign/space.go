@@ -106,6 +106,25 @@ func (f Factor) Format(v float64) string {
 	return strconv.FormatFloat(v, 'g', -1, 64)
 }
 
+// Parse reads a value as a person writes it: a number, or a categorical
+// factor's category name.
+func (f Factor) Parse(text string) (float64, error) {
+	text = strings.TrimSpace(text)
+	if f.Kind == Categorical {
+		for i, c := range f.Categories {
+			if c == text {
+				return float64(i), nil
+			}
+		}
+		return 0, fmt.Errorf("%s: %q is not one of its categories %s", f.Name, text, strings.Join(f.Categories, ", "))
+	}
+	v, err := strconv.ParseFloat(text, 64)
+	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0, fmt.Errorf("%s: %q is not a number", f.Name, text)
+	}
+	return v, nil
+}
+
 // Display renders a value for people: 4 significant digits for a
 // continuous factor, the exact level, integer or category otherwise.
 func (f Factor) Display(v float64) string {
@@ -113,6 +132,23 @@ func (f Factor) Display(v float64) string {
 		return strconv.FormatFloat(v, 'g', 4, 64)
 	}
 	return f.Format(v)
+}
+
+// Describe renders a point for people: "name=value unit, ...", each value
+// as Display gives it.
+func (s Space) Describe(p Point) string {
+	parts := make([]string, 0, len(p))
+	for i, f := range s {
+		if i >= len(p) {
+			break
+		}
+		part := f.Name + "=" + f.Display(p[i])
+		if f.Unit != "" {
+			part += " " + f.Unit
+		}
+		parts = append(parts, part)
+	}
+	return strings.Join(parts, ", ")
 }
 
 // Validate reports what is wrong with the factor.
@@ -275,6 +311,19 @@ func (s Space) FromUnit(dst, u Point) Point {
 
 // Point is one value per factor, in the space's order.
 type Point []float64
+
+// Equal reports whether q has the same values as p, exactly.
+func (p Point) Equal(q Point) bool {
+	if len(p) != len(q) {
+		return false
+	}
+	for i := range p {
+		if p[i] != q[i] {
+			return false
+		}
+	}
+	return true
+}
 
 // Finite reports whether every coordinate is a finite number.
 func (p Point) Finite() bool {

@@ -156,3 +156,142 @@ func TestBrowserFitsATablet(t *testing.T) {
 		}
 	}
 }
+
+// The all-stop button halts every handoff with the reason recorded, as
+// the all-stop command does; the page then offers a resume by name and
+// reason, which the running campaign records.
+func TestBrowserAllStopAndResume(t *testing.T) {
+	ctx := newBrowser(t)
+	f := newFixture(t, "", nil)
+	ctx, cancel := within(ctx, 60*time.Second)
+	defer cancel()
+	stop := `form[action="/all-stop"]`
+	if err := chromedp.Do(ctx,
+		chromedp.Navigate(f.web.URL+"/"),
+		chromedp.WaitVisible(chromedp.CSS(stop)),
+		chromedp.Click(chromedp.CSS(stop+` button`)),
+		chromedp.WaitVisible(chromedp.CSS(".problem")),
+	); err != nil {
+		t.Fatalf("all-stop without a reason: %v", err)
+	}
+	if _, err := os.Stat(agent.AllStopPath(f.cfg)); err == nil {
+		t.Fatal("an all-stop without a reason was written")
+	}
+	if err := chromedp.Do(ctx,
+		chromedp.SendKeys(chromedp.CSS(stop+` input[name="reason"]`), "coolant leak under the bench"),
+		chromedp.Click(chromedp.CSS(stop+` button`)),
+		chromedp.WaitVisible(chromedp.CSS(".notice")),
+	); err != nil {
+		t.Fatalf("all-stop: %v", err)
+	}
+	shot(t, ctx, "page-all-stop")
+	e := f.waitFor(t, "the all-stop", func(e agent.Entry) bool { return e.Kind == agent.KindAllStop })
+	if !strings.Contains(e.Reason, "coolant leak under the bench") {
+		t.Errorf("all-stop recorded as %q", e.Reason)
+	}
+	resume := `form[action="/resume"]`
+	if err := chromedp.Do(ctx,
+		chromedp.Navigate(f.web.URL+"/"),
+		chromedp.WaitVisible(chromedp.CSS(resume)),
+		chromedp.SendKeys(chromedp.CSS(resume+` input[name="by"]`), "ada"),
+		chromedp.SendKeys(chromedp.CSS(resume+` input[name="name"]`), "Ada L."),
+		chromedp.SendKeys(chromedp.CSS(resume+` input[name="reason"]`), "leak fixed, floor dry"),
+		chromedp.Click(chromedp.CSS(resume+` button`)),
+		chromedp.WaitVisible(chromedp.CSS(".notice")),
+	); err != nil {
+		t.Fatalf("resume: %v", err)
+	}
+	r := f.waitFor(t, "the resume", func(e agent.Entry) bool { return e.Kind == agent.KindResume })
+	if r.By != "ada" || r.Name != "Ada L." || r.Reason != "leak fixed, floor dry" {
+		t.Errorf("resumed %+v", r)
+	}
+}
+
+// Approving with edited values: values the gate refuses are refused on
+// screen and nothing is signed; a move of a two-person kind shows the
+// pending first approval (who, when, the values) on the holds page, and a
+// second person's approval of those values hands them off.
+func TestBrowserEditOnApproveAndFirstApproval(t *testing.T) {
+	ctx := newBrowser(t)
+	f := newFixture(t, "\n[console]\nlisten = \"127.0.0.1:0\"\n\n[safety]\ntwo_person = [\"review_min\"]\n", nil)
+	ctx, cancel := within(ctx, 60*time.Second)
+	defer cancel()
+	form := "#hold-" + f.held + " form"
+	sign := func(by, name, reason string, then ...chromedp.Action[chromedp.Void]) []chromedp.Action[chromedp.Void] {
+		return append([]chromedp.Action[chromedp.Void]{
+			chromedp.SendKeys(chromedp.CSS(form+` input[name="by"]`), by),
+			chromedp.SendKeys(chromedp.CSS(form+` input[name="name"]`), name),
+			chromedp.SendKeys(chromedp.CSS(form+` input[name="reason"]`), reason),
+		}, then...)
+	}
+	// Edited past the hard limit: refused on screen.
+	if err := chromedp.Do(ctx,
+		chromedp.Navigate(f.web.URL+"/holds"),
+		chromedp.WaitVisible(chromedp.CSS(form)),
+		chromedp.SetValue(chromedp.CSS(form+` input[name="set_temp"]`), "85"),
+	); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, sign("ada", "Ada L.", "hotter",
+		chromedp.Click(chromedp.CSS(form+` button[value="approve"]`)),
+		chromedp.WaitVisible(chromedp.CSS(".problem")))...,
+	); err != nil {
+		t.Fatalf("edit past the hard limit: %v", err)
+	}
+	msg, _ := chromedp.Run(ctx, chromedp.Text(chromedp.CSS(".problem")))
+	if !strings.Contains(msg, "gate refuses the edited values") || len(f.inbox(t)) != 0 {
+		t.Fatalf("on screen %q, inbox %v", msg, f.inbox(t))
+	}
+	// Edited to a flow of 2.5 (still held by review_min on temp, so two
+	// people): the first approval.
+	if err := chromedp.Do(ctx,
+		chromedp.Navigate(f.web.URL+"/holds"),
+		chromedp.WaitVisible(chromedp.CSS(form)),
+		chromedp.SetValue(chromedp.CSS(form+` input[name="set_flow"]`), "2.5"),
+	); err != nil {
+		t.Fatal(err)
+	}
+	if err := chromedp.Do(ctx, sign("ada", "Ada L.", "slower feed",
+		chromedp.Click(chromedp.CSS(form+` button[value="approve"]`)),
+		chromedp.WaitVisible(chromedp.CSS(".notice")))...,
+	); err != nil {
+		t.Fatalf("first approval: %v", err)
+	}
+	first := f.waitFor(t, "the first approval", func(e agent.Entry) bool { return e.Kind == agent.KindSignoff })
+	if !first.Partial || first.Point[1] != 2.5 {
+		t.Fatalf("first approval %+v", first)
+	}
+	if err := chromedp.Do(ctx,
+		chromedp.Navigate(f.web.URL+"/holds"),
+		chromedp.WaitVisible(chromedp.CSS("#hold-"+f.held+" .first")),
+	); err != nil {
+		t.Fatalf("pending first approval: %v", err)
+	}
+	pending, err := chromedp.Run(ctx, chromedp.Text(chromedp.CSS("#hold-"+f.held+" .first")))
+	if err != nil {
+		t.Fatal(err)
+	}
+	value, err := chromedp.Run(ctx, chromedp.Value(chromedp.CSS(form+` input[name="set_flow"]`)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	shot(t, ctx, "page-holds-first-approval")
+	for _, want := range []string{"First of two approvals", "ada (Ada L.)", "flow 2.5", "edited"} {
+		if !strings.Contains(pending, want) {
+			t.Errorf("pending approval reads %q, lacks %q", pending, want)
+		}
+	}
+	if value != "2.5" {
+		t.Errorf("the form starts from flow %q, want the first approval's 2.5", value)
+	}
+	if err := chromedp.Do(ctx, sign("bo", "Bo K.", "second check",
+		chromedp.Click(chromedp.CSS(form+` button[value="approve"]`)),
+		chromedp.WaitVisible(chromedp.CSS(".notice")))...,
+	); err != nil {
+		t.Fatalf("second approval: %v", err)
+	}
+	h := f.waitFor(t, "the handoff", func(e agent.Entry) bool { return e.Kind == agent.KindHandoffOK && e.Run == f.held })
+	if h.Point[1] != 2.5 {
+		t.Errorf("handed off %v, want the flow both signed", h.Point)
+	}
+}

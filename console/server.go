@@ -163,6 +163,8 @@ func (s *Server) Handler() http.Handler {
 	mux.HandleFunc("GET /runs", s.page("runs"))
 	mux.HandleFunc("GET /holds", s.page("holds"))
 	mux.HandleFunc("POST /holds/{run}", s.signoff)
+	mux.HandleFunc("POST /all-stop", s.allStop)
+	mux.HandleFunc("POST /resume", s.resume)
 	mux.HandleFunc("GET /model", s.page("model"))
 	mux.HandleFunc("GET /audit", s.page("audit"))
 	mux.HandleFunc("GET /static/style.css", s.style)
@@ -318,6 +320,12 @@ func (s *Server) render(w http.ResponseWriter, r *http.Request, name string, sta
 		return
 	}
 	d := pageData{Page: name, V: v, User: userOf(r), SignIn: s.users != nil, FormToken: s.sess.formToken(clientOf(r)), Problem: problem, Form: form}
+	switch sent := r.URL.Query().Get("sent"); {
+	case sent == "all-stop" && name == "overview":
+		d.Notice = "All-stop file written: every handoff halts at the campaign's next look (within a second or two)."
+	case sent == "resume" && name == "overview":
+		d.Notice = "Your resume is in the campaign's inbox; handoffs resume once the running campaign records it (within a second or two)."
+	}
 	if run := r.URL.Query().Get("sent"); run != "" && name == "holds" {
 		for _, row := range v.Runs {
 			if row.ID == run {
@@ -385,12 +393,36 @@ func (s *Server) signoff(w http.ResponseWriter, r *http.Request) {
 		refuse("choose approve or reject")
 		return
 	}
+	cfg, problem := s.signingConfig()
+	if problem != "" {
+		refuse(problem)
+		return
+	}
 	req := agent.SignoffRequest{Run: run, Action: action, Reason: strings.TrimSpace(r.PostForm.Get("reason")),
 		By: strings.TrimSpace(r.PostForm.Get("by")), Name: strings.TrimSpace(r.PostForm.Get("name"))}
 	if u := userOf(r); u != nil {
 		// Signed in: the signature is the token's person, whatever the
 		// form says.
 		req.By, req.Name = u.ID, u.Name
+	}
+	if action == agent.ActionApprove {
+		// The form sends every factor's value; the ones that differ
+		// from the held move are the edit.
+		req.Edit = map[string]float64{}
+		for _, f := range cfg.Campaign.Factors {
+			text := strings.TrimSpace(r.PostForm.Get("set_" + f.Name))
+			form["set_"+f.Name] = text
+			if text == "" {
+				continue
+			}
+			v, err := f.Parse(text)
+			if err != nil {
+				refuse("nothing signed: " + err.Error())
+				return
+			}
+			req.Edit[f.Name] = v
+		}
+		req.Replace = r.PostForm.Get("replace") == "1"
 	}
 	switch {
 	case req.By == "" || req.Name == "":
@@ -400,21 +432,83 @@ func (s *Server) signoff(w http.ResponseWriter, r *http.Request) {
 		refuse(fmt.Sprintf("the %s of %s needs a reason", orWord(action), run))
 		return
 	}
-	cfg := s.cfg
-	if s.opt.ConfigPath != "" {
-		c, err := agent.LoadConfig(s.opt.ConfigPath, nil)
-		if err != nil {
-			refuse("the config file does not validate now, so nothing can be signed: " + strings.ReplaceAll(err.Error(), "\n", "; "))
-			return
-		}
-		cfg = c
-	}
 	if _, err := agent.RequestSignoff(cfg, req); err != nil {
 		refuse(err.Error())
 		return
 	}
 	s.log.Info().Str("run", run).Str("action", action).Str("by", req.By).Msg("console sign-off left in the inbox")
 	http.Redirect(w, r, "/holds?sent="+run+"&action="+action, http.StatusSeeOther)
+}
+
+// signingConfig is the config a sign-off is checked against: the file as
+// it is now, or why nothing can be signed.
+func (s *Server) signingConfig() (agent.Config, string) {
+	if s.opt.ConfigPath == "" {
+		return s.cfg, ""
+	}
+	c, err := agent.LoadConfig(s.opt.ConfigPath, nil)
+	if err != nil {
+		return agent.Config{}, "the config file does not validate now, so nothing can be signed: " + strings.ReplaceAll(err.Error(), "\n", "; ")
+	}
+	return c, ""
+}
+
+// allStop writes the all-stop file, as the all-stop command does: anyone
+// may stop, with a reason.
+func (s *Server) allStop(w http.ResponseWriter, r *http.Request) {
+	if !s.postedForm(w, r) {
+		return
+	}
+	by, reason := strings.TrimSpace(r.PostForm.Get("by")), strings.TrimSpace(r.PostForm.Get("reason"))
+	if u := userOf(r); u != nil {
+		by = u.ID + " (" + u.Name + ")"
+	}
+	if reason == "" {
+		s.render(w, r, "overview", http.StatusUnprocessableEntity, "not stopped: say why (the reason is recorded with the all-stop)", nil)
+		return
+	}
+	if by == "" {
+		by = "(not given)"
+	}
+	file, err := agent.WriteAllStop(s.currentConfig(), by+" in the console", reason, s.opt.Now())
+	if err != nil {
+		s.log.Error().Err(err).Msg("console all-stop failed")
+		s.render(w, r, "overview", http.StatusInternalServerError, "NOT STOPPED: "+err.Error()+". Use the instrument's own stop, or the all-stop command.", nil)
+		return
+	}
+	s.log.Warn().Str("file", file).Str("by", by).Str("reason", reason).Msg("all-stop written from the console")
+	http.Redirect(w, r, "/?sent=all-stop", http.StatusSeeOther)
+}
+
+// resume clears the all-stop by a named person with a reason, as the
+// resume command does.
+func (s *Server) resume(w http.ResponseWriter, r *http.Request) {
+	if !s.postedForm(w, r) {
+		return
+	}
+	refuse := func(why string) {
+		s.render(w, r, "overview", http.StatusUnprocessableEntity, "not resumed: "+why, nil)
+	}
+	cfg, problem := s.signingConfig()
+	if problem != "" {
+		refuse(problem)
+		return
+	}
+	req := agent.SignoffRequest{Action: agent.ActionResume, Reason: strings.TrimSpace(r.PostForm.Get("reason")),
+		By: strings.TrimSpace(r.PostForm.Get("by")), Name: strings.TrimSpace(r.PostForm.Get("name"))}
+	if u := userOf(r); u != nil {
+		req.By, req.Name = u.ID, u.Name
+	}
+	if req.By == "" || req.Name == "" || req.Reason == "" {
+		refuse("resuming needs your user id, printed name and a reason")
+		return
+	}
+	if _, err := agent.RequestSignoff(cfg, req); err != nil {
+		refuse(err.Error())
+		return
+	}
+	s.log.Info().Str("by", req.By).Msg("console resume left in the inbox")
+	http.Redirect(w, r, "/?sent=resume", http.StatusSeeOther)
 }
 
 func (s *Server) loginPage(w http.ResponseWriter, r *http.Request) {
@@ -519,22 +613,37 @@ func funcs() template.FuncMap {
 			// policy forbids inline styles, an image document keeps its own.
 			return template.URL("data:image/svg+xml;base64," + base64.StdEncoding.EncodeToString(b))
 		},
-		"when": func(t time.Time) string {
-			if t.IsZero() {
+		// when gives a time to the second, in UTC and saying so; the
+		// audit trail's times come as RFC 3339 text.
+		"when": func(v any) string {
+			t, ok := v.(time.Time)
+			if s, isText := v.(string); isText {
+				var err error
+				if t, err = time.Parse(time.RFC3339Nano, s); err != nil {
+					return s
+				}
+				ok = true
+			}
+			if !ok || t.IsZero() {
 				return "never"
 			}
-			return t.UTC().Format("2006-01-02 15:04:05Z")
+			return t.UTC().Format("2006-01-02 15:04:05 UTC")
 		},
-		"pct":    func(f float64) string { return fmt.Sprintf("%.0f%%", 100*f) },
-		"num":    func(f float64) string { return fmt.Sprintf("%.4g", f) },
-		"nan":    func(f float64) bool { return f != f },
-		"join":   strings.Join,
-		"index1": func(i int) int { return i + 1 },
-		"val": func(m map[string]string, k string) string {
-			if m == nil {
-				return ""
+		"pct":  func(f float64) string { return fmt.Sprintf("%.0f%%", 100*f) },
+		"num":  func(f float64) string { return fmt.Sprintf("%.4g", f) },
+		"nan":  func(f float64) bool { return f != f },
+		"join": strings.Join,
+		"inc":  func(i int) int { return i + 1 },
+		// formval is what a refused form sent for run, so that nothing
+		// typed is lost, or the default.
+		"formval": func(m map[string]string, run, k, def string) string {
+			if m == nil || m["run"] != run {
+				return def
 			}
-			return m[k]
+			if v, ok := m[k]; ok {
+				return v
+			}
+			return def
 		},
 	}
 }

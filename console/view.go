@@ -25,11 +25,20 @@ type View struct {
 	Factors   campaign.Space
 	Response  campaign.Response
 	Limits    string // limits version sign-offs are bound to
-	Budget    int
-	Proposals int
-	Handoffs  int
-	Counts    []Count
-	Halts     []string
+	// LimitsInWords are the limits and rules in force, one line each.
+	LimitsInWords []string
+	// AllStop, when not empty, says why every handoff is halted.
+	AllStop string
+	// Queued are runs cleared for handoff that wait for room on an
+	// instrument, in the order they will go out.
+	Queued []string
+	// Quarantined are result files refused, with why.
+	Quarantined []Quarantined
+	Budget      int
+	Proposals   int
+	Handoffs    int
+	Counts      []Count
+	Halts       []string
 	// Stopping says whether proposals stopped and why; StopRule says what
 	// rule is configured.
 	Stopping, StopRule string
@@ -80,8 +89,36 @@ type HeldRow struct {
 	Reasons     []string
 	Alternative []Value
 	NeedsTwo    bool
-	Approvers   []string
 	Lapses      time.Time
+	// First is a pending first of two approvals.
+	First *FirstApproval
+	// Edit are the values the approval form starts from: the first
+	// approval's when there is one, else the held move's.
+	Edit []EditValue
+}
+
+// FirstApproval is the first of two approvals, shown wherever the hold is.
+type FirstApproval struct {
+	By, Name, Reason string
+	Time             time.Time
+	Setpoint         []Value
+	// Edited says the values are not the ones proposed.
+	Edited   bool
+	Replaces string
+}
+
+// EditValue is one factor's field in the approval form: Text reads back
+// to the exact value; Choices are a categorical factor's categories.
+type EditValue struct {
+	Factor, Text, Unit string
+	Choices            []string
+}
+
+// Quarantined is a result file that was refused, with why.
+type Quarantined struct {
+	Time         time.Time
+	File, Reason string
+	Copy         string
 }
 
 // Instrument is what the folders say about the instrument and the watcher.
@@ -163,7 +200,20 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 	}
 	for _, r := range st.Held() {
 		h := HeldRow{RunRow: runRow(space, cfg.Campaign.Response, r), NeedsTwo: r.Decision.NeedsTwo(cfg.Safety),
-			Approvers: r.Approvers, Lapses: r.Proposed.Add(cfg.Safety.Holds())}
+			Lapses: r.Proposed.Add(cfg.Safety.Holds())}
+		start := r.Point
+		if f := r.First; f != nil {
+			h.First = &FirstApproval{By: f.By, Name: f.Name, Reason: f.Reason, Time: f.Time, Setpoint: values(space, f.Point),
+				Edited: !f.Point.Equal(r.Point), Replaces: f.Replaces}
+			start = f.Point
+		}
+		for i, f := range space {
+			ev := EditValue{Factor: f.Name, Text: f.Format(start[i]), Unit: f.Unit}
+			if f.Kind == campaign.Categorical {
+				ev.Choices = f.Categories
+			}
+			h.Edit = append(h.Edit, ev)
+		}
 		for _, why := range r.Decision.Reasons {
 			h.Reasons = append(h.Reasons, why.Message)
 		}
@@ -171,6 +221,16 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 			h.Alternative = values(space, r.Alternative)
 		}
 		v.Held = append(v.Held, h)
+	}
+	v.LimitsInWords = cfg.Safety.Describe(space)
+	v.AllStop = st.AllStop
+	for _, r := range st.Ready() {
+		v.Queued = append(v.Queued, r.ID)
+	}
+	for _, e := range entries {
+		if e.Kind == agent.KindQuarantine {
+			v.Quarantined = append(v.Quarantined, Quarantined{Time: e.Time, File: e.File, Reason: e.Reason, Copy: e.Copy})
+		}
 	}
 	if b := st.Best(cfg.Campaign.Response); b != nil {
 		row := runRow(space, cfg.Campaign.Response, b)

@@ -41,8 +41,10 @@ type Planner struct {
 	hasCategorical, hasDiscrete bool
 	encDim                      int // inputs of the surrogate
 
-	// region, set on a copy for one request, confines proposals.
-	region [][2]float64
+	// region and allowed, set on a copy for one request, confine
+	// proposals.
+	region  [][2]float64
+	allowed func(campaign.Point) bool
 }
 
 // New returns a planner for the campaign. It panics on an invalid config,
@@ -106,6 +108,9 @@ type Request struct {
 	// intervals (in factor units), for example the review limits while a
 	// move outside them waits for sign-off.
 	Region [][2]float64
+	// Allowed, when not nil, is a further test every proposal must pass
+	// (in factor units), for example the safety gate's verdict.
+	Allowed func(campaign.Point) bool
 	// Aside are the regions set aside so far (stall.go), as the planner
 	// returned them in Result.NewAside, oldest first.
 	Aside []Aside
@@ -156,12 +161,12 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	if err := ctx.Err(); err != nil {
 		return Result{}, err
 	}
-	if req.Region != nil {
-		if len(req.Region) != p.space.Dim() {
+	if req.Region != nil || req.Allowed != nil {
+		if req.Region != nil && len(req.Region) != p.space.Dim() {
 			return Result{}, fmt.Errorf("planner: region has %d intervals for %d factors", len(req.Region), p.space.Dim())
 		}
 		q := *p
-		q.region = req.Region
+		q.region, q.allowed = req.Region, req.Allowed
 		p = &q
 	}
 	rng := rand.New(rand.NewPCG(p.seed, uint64(req.Index)+1))
@@ -590,6 +595,14 @@ func (p *Planner) randomUnit(rng *rand.Rand, tries int, ok func(campaign.Point) 
 func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
 	d := p.space.Dim()
 	cands := LatinHypercube(p.cfg.Candidates, d, rng)
+	if lo, hi := p.regionUnit(); lo != nil {
+		// Confined to a region: the candidates fill it, not the box.
+		for _, c := range cands {
+			for k := range c {
+				c[k] = lo[k] + c[k]*(hi[k]-lo[k])
+			}
+		}
+	}
 	// Candidates and every refined point are snapped to valid values and
 	// must satisfy the constraints.
 	inner := score

@@ -104,15 +104,42 @@ func (p *Planner) Violated(pt campaign.Point) string {
 }
 
 // feasibleUnit reports whether the unit-box point satisfies every
-// constraint and lies in the request's region, if any.
+// constraint, lies in the request's region, if any, and passes its
+// Allowed test, if any.
 func (p *Planner) feasibleUnit(u []float64) bool {
-	if p.region != nil {
-		pt := p.space.FromUnit(nil, u)
-		for k, r := range p.region {
-			if pt[k] < r[0] || pt[k] > r[1] {
-				return false
-			}
+	if p.region == nil && p.allowed == nil && len(p.cons.progs) == 0 {
+		return true
+	}
+	pt := p.space.FromUnit(nil, u)
+	for k, r := range p.region {
+		if pt[k] < r[0] || pt[k] > r[1] {
+			return false
 		}
 	}
-	return len(p.cons.progs) == 0 || p.Violated(p.space.FromUnit(nil, u)) == ""
+	if p.allowed != nil && !p.allowed(pt) {
+		return false
+	}
+	return len(p.cons.progs) == 0 || p.Violated(pt) == ""
+}
+
+// regionUnit is the request's region in the unit box (nil without one).
+func (p *Planner) regionUnit() (lo, hi []float64) {
+	if p.region == nil {
+		return nil, nil
+	}
+	d := p.space.Dim()
+	lo, hi = make([]float64, d), make([]float64, d)
+	for k, f := range p.space {
+		span := f.Max - f.Min
+		if span <= 0 {
+			lo[k], hi[k] = 0, 1
+			continue
+		}
+		lo[k] = math.Max(0, (p.region[k][0]-f.Min)/span)
+		hi[k] = math.Min(1, (p.region[k][1]-f.Min)/span)
+		if hi[k] < lo[k] {
+			lo[k], hi[k] = 0, 1 // an empty region: the feasibility test says no
+		}
+	}
+	return lo, hi
 }

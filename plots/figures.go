@@ -213,8 +213,12 @@ func Pair(fx, fy campaign.Factor, xs, ys []float64, runs []campaign.Trial, kx, k
 		return Figure{}, fmt.Errorf("plots: optimum in %s and %s: %d draws", fx.Name, fy.Name, len(xs))
 	}
 	d := kde2(fx, fy, xs, ys, 48)
+	cm, err := densityMap()
+	if err != nil {
+		return Figure{}, fmt.Errorf("plots: %w", err)
+	}
 	p := newPlot("Where the optimum is: "+fx.Name+" and "+fy.Name, axisLabel(fx.Name, fx.Unit), axisLabel(fy.Name, fy.Unit))
-	hm := plotter.NewHeatMap(d, ramp{})
+	hm := plotter.NewHeatMap(d, cm.Palette(64))
 	hm.Min, hm.Max = 0, d.Max()
 	p.Add(hm)
 	if len(runs) > 0 {
@@ -229,9 +233,9 @@ func Pair(fx, fy campaign.Factor, xs, ys []float64, runs []campaign.Trial, kx, k
 		p.Add(s)
 	}
 	p.X.Min, p.X.Max, p.Y.Min, p.Y.Max = fx.Min, fx.Max, fy.Min, fy.Max
-	svg, err := render(p)
+	svg, err := renderWithScale(p, cm, "probability density, share of its peak")
 	return Figure{Name: "optimum-" + fx.Name + "-" + fy.Name, Title: "Where the optimum is: " + fx.Name + " and " + fy.Name, SVG: svg,
-		Caption: fmt.Sprintf("Darker means the optimum more probably lies there, from %d functions drawn from the model; teal dots: the runs so far.", len(xs))}, err
+		Caption: fmt.Sprintf("Darker means the optimum more probably lies there (the scale: density as a share of its peak), from %d functions drawn from the model; teal dots: the runs so far.", len(xs))}, err
 }
 
 // BestValue plots the distribution of the best achievable response, one

@@ -17,9 +17,11 @@ import (
 	"strings"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/palette"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgsvg"
 
 	"benchtender/campaign"
 )
@@ -94,6 +96,50 @@ func render(p *plot.Plot) ([]byte, error) {
 		out = out[i:]
 	}
 	return out, nil
+}
+
+// renderWithScale writes the plot as SVG with a vertical colour scale of
+// cm at its right, labelled.
+func renderWithScale(p *plot.Plot, cm palette.ColorMap, label string) ([]byte, error) {
+	bar := newPlot("", "", label)
+	bar.Add(scaleBar{cm})
+	bar.X.Min, bar.X.Max, bar.Y.Min, bar.Y.Max = 0, 1, cm.Min(), cm.Max()
+	bar.HideX()
+	bar.Title.Text = " " // the same top margin as the plot's title
+	bar.Title.TextStyle.Font.Size = p.Title.TextStyle.Font.Size
+	c := vgsvg.New(width, height)
+	dc := draw.New(c)
+	const barWidth = 0.85 * vg.Inch
+	p.Draw(draw.Crop(dc, 0, -barWidth, 0, 0))
+	bar.Draw(draw.Crop(dc, width-barWidth+0.1*vg.Inch, 0, 0, 0))
+	var b bytes.Buffer
+	if _, err := c.WriteTo(&b); err != nil {
+		return nil, fmt.Errorf("plots: %w", err)
+	}
+	out := b.Bytes()
+	if i := bytes.Index(out, []byte("<svg")); i >= 0 {
+		out = out[i:]
+	}
+	return out, nil
+}
+
+// scaleBar draws a colour map as a column of filled bands (vector shapes:
+// an embedded raster image is drawn one pixel wide by some SVG viewers).
+type scaleBar struct{ cm palette.ColorMap }
+
+func (b scaleBar) Plot(c draw.Canvas, p *plot.Plot) {
+	trX, trY := p.Transforms(&c)
+	const n = 64
+	lo, hi := b.cm.Min(), b.cm.Max()
+	for i := 0; i < n; i++ {
+		v0, v1 := lo+(hi-lo)*float64(i)/n, lo+(hi-lo)*float64(i+1)/n
+		col, err := b.cm.At((v0 + v1) / 2)
+		if err != nil {
+			continue
+		}
+		x0, x1, y0, y1 := trX(0), trX(1), trY(v0), trY(v1)
+		c.FillPolygon(col, []vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}, {X: x1, Y: y1 + 0.3}, {X: x0, Y: y1 + 0.3}})
+	}
 }
 
 // runGlyphs marks measured runs: teal dots.

@@ -176,7 +176,8 @@ func TestPairDensityPeaksAtTheDraws(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	checkSVG(t, f, []string{"temperature (°C)", "feed (mL/min)"}, 0)
+	// The map carries its colour scale, labelled, from 0 to 1.
+	checkSVG(t, f, []string{"temperature (°C)", "feed (mL/min)", "probability density, share of its peak", "\n0.5\n", "\n1.0"}, 0)
 }
 
 func TestFiguresRefuseEmptyInput(t *testing.T) {

@@ -248,3 +248,21 @@ func (c Config) ReviewBox(space campaign.Space) [][2]float64 {
 	}
 	return box
 }
+
+// PassBox is the review box narrowed by each factor's ramp limit
+// (max_step) around the previous setpoint (nil: none yet): a move inside
+// it passes every per-factor limit. Rules over several factors are not in
+// it; the gate itself judges those.
+func (c Config) PassBox(space campaign.Space, previous campaign.Point) [][2]float64 {
+	box := c.ReviewBox(space)
+	if len(previous) != len(space) {
+		return box
+	}
+	for i, f := range space {
+		if l, ok := c.Limits[f.Name]; ok && l.MaxStep != nil {
+			box[i][0] = math.Max(box[i][0], previous[i]-*l.MaxStep)
+			box[i][1] = math.Min(box[i][1], previous[i]+*l.MaxStep)
+		}
+	}
+	return box
+}

@@ -215,3 +215,26 @@ func TestRulesAndVersion(t *testing.T) {
 		}
 	}
 }
+
+// Limits changes read as words: which factor, which limit, old and new.
+func TestChangesInWords(t *testing.T) {
+	space := campaign.Space{{Name: "temp", Unit: "degC", Min: 20, Max: 80}, {Name: "flow", Unit: "mL/min", Min: 1, Max: 5}} // shadows the package one
+	f := func(v float64) *float64 { return &v }
+	old := Default()
+	old.Limits = map[string]Limit{"temp": {HardMin: f(20), HardMax: f(80), ReviewMax: f(75)}, "flow": {HardMin: f(1), HardMax: f(5)}}
+	now := old
+	now.Limits = map[string]Limit{"temp": {HardMin: f(20), HardMax: f(80), ReviewMax: f(70), MaxStep: f(5)}, "flow": {HardMin: f(1), HardMax: f(5)}}
+	now.Rules = []Rule{{Name: "hot_fast", When: "temp > 60 && flow > 4", Action: ActionHold, Message: "m"}}
+	got := strings.Join(now.Changes(old, space), "\n")
+	for _, want := range []string{"temp: review max 75 degC → 70 degC", "temp: max step set to 5 degC", "rule hot_fast added: when temp > 60 && flow > 4, hold"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("changes %q lack %q", got, want)
+		}
+	}
+	if strings.Contains(got, "flow:") {
+		t.Errorf("flow did not change: %q", got)
+	}
+	if d := strings.Join(now.Describe(space), "\n"); !strings.Contains(d, "temp: hard min 20 degC; hard max 80 degC; review max 70 degC; max step 5 degC") {
+		t.Errorf("described as %q", d)
+	}
+}

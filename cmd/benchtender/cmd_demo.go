@@ -186,7 +186,7 @@ func (p *demoPrinter) result(e agent.Entry) {
 		p.best, p.bestRun, p.bestAt = e.Value, e.Run, pt
 	}
 	fmt.Fprintf(p.out, "run %2d/%d  %s  %-58s -> %s %6.2f %s   best %6.2f  (%s)\n",
-		p.done, p.total, e.Run, describePoint(p.cfg.Campaign.Factors, pt), resp.Name, e.Value, resp.Unit, p.best, method)
+		p.done, p.total, e.Run, p.cfg.Campaign.Factors.Describe(pt), resp.Name, e.Value, resp.Unit, p.best, method)
 }
 
 func (p *demoPrinter) summary(took time.Duration, root string, keep bool) {
@@ -195,10 +195,10 @@ func (p *demoPrinter) summary(took time.Duration, root string, keep bool) {
 	fmt.Fprintf(p.out, "\nsummary (invented scenario)\n")
 	fmt.Fprintf(p.out, "  runs done:      %d in %.1f s\n", p.done, took.Seconds())
 	if p.bestRun != "" {
-		fmt.Fprintf(p.out, "  best found:     %s, %s = %.2f %s at %s (measured, with noise)\n", p.bestRun, resp.Name, p.best, resp.Unit, describePoint(p.cfg.Campaign.Factors, p.bestAt))
+		fmt.Fprintf(p.out, "  best found:     %s, %s = %.2f %s at %s (measured, with noise)\n", p.bestRun, resp.Name, p.best, resp.Unit, p.cfg.Campaign.Factors.Describe(p.bestAt))
 		fmt.Fprintf(p.out, "                  true law there: %.2f %s (%.2f%% below the true optimum)\n", examples.ColourStrength(p.bestAt), resp.Unit, 100*(val-examples.ColourStrength(p.bestAt))/val)
 	}
-	fmt.Fprintf(p.out, "  true optimum:   %s = %.2f %s at %s (the simulator's invented law)\n", resp.Name, val, resp.Unit, describePoint(p.cfg.Campaign.Factors, opt))
+	fmt.Fprintf(p.out, "  true optimum:   %s = %.2f %s at %s (the simulator's invented law)\n", resp.Name, val, resp.Unit, p.cfg.Campaign.Factors.Describe(opt))
 	if keep {
 		fmt.Fprintf(p.out, "  files:          %s\n", root)
 		fmt.Fprintf(p.out, "                  config    %s\n", filepath.Join(root, "benchtender.toml"))

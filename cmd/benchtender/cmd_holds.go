@@ -4,9 +4,7 @@ import (
 	"flag"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
-	"strconv"
 	"strings"
 	"time"
 
@@ -31,26 +29,43 @@ func cmdHolds(args []string, stdout io.Writer) error {
 	fmt.Fprintf(stdout, "campaign %s: %d move(s) held for sign-off (limits version %s)\n", cfg.Campaign.Name, len(held), cfg.Safety.Version())
 	for _, r := range held {
 		fmt.Fprintf(stdout, "\n%s  proposed %s by %s; lapses %s\n  setpoint: %s\n", r.ID, r.Proposed.Format(time.RFC3339), r.Method,
-			r.Proposed.Add(cfg.Safety.Holds()).Format(time.RFC3339), describePoint(cfg.Campaign.Factors, r.Point))
+			r.Proposed.Add(cfg.Safety.Holds()).Format(time.RFC3339), cfg.Campaign.Factors.Describe(r.Point))
 		for _, why := range r.Decision.Reasons {
 			fmt.Fprintf(stdout, "  held because %s\n", why.Message)
 		}
 		if r.Alternative != nil {
-			fmt.Fprintf(stdout, "  best move inside every limit: %s\n", describePoint(cfg.Campaign.Factors, r.Alternative))
+			fmt.Fprintf(stdout, "  best move inside every limit: %s\n", cfg.Campaign.Factors.Describe(r.Alternative))
 		}
-		if r.Decision.NeedsTwo(cfg.Safety) {
-			fmt.Fprintf(stdout, "  needs two different people to approve; approved so far by: %s\n", orNone(r.Approvers))
+		if f := r.First; f != nil {
+			fmt.Fprintf(stdout, "  FIRST OF TWO APPROVALS given by %s, reason %q\n    it approves: %s\n", f.Describe(cfg.Campaign.Factors), f.Reason, cfg.Campaign.Factors.Describe(f.Point))
+			if !f.Point.Equal(r.Point) {
+				fmt.Fprintf(stdout, "    (edited: not the setpoint proposed)\n")
+			}
+			if f.Replaces != "" {
+				fmt.Fprintf(stdout, "    it replaced the first approval by %s\n", f.Replaces)
+			}
+			fmt.Fprintf(stdout, "  a second, different person completes it by approving the same values%s; other values need --replace\n", setHint(cfg.Campaign.Factors, f.Point, r.Point))
+		} else if r.Decision.NeedsTwo(cfg.Safety) {
+			fmt.Fprintf(stdout, "  needs two different people to approve; nobody has approved it yet\n")
 		}
 	}
 	fmt.Fprintf(stdout, "\napprove with: benchtender approve RUN --by ID --name \"PRINTED NAME\" --reason TEXT [--set factor=value,...] --config %s\n", path)
 	return nil
 }
 
-func orNone(s []string) string {
-	if len(s) == 0 {
-		return "nobody yet"
+// setHint is the --set option that approves the first approval's values,
+// when they are not the proposed ones.
+func setHint(space campaign.Space, first, held campaign.Point) string {
+	if first.Equal(held) {
+		return ""
 	}
-	return strings.Join(s, ", ")
+	var parts []string
+	for i, f := range space {
+		if first[i] != held[i] {
+			parts = append(parts, f.Name+"="+f.Format(first[i]))
+		}
+	}
+	return " (--set " + strings.Join(parts, ",") + ")"
 }
 
 // cmdSignoff approves or rejects a held move, or clears an all-stop
@@ -63,6 +78,7 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 	name := fs.String("name", "", "printed name of the person signing (required)")
 	reason := fs.String("reason", "", "why (required)")
 	set := fs.String("set", "", "approve with edited values: factor=value,factor=value")
+	replace := fs.Bool("replace", false, "approve other values than a pending first approval's, replacing it (recorded)")
 	pos, err := parseFlags(fs, args)
 	if err != nil {
 		return err
@@ -94,18 +110,18 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 	default:
 		req.Action = agent.ActionResume
 	}
+	if *replace {
+		if action != "approve" {
+			return usageError{"--replace is only for approve"}
+		}
+		req.Replace = true
+	}
 	if *set != "" {
 		if action != "approve" {
 			return usageError{"--set is only for approve"}
 		}
-		req.Edit = map[string]float64{}
-		for _, kv := range strings.Split(*set, ",") {
-			k, v, ok := strings.Cut(kv, "=")
-			f, err := strconv.ParseFloat(strings.TrimSpace(v), 64)
-			if !ok || err != nil {
-				return usageError{fmt.Sprintf("--set: %q is not factor=value", kv)}
-			}
-			req.Edit[strings.TrimSpace(k)] = f
+		if req.Edit, err = parseEdit(cfg.Campaign.Factors, *set); err != nil {
+			return usageError{"--set: " + err.Error()}
 		}
 	}
 	file, err := agent.RequestSignoff(cfg, req)
@@ -140,9 +156,8 @@ func cmdAllStop(args []string, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	file := agent.AllStopPath(cfg)
-	text := fmt.Sprintf("all-stop by %s at %s: %s\n", orDefault(*by, "(not given)"), time.Now().UTC().Format(time.RFC3339), orDefault(*reason, "(no reason given)"))
-	if err := os.WriteFile(file, []byte(text), 0o644); err != nil {
+	file, err := agent.WriteAllStop(cfg, *by, *reason, time.Now())
+	if err != nil {
 		return err
 	}
 	fmt.Fprintf(stdout, "all-stop file written: %s\nevery handoff halts at the next look (within one tick); clear it with benchtender resume\n", file)
@@ -186,17 +201,25 @@ func readState(cfg agent.Config) (*agent.State, error) {
 	return agent.Replay(entries), nil
 }
 
-func describePoint(space campaign.Space, p campaign.Point) string {
-	parts := make([]string, 0, len(p))
-	for i, f := range space {
-		if i >= len(p) {
-			break
+// parseEdit reads "factor=value,factor=value"; a categorical factor's
+// value may be its category name.
+func parseEdit(space campaign.Space, set string) (map[string]float64, error) {
+	edit := map[string]float64{}
+	for _, kv := range strings.Split(set, ",") {
+		k, v, ok := strings.Cut(kv, "=")
+		k = strings.TrimSpace(k)
+		if !ok {
+			return nil, fmt.Errorf("%q is not factor=value", kv)
 		}
-		s := fmt.Sprintf("%s=%s", f.Name, f.Display(p[i]))
-		if f.Unit != "" {
-			s += " " + f.Unit
+		i := space.Index(k)
+		if i < 0 {
+			return nil, fmt.Errorf("%q is not a factor (factors: %s)", k, strings.Join(space.Names(), ", "))
 		}
-		parts = append(parts, s)
+		f, err := space[i].Parse(v)
+		if err != nil {
+			return nil, err
+		}
+		edit[k] = f
 	}
-	return strings.Join(parts, ", ")
+	return edit, nil
 }

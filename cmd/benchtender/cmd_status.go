@@ -33,6 +33,17 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	for _, h := range agent.Halts(cfg, st) {
 		fmt.Fprintln(stdout, h)
 	}
+	if fl := ids(st.InFlight()); len(fl) > 0 {
+		fmt.Fprintf(stdout, "awaiting result: %s (instruments take %d setpoint file(s) at once)\n", strings.Join(fl, ", "), cfg.Capacity())
+	}
+	if q := ids(st.Ready()); len(q) > 0 {
+		fmt.Fprintf(stdout, "cleared, queued for handoff in this order: %s\n", strings.Join(q, ", "))
+	}
+	for _, r := range st.Held() {
+		if f := r.First; f != nil {
+			fmt.Fprintf(stdout, "%s held: first of two approvals by %s, for %s; waits for a second person\n", r.ID, f.Describe(cfg.Campaign.Factors), cfg.Campaign.Factors.Describe(f.Point))
+		}
+	}
 	for _, n := range agent.Notices(cfg) {
 		fmt.Fprintln(stdout, "NOTE: "+n)
 	}
@@ -50,7 +61,7 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	}
 	resp := cfg.Campaign.Response
 	if b := st.Best(resp); b != nil {
-		fmt.Fprintf(stdout, "best so far: %s, %s = %.4g %s (%s)\n", b.ID, resp.Name, b.Value, resp.Unit, describePoint(cfg.Campaign.Factors, b.Point))
+		fmt.Fprintf(stdout, "best so far: %s, %s = %.4g %s (%s)\n", b.ID, resp.Name, b.Value, resp.Unit, cfg.Campaign.Factors.Describe(b.Point))
 	}
 	printModel(ctx, stdout, cfg, st)
 	return nil
@@ -110,4 +121,12 @@ func countStatus(st *agent.State, sts ...string) int {
 		}
 	}
 	return n
+}
+
+func ids(runs []*agent.Run) []string {
+	out := make([]string, len(runs))
+	for i, r := range runs {
+		out[i] = r.ID
+	}
+	return out
 }

@@ -305,3 +305,68 @@ func checkLogs(t *testing.T, terminal, jsonLines string) {
 		}
 	}
 }
+
+// Two people at the bench, with the real binary and daemon: the first
+// approves edited values; holds shows that pending approval with who and
+// the values; a second plain approval is refused, naming both sets; the
+// second approval of the same values hands them off.
+func TestTwoPersonApprovalAtTheBench(t *testing.T) {
+	if runtime.GOOS == "windows" {
+		t.Skip("uses SIGTERM")
+	}
+	bin := binary(t)
+	dir := t.TempDir()
+	for _, d := range []string{"exports", "handoff"} {
+		os.Mkdir(filepath.Join(dir, d), 0o755)
+	}
+	src, _ := os.ReadFile("../../config.example.toml")
+	cfg := strings.Replace(string(src), "review_max = 50.0", "review_min = 59.0", 1) // every jacket_temp below 59 is held
+	cfg = strings.Replace(cfg, `two_person = ["hot_and_fast"]`, `two_person = ["review_min"]`, 1)
+	cfg = strings.Replace(cfg, "keep_busy = true", "keep_busy = false", 1)
+	cfg = strings.Replace(cfg, `listen = "127.0.0.1:8470"`, `listen = "127.0.0.1:0"`, 1)
+	cfgPath := filepath.Join(dir, "c.toml")
+	os.WriteFile(cfgPath, []byte(cfg), 0o644)
+	ctx, cancel := context.WithTimeout(context.Background(), 60*time.Second)
+	defer cancel()
+	daemon := exec.CommandContext(ctx, bin, "run", cfgPath)
+	var logs syncBuffer
+	daemon.Stdout, daemon.Stderr = &logs, &logs
+	if err := daemon.Start(); err != nil {
+		t.Fatal(err)
+	}
+	defer daemon.Process.Kill()
+	waitUntil(t, 20*time.Second, "a hold", func() bool {
+		holds, _ := runBin(t, bin, "holds", "--config", cfgPath)
+		return strings.Contains(holds, "R0001")
+	})
+	out, code := runBin(t, bin, "approve", "R0001", "--set", "cooling_rate=12.5", "--by", "ada", "--name", "Ada Tech", "--reason", "gentler cooling", "--config", cfgPath)
+	if code != 0 {
+		t.Fatalf("first approval: exit %d\n%s", code, out)
+	}
+	var holds string
+	waitUntil(t, 20*time.Second, "the pending first approval", func() bool {
+		holds, _ = runBin(t, bin, "holds", "--config", cfgPath)
+		return strings.Contains(holds, "FIRST OF TWO APPROVALS")
+	})
+	for _, want := range []string{"given by ada (Ada Tech) at 20", "cooling_rate=12.5", "(edited: not the setpoint proposed)", "--set cooling_rate=12.5"} {
+		if !strings.Contains(holds, want) {
+			t.Errorf("holds lacks %q:\n%s", want, holds)
+		}
+	}
+	out, code = runBin(t, bin, "approve", "R0001", "--by", "bo", "--name", "Bo Kim", "--reason", "looks fine", "--config", cfgPath)
+	if code == 0 || !strings.Contains(out, "signs jacket_temp=") || !strings.Contains(out, "cooling_rate=12.5") {
+		t.Errorf("a plain second approval after an edited first: exit %d\n%s", code, out)
+	}
+	out, code = runBin(t, bin, "approve", "R0001", "--set", "cooling_rate=12.5", "--by", "bo", "--name", "Bo Kim", "--reason", "agree", "--config", cfgPath)
+	if code != 0 {
+		t.Fatalf("second approval: exit %d\n%s", code, out)
+	}
+	handoff := filepath.Join(dir, "handoff", "R0001.csv")
+	waitUntil(t, 20*time.Second, "the handoff file", func() bool { _, err := os.Stat(handoff); return err == nil })
+	data, _ := os.ReadFile(handoff)
+	if rows := strings.Split(string(data), "\n"); len(rows) < 2 || strings.Split(rows[1], ",")[2] != "12.5" {
+		t.Errorf("handoff %q, want cooling_rate 12.5", data)
+	}
+	daemon.Process.Signal(syscall.SIGTERM)
+	daemon.Wait()
+}
