@@ -6,6 +6,7 @@ import (
 	"encoding/hex"
 	"errors"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -646,7 +647,7 @@ func (a *Agent) ingest(f watch.File) error {
 			val.Failed, val.Number = why, 0
 		}
 	}
-	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed}
+	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed, Values: readValues(rec)}
 	if !campaign.ValidRunID(rec.RunID) {
 		return a.refuseFile(path, sha, data, fmt.Sprintf("run id %q is not usable (letters, digits, '_', '.', '-'; at most 64)", rec.RunID))
 	}
@@ -997,6 +998,19 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64, all
 		err = fmt.Errorf("planner returned an unusable proposal %+v", res.Proposal)
 	}
 	return res, err
+}
+
+// readValues is every value and derived value a result file gave, with
+// its unit, for the record and the export (failed ones are left out: the
+// response's failure is recorded on its own).
+func readValues(rec parsers.Record) map[string]Reading {
+	out := map[string]Reading{}
+	for name, v := range rec.Values {
+		if v.Failed == "" && !math.IsNaN(v.Number) && !math.IsInf(v.Number, 0) {
+			out[name] = Reading{Value: v.Number, Unit: v.Unit}
+		}
+	}
+	return out
 }
 
 // backoff is 2^(n-1) seconds, capped at five minutes.

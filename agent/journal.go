@@ -43,6 +43,12 @@ const (
 	ActionReject  = "reject"
 )
 
+// Reading is one value a result file gave, in its unit.
+type Reading struct {
+	Value float64 `json:"value"`
+	Unit  string  `json:"unit,omitempty"`
+}
+
 // Entry is one journal record. Fields not used by a kind are left empty.
 type Entry struct {
 	Seq  int64     `json:"seq"`
@@ -55,6 +61,8 @@ type Entry struct {
 	SHA256 string  `json:"sha256,omitempty"`
 	Value  float64 `json:"value,omitempty"`
 	Failed string  `json:"failed,omitempty"`
+	// Values are every value and derived value the file gave (ingest).
+	Values map[string]Reading `json:"values,omitempty"`
 	// Revision numbers a later version of a run's result (2 for the
 	// second file ingested for it); the latest counts.
 	Revision int `json:"revision,omitempty"`

@@ -35,25 +35,31 @@ func cmdReport(ctx context.Context, args []string, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	tmp, err := os.CreateTemp(filepath.Dir(*out), ".report-*.tmp")
-	if err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	defer os.Remove(tmp.Name())
-	if err := tmp.Chmod(0o644); err != nil {
-		tmp.Close()
-		return fmt.Errorf("report: %w", err)
-	}
-	if err := console.Report(tmp, v); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		return fmt.Errorf("report: %w", err)
-	}
-	if err := os.Rename(tmp.Name(), *out); err != nil {
+	if err := writeOut(*out, func(w io.Writer) error { return console.Report(w, v) }); err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
 	fmt.Fprintf(stdout, "report of campaign %s (%d runs, %d figures) written to %s\n", cfg.Campaign.Name, len(v.Runs), len(v.Figures), *out)
 	return nil
+}
+
+// writeOut writes a file whole or not at all: into a temp file beside it,
+// renamed into place once complete.
+func writeOut(out string, write func(io.Writer) error) error {
+	tmp, err := os.CreateTemp(filepath.Dir(out), ".benchtender-out-*.tmp")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(tmp.Name())
+	if err := tmp.Chmod(0o644); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := write(tmp); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		return err
+	}
+	return os.Rename(tmp.Name(), out)
 }

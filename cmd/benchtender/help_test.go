@@ -27,6 +27,7 @@ func TestEverySubcommandHasHelp(t *testing.T) {
 		{[]string{"audit", "correct", "--help"}, []string{"benchtender audit correct", "-entry"}},
 		{[]string{"status", "--help"}, []string{"benchtender status", "-config"}},
 		{[]string{"report", "--help"}, []string{"benchtender report", "-out"}},
+		{[]string{"export", "--help"}, []string{"benchtender export", "-json"}},
 		{[]string{"parse", "--help"}, []string{"benchtender parse", "-format"}},
 		{[]string{"demo", "--help"}, []string{"benchtender demo [--dir DIR] [--runs N] [--seed N]", "-runs", "-seed"}},
 		{[]string{"version", "--help"}, []string{"benchtender version"}},

@@ -14,6 +14,7 @@
 //	benchtender audit verify [--config C]   check the audit trail's hash chain
 //	benchtender status [--config C]     runs so far, the model, where the optimum is
 //	benchtender report [--config C] [--out report.html]   the campaign in one HTML file
+//	benchtender export [--config C] [--out runs.csv] [--json]   the runs as data (RFC 4180 CSV or JSON)
 //	benchtender parse --config C [--format NAME] FILE   what a result file would give
 //	benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config C]
 //	benchtender audit accept --by ID --name NAME --reason TEXT [--config C]   after a journal/trail mismatch
@@ -111,7 +112,7 @@ const usage = `usage:
   benchtender check CONFIG
   benchtender run [--include-old] CONFIG [CONFIG...]
   benchtender holds [--config CONFIG]
-  benchtender approve RUN --by ID --name NAME --reason TEXT [--set f=v,...] [--config CONFIG]
+  benchtender approve RUN --by ID --name NAME --reason TEXT [--set f=v,...] [--replace] [--config CONFIG]
   benchtender reject RUN --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender all-stop [--reason TEXT] [--by ID] [--config CONFIG]
   benchtender resume --by ID --name NAME --reason TEXT [--config CONFIG]
@@ -120,6 +121,7 @@ const usage = `usage:
   benchtender audit accept --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender status [--config CONFIG]
   benchtender report [--config CONFIG] [--out report.html] [--x FACTOR --y FACTOR]
+  benchtender export [--config CONFIG] [--out runs.csv] [--json]
   benchtender parse --config CONFIG [--format NAME] FILE
   benchtender demo [--dir DIR] [--runs N] [--seed N]
   benchtender service install --config CONFIG [--name NAME]   (Windows)
@@ -158,6 +160,8 @@ func dispatch(ctx context.Context, cmd string, rest []string, stdout, stderr io.
 		return cmdAllStop(rest, stdout)
 	case "audit":
 		return cmdAudit(rest, stdout)
+	case "export":
+		return cmdExport(rest, stdout)
 	case "status":
 		return cmdStatus(ctx, rest, stdout)
 	case "report":

@@ -3,6 +3,9 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
 	"io"
 	"net/http"
 	"os"
@@ -226,6 +229,33 @@ func TestDemo(t *testing.T) {
 		if !strings.Contains(html, want) {
 			t.Errorf("report lacks %q", want)
 		}
+	}
+
+	// The runs as data: one CSV row per run, read back by encoding/csv,
+	// with the sign-off of the held move; the JSON has the same runs.
+	runsCSV := filepath.Join(dir, "runs.csv")
+	out, code = runBin(t, bin, "export", "--config", filepath.Join(dir, "benchtender.toml"), "--out", runsCSV)
+	if code != 0 || !strings.Contains(out, "12 runs") {
+		t.Fatalf("export: exit %d\n%s", code, out)
+	}
+	f, err := os.Open(runsCSV)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil || len(recs) != 13 {
+		t.Fatalf("runs.csv: %d records, %v", len(recs), err)
+	}
+	if !strings.Contains(strings.Join(recs[0], ","), "feed_rate [") || !strings.Contains(fmt.Sprint(recs), "approval by demo (demo-technician") {
+		t.Errorf("runs.csv header %q; sign-offs missing?", recs[0])
+	}
+	js, code := runBin(t, bin, "export", "--config", filepath.Join(dir, "benchtender.toml"), "--json", "--out", "-")
+	var doc struct {
+		Runs []struct{ Run, Status string }
+	}
+	if err := json.Unmarshal([]byte(js), &doc); code != 0 || err != nil || len(doc.Runs) != 12 {
+		t.Errorf("export --json: exit %d, %v, %d runs", code, err, len(doc.Runs))
 	}
 }
 
