@@ -151,3 +151,20 @@ func (r Response) Loss(v float64) float64 {
 
 // Better reports whether measured value a is better than b.
 func (r Response) Better(a, b float64) bool { return r.Loss(a) < r.Loss(b) }
+
+// RangeText is the physical range for people: "0 to 100 %", "at least
+// 0 %" or "at most 5 bar".
+func (r Response) RangeText() string {
+	var s string
+	switch {
+	case r.Min != nil && r.Max != nil:
+		s = fmt.Sprintf("%g to %g", *r.Min, *r.Max)
+	case r.Min != nil:
+		s = fmt.Sprintf("at least %g", *r.Min)
+	case r.Max != nil:
+		s = fmt.Sprintf("at most %g", *r.Max)
+	default:
+		return "any value"
+	}
+	return strings.TrimSpace(s + " " + r.Unit)
+}

@@ -2,6 +2,8 @@ package console
 
 import (
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -58,10 +60,28 @@ type View struct {
 	PairX, PairY int
 	Audit        []agent.AuditEntry // newest first
 	AuditTotal   int
+	// The record, for a report that stands in a lab notebook: the build
+	// that made it, the time span of the journal, every signature (from
+	// the audit trail), every change to the limits and every refused
+	// config edit, every all-stop and resume.
+	Software     string
+	From, To     time.Time
+	Signatures   []agent.AuditEntry
+	LimitChanges []agent.AuditEntry
+	Stops        []StopRow
+	ConfigFile   string
+	ConfigSHA256 string
+	ConfigText   string
 	// AuditHead is the trail's last entry ("seq hash"), to be copied
 	// into a notebook; RecordCheck says whether the keyed chain verified
 	// and the journal agreed with it when the view was built.
 	AuditHead, RecordCheck string
+}
+
+// StopRow is an all-stop or the resume that cleared it.
+type StopRow struct {
+	Time              time.Time
+	What, Who, Reason string
 }
 
 // Count is the number of runs with one status.
@@ -78,6 +98,8 @@ type RunRow struct {
 	Files              []string
 	Proposed           time.Time
 	SignedBy           string
+	// Approvers are the ids of everyone who approved the move.
+	Approvers []string
 }
 
 // Value is one factor's value, formatted.
@@ -152,10 +174,21 @@ type Optimum struct {
 	BoxMass               float64
 	Median, Low, High     float64
 	BestWithin, Tolerance float64
+	// Bounded says the response's physical range clipped the figures.
+	Bounded string
+	// Beyond warns when the likely optimum lies outside the review limits
+	// or far from every run: its value is then the model's extrapolation.
+	Beyond []string
 }
 
-// BoxRow is one factor's side of the 90% credible box.
-type BoxRow struct{ Factor, Low, High, Unit string }
+// BoxRow is one factor's side of the 90% credible box, beside the most
+// likely value and the 90% highest-density region (one or more pieces,
+// each with the share of draws in it).
+type BoxRow struct {
+	Factor, Low, High, Unit string
+	Likely                  string
+	Region                  []string
+}
 
 // BuildOptions choose what Build computes.
 type BuildOptions struct {
@@ -167,7 +200,12 @@ type BuildOptions struct {
 	PairX, PairY string
 	// AuditTail is how many audit entries to keep (0: all).
 	AuditTail int
-	Now       func() time.Time
+	// ConfigPath, when set, puts the config file's text and SHA-256 into
+	// the view (the report's record of the configuration in force).
+	ConfigPath string
+	// Software names the build (version and commit).
+	Software string
+	Now      func() time.Time
 }
 
 // Build reads the campaign and computes its view.
@@ -223,6 +261,27 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		v.Held = append(v.Held, h)
 	}
 	v.LimitsInWords = cfg.Safety.Describe(space)
+	v.Software = opt.Software
+	if n := len(entries); n > 0 {
+		v.From, v.To = entries[0].Time, entries[n-1].Time
+	}
+	for _, e := range entries {
+		switch e.Kind {
+		case agent.KindAllStop:
+			v.Stops = append(v.Stops, StopRow{Time: e.Time, What: "all-stop", Who: e.By, Reason: e.Reason})
+		case agent.KindResume:
+			v.Stops = append(v.Stops, StopRow{Time: e.Time, What: "resumed", Who: e.By + " (" + e.Name + ")", Reason: e.Reason})
+		}
+	}
+	if opt.ConfigPath != "" {
+		if b, err := os.ReadFile(opt.ConfigPath); err == nil {
+			sum := sha256.Sum256(b)
+			v.ConfigFile, v.ConfigText, v.ConfigSHA256 = opt.ConfigPath, string(b), hex.EncodeToString(sum[:])
+			if abs, err := filepath.Abs(opt.ConfigPath); err == nil {
+				v.ConfigFile = abs
+			}
+		}
+	}
 	v.AllStop = st.AllStop
 	for _, r := range st.Ready() {
 		v.Queued = append(v.Queued, r.ID)
@@ -254,6 +313,14 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		if n := len(trail); n > 0 {
 			v.AuditHead = fmt.Sprintf("entry %d, hash %s", trail[n-1].Seq, trail[n-1].Hash)
 		}
+		for _, e := range trail {
+			switch {
+			case e.Meaning != "":
+				v.Signatures = append(v.Signatures, e)
+			case e.Action == "limits edited" || e.Action == "config refused":
+				v.LimitChanges = append(v.LimitChanges, e)
+			}
+		}
 		if opt.AuditTail > 0 && len(trail) > opt.AuditTail {
 			trail = trail[len(trail)-opt.AuditTail:]
 		}
@@ -281,7 +348,7 @@ func values(space campaign.Space, p campaign.Point) []Value {
 }
 
 func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
-	row := RunRow{ID: r.ID, Status: r.Status, Method: r.Method, Proposed: r.Proposed, SignedBy: r.SignedBy}
+	row := RunRow{ID: r.ID, Status: r.Status, Method: r.Method, Proposed: r.Proposed, SignedBy: r.SignedBy, Approvers: r.Approvers}
 	if r.Point != nil {
 		row.Setpoint = values(space, r.Point)
 	}
@@ -405,12 +472,7 @@ func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt
 	if err != nil {
 		return fmt.Errorf("optimum not computed: %v", err)
 	}
-	ov := &Optimum{Samples: o.Samples, BoxMass: o.BoxMass, Median: o.ValueMedian, Low: o.ValueLow, High: o.ValueHigh,
-		BestWithin: o.BestWithin, Tolerance: cfg.Planner.Stop.ValueTolerance}
-	for k, f := range space {
-		ov.Box = append(ov.Box, BoxRow{Factor: f.Name, Low: f.Display(o.Box[k][0]), High: f.Display(o.Box[k][1]), Unit: f.Unit})
-	}
-	v.Optimum = ov
+	v.Optimum = SummariseOptimum(cfg, o, trials, d.LengthScales)
 	// The slices run through the predicted optimum: the median of the
 	// draws' minimisers, snapped to a valid setpoint.
 	centre := make(campaign.Point, len(space))
@@ -432,6 +494,9 @@ func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt
 		bands, err := pl.Slice(fitted, centre, k, 121)
 		if err != nil {
 			continue
+		}
+		for i := range bands {
+			bands[i].Median, bands[i].Low, bands[i].High = resp.Clamp(bands[i].Median), resp.Clamp(bands[i].Low), resp.Clamp(bands[i].High)
 		}
 		add(plots.Slice(f, resp, bands, trials, k))
 	}
@@ -474,4 +539,119 @@ func (v *View) Figure(name string) *plots.Figure {
 		}
 	}
 	return nil
+}
+
+// SummariseOptimum says where the optimum probably is, per factor, and
+// how good it is, for people: the best achievable value held to the
+// response's physical range (the draws' values are clamped in place), the
+// most likely value and highest-density region of each factor, the box,
+// and cautions when the likely optimum lies beyond the review limits or
+// far from every run.
+func SummariseOptimum(cfg agent.Config, o *planner.Optimum, trials []campaign.Trial, scales []planner.Scale) *Optimum {
+	resp, space := cfg.Campaign.Response, cfg.Campaign.Factors
+	// The quantiles of clamped draws are the clamped quantiles.
+	for i := range o.Values {
+		o.Values[i] = resp.Clamp(o.Values[i])
+	}
+	ov := &Optimum{Samples: o.Samples, BoxMass: o.BoxMass, Median: resp.Clamp(o.ValueMedian), Low: resp.Clamp(o.ValueLow), High: resp.Clamp(o.ValueHigh),
+		BestWithin: o.BestWithin, Tolerance: cfg.Planner.Stop.ValueTolerance}
+	if resp.Min != nil || resp.Max != nil {
+		ov.Bounded = fmt.Sprintf("%s is held to its physical range (%s): the model's bands and the best achievable value are clipped to it", resp.Name, resp.RangeText())
+	}
+	likely := make(campaign.Point, len(space))
+	for k, f := range space {
+		row := BoxRow{Factor: f.Name, Low: f.Display(o.Box[k][0]), High: f.Display(o.Box[k][1]), Unit: f.Unit}
+		row.Likely, row.Region, likely[k] = locate(f, o.Minimisers, k)
+		ov.Box = append(ov.Box, row)
+	}
+	ov.Beyond = beyond(cfg, likely, trials, scales)
+	return ov
+}
+
+// locate summarises where the draws put factor k's optimum: the most
+// likely value (the densest value of the heaviest piece of the 90%
+// highest-density region; for a categorical factor the most frequent
+// category) and the region's pieces with their shares of the draws.
+func locate(f campaign.Factor, minimisers []campaign.Point, k int) (string, []string, float64) {
+	col := make([]float64, len(minimisers))
+	for i, p := range minimisers {
+		col[i] = p[k]
+	}
+	if f.Kind == campaign.Categorical || f.Max <= f.Min {
+		counts := map[float64]int{}
+		for _, v := range col {
+			counts[v]++
+		}
+		levels := make([]float64, 0, len(counts))
+		for v := range counts {
+			levels = append(levels, v)
+		}
+		sort.Slice(levels, func(a, b int) bool { return counts[levels[a]] > counts[levels[b]] })
+		var region []string
+		held := 0
+		for _, v := range levels {
+			if float64(held) >= 0.9*float64(len(col)) {
+				break
+			}
+			held += counts[v]
+			region = append(region, fmt.Sprintf("%s (%.0f%%)", f.Display(v), 100*float64(counts[v])/float64(len(col))))
+		}
+		if len(levels) == 0 {
+			return "", nil, math.NaN()
+		}
+		return f.Display(levels[0]), region, levels[0]
+	}
+	pieces, err := planner.HighestDensity(col, f.Min, f.Max, 0.9)
+	if err != nil {
+		return "", nil, math.NaN()
+	}
+	var region []string
+	for _, p := range pieces {
+		region = append(region, fmt.Sprintf("%s to %s (%.0f%%)", f.Display(p.Lo), f.Display(p.Hi), 100*p.Mass))
+	}
+	mode := planner.Heaviest(pieces).Mode
+	return f.Display(mode), region, mode
+}
+
+// beyond says when the most likely optimum lies outside the review
+// limits, or farther than one length-scale from every run: what the model
+// says of it there is an extrapolation, not something seen.
+func beyond(cfg agent.Config, likely campaign.Point, trials []campaign.Trial, scales []planner.Scale) []string {
+	var out []string
+	space := cfg.Campaign.Factors
+	box := cfg.Safety.ReviewBox(space)
+	for k, f := range space {
+		if math.IsNaN(likely[k]) || f.Kind == campaign.Categorical {
+			continue
+		}
+		unit := ""
+		if f.Unit != "" {
+			unit = " " + f.Unit
+		}
+		switch {
+		case likely[k] < box[k][0]:
+			out = append(out, fmt.Sprintf("the most likely %s, %s%s, lies below the review limits (%s%s) by %s%s: runs there need a sign-off", f.Name, f.Display(likely[k]), unit, f.Display(box[k][0]), unit, f.Display(box[k][0]-likely[k]), unit))
+		case likely[k] > box[k][1]:
+			out = append(out, fmt.Sprintf("the most likely %s, %s%s, lies above the review limits (%s%s) by %s%s: runs there need a sign-off", f.Name, f.Display(likely[k]), unit, f.Display(box[k][1]), unit, f.Display(likely[k]-box[k][1]), unit))
+		}
+	}
+	if len(trials) == 0 || len(scales) != len(space) {
+		return out
+	}
+	nearest := math.Inf(1)
+	for _, t := range trials {
+		d := 0.0
+		for k, f := range space {
+			if f.Kind == campaign.Categorical || math.IsNaN(likely[k]) || !(scales[k].Value > 0) {
+				continue
+			}
+			u := (likely[k] - t.Point[k]) / scales[k].Value
+			d += u * u
+		}
+		nearest = math.Min(nearest, math.Sqrt(d))
+	}
+	if nearest > 1 {
+		out = append(out, fmt.Sprintf("the most likely optimum is %.1f length-scales from the nearest run: the best achievable value there is the model's extrapolation, not a measurement", nearest))
+	}
+	return out
 }

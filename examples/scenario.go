@@ -82,6 +82,9 @@ max = 90.0
 name = "strength"
 unit = "%%"
 goal = "maximise"
+# Colour strength cannot be negative: results below 0 are refused, and
+# the model's bands and the best achievable value are clipped at 0.
+min = 0.0
 
 [instrument]
 name = "reactor_sim"

@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"benchtender/agent"
+	"benchtender/console"
 	"benchtender/planner"
 )
 
@@ -101,11 +102,18 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 		return
 	}
 	resp := cfg.Campaign.Response
-	fmt.Fprintf(stdout, "where the optimum probably is (%d posterior draws; 90%% credible box, holds %.0f%%):\n", o.Samples, 100*o.BoxMass)
-	for k, f := range cfg.Campaign.Factors {
-		fmt.Fprintf(stdout, "  %-14s %s to %s %s\n", f.Name, f.Display(o.Box[k][0]), f.Display(o.Box[k][1]), f.Unit)
+	ov := console.SummariseOptimum(cfg, o, st.Trials(), d.LengthScales)
+	fmt.Fprintf(stdout, "where the optimum probably is (%d posterior draws): most likely value; 90%% highest-density region (share of draws); 90%% box (holds %.0f%%):\n", o.Samples, 100*o.BoxMass)
+	for _, b := range ov.Box {
+		fmt.Fprintf(stdout, "  %-14s %s %s; %s; box %s to %s %s\n", b.Factor, b.Likely, b.Unit, strings.Join(b.Region, " and "), b.Low, b.High, b.Unit)
 	}
-	fmt.Fprintf(stdout, "best achievable %s: median %.4g %s, 90%% interval %.4g to %.4g\n", resp.Name, o.ValueMedian, resp.Unit, o.ValueLow, o.ValueHigh)
+	for _, w := range ov.Beyond {
+		fmt.Fprintf(stdout, "  CAUTION: %s\n", w)
+	}
+	fmt.Fprintf(stdout, "best achievable %s: median %.4g %s, 90%% interval %.4g to %.4g\n", resp.Name, ov.Median, resp.Unit, ov.Low, ov.High)
+	if ov.Bounded != "" {
+		fmt.Fprintf(stdout, "  (%s)\n", ov.Bounded)
+	}
 	if !math.IsNaN(o.BestWithin) {
 		fmt.Fprintf(stdout, "probability that the best run so far is within %g %s of it: %.2f\n", cfg.Planner.Stop.ValueTolerance, resp.Unit, o.BestWithin)
 	}

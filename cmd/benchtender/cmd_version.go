@@ -1,10 +1,10 @@
 package main
 
 import (
+	"benchtender/internal/version"
 	"flag"
 	"fmt"
 	"io"
-	"runtime/debug"
 )
 
 // cmdVersion prints the module version, the commit it was built from
@@ -23,35 +23,4 @@ func cmdVersion(args []string, stdout io.Writer) error {
 	return nil
 }
 
-// versionLine is "benchtender VERSION, commit REV[ (modified)], TIME, GO".
-func versionLine() string {
-	bi, ok := debug.ReadBuildInfo()
-	if !ok {
-		return "benchtender (no build information)"
-	}
-	version := bi.Main.Version
-	if version == "" {
-		version = "(devel)"
-	}
-	var rev, at, dirty string
-	for _, s := range bi.Settings {
-		switch s.Key {
-		case "vcs.revision":
-			rev = s.Value
-		case "vcs.time":
-			at = s.Value
-		case "vcs.modified":
-			if s.Value == "true" {
-				dirty = " (modified)"
-			}
-		}
-	}
-	if rev == "" {
-		rev = "unknown (the build holds no version-control information)"
-	}
-	line := fmt.Sprintf("benchtender %s, commit %s%s", version, rev, dirty)
-	if at != "" {
-		line += ", " + at
-	}
-	return line + ", " + bi.GoVersion
-}
+func versionLine() string { return version.Line() }

@@ -231,6 +231,13 @@ func TestDemo(t *testing.T) {
 		}
 	}
 
+	for _, want := range []string{"record", "Signatures", "approval", "Limits and rules", "Quarantined and refused result files", "All-stops and resumes", "SHA-256", "most likely", "90% highest-density region"} {
+		if !strings.Contains(html, want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+	printReport(t, bin, dir)
+
 	// The runs as data: one CSV row per run, read back by encoding/csv,
 	// with the sign-off of the held move; the JSON has the same runs.
 	runsCSV := filepath.Join(dir, "runs.csv")
@@ -399,4 +406,48 @@ func TestTwoPersonApprovalAtTheBench(t *testing.T) {
 	}
 	daemon.Process.Signal(syscall.SIGTERM)
 	daemon.Wait()
+}
+
+// printReport prints the demo's report to PDF with --pdf and reads the
+// PDF: a sensible number of A4 pages, and every one of the 10 figures
+// whole on one page. Without a browser, --pdf must say so plainly.
+func printReport(t *testing.T, bin, dir string) {
+	t.Helper()
+	cfgPath := filepath.Join(dir, "benchtender.toml")
+	if _, err := findBrowser(); err != nil {
+		if os.Getenv("BENCHTENDER_REQUIRE_BROWSER") != "" {
+			t.Fatalf("no browser, and BENCHTENDER_REQUIRE_BROWSER is set: %v", err)
+		}
+		t.Logf("PDF check skipped: %v", err)
+		return
+	}
+	pdf := filepath.Join(dir, "report.pdf")
+	out, code := runBin(t, bin, "report", "--config", cfgPath, "--out", filepath.Join(dir, "report2.html"), "--pdf", pdf)
+	if code != 0 || !strings.Contains(out, "printed to") {
+		t.Fatalf("report --pdf: exit %d\n%s", code, out)
+	}
+	p := readPrinted(t, pdf)
+	if len(p.figures) != 10 {
+		t.Fatalf("the PDF's structure has %d figures, want 10", len(p.figures))
+	}
+	for i, pages := range p.figures {
+		if len(pages) != 1 {
+			t.Errorf("figure %d is split over pages %v", i, pages)
+		}
+	}
+	if p.pages < 5 || p.pages > 30 {
+		t.Errorf("%d pages for 12 runs and 10 figures", p.pages)
+	}
+	checkSplitIsSeen(t, bin)
+	// A browser that is not there: a plain message, the HTML still
+	// written.
+	cmd := exec.Command(bin, "report", "--config", cfgPath, "--out", filepath.Join(dir, "report3.html"), "--pdf", filepath.Join(dir, "r3.pdf"))
+	cmd.Env = append(os.Environ(), "BENCHTENDER_CHROMIUM=/no/such/browser")
+	msg, err := cmd.CombinedOutput()
+	if err == nil || !strings.Contains(string(msg), "cannot be run") || !strings.Contains(string(msg), "print it from a browser") {
+		t.Errorf("--pdf without a browser: %v\n%s", err, msg)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "report3.html")); err != nil {
+		t.Errorf("the HTML report was not written: %v", err)
+	}
 }

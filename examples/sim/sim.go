@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
@@ -113,7 +114,10 @@ func (in *Instrument) runOne(ctx context.Context, name, taken string, rng *rand.
 		return ctx.Err()
 	case <-time.After(in.Delay):
 	}
-	value := in.Law(pt) + in.Noise*rng.NormFloat64()
+	// The simulated reading is never negative: an instrument reports no
+	// colour as 0, not as a negative strength (the demo's response has a
+	// physical range that starts at 0).
+	value := math.Max(0, in.Law(pt)+in.Noise*rng.NormFloat64())
 	return in.writeResult(ctx, run, pt, value)
 }
 

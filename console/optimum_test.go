@@ -1,0 +1,53 @@
+package console
+
+import (
+	"strings"
+	"testing"
+
+	"benchtender/agent"
+	"benchtender/campaign"
+	"benchtender/planner"
+	"benchtender/safety"
+)
+
+// The optimum summary marks what it cannot know: a most likely optimum
+// beyond the review limits (which factor, which side, how far), and one
+// farther than a length-scale from every run (an extrapolation).
+func TestOptimumBeyondWhatWasExplored(t *testing.T) {
+	cfg := agent.DefaultConfig()
+	cfg.Campaign.Factors = campaign.Space{{Name: "temp", Unit: "degC", Min: 20, Max: 80}, {Name: "ph", Min: 3, Max: 9}}
+	f := func(v float64) *float64 { return &v }
+	cfg.Safety = safety.Default()
+	cfg.Safety.Limits = map[string]safety.Limit{"temp": {HardMin: f(20), HardMax: f(80), ReviewMax: f(70)}, "ph": {HardMin: f(3), HardMax: f(9)}}
+	scales := []planner.Scale{{Factor: "temp", Value: 5}, {Factor: "ph", Value: 1}}
+	near := []campaign.Trial{{Point: campaign.Point{60, 5}}, {Point: campaign.Point{69, 5.5}}}
+	got := strings.Join(beyond(cfg, campaign.Point{78, 5.5}, near, scales), "\n")
+	for _, want := range []string{"most likely temp, 78 degC, lies above the review limits (70 degC) by 8 degC", "1.8 length-scales from the nearest run"} {
+		if !strings.Contains(got, want) {
+			t.Errorf("%q lacks %q", got, want)
+		}
+	}
+	if got := beyond(cfg, campaign.Point{65, 5.2}, near, scales); len(got) != 0 {
+		t.Errorf("inside the limits and near the runs, yet: %v", got)
+	}
+}
+
+// Two separate clusters of draws give two pieces, each with its share,
+// where a central interval would span the empty middle.
+func TestLocateReportsTwoModes(t *testing.T) {
+	f := campaign.Factor{Name: "ph", Min: 3, Max: 9}
+	var draws []campaign.Point
+	for i := 0; i < 80; i++ {
+		v := 4.0 + 0.05*float64(i%10)
+		if i%2 == 1 {
+			v = 7.5 + 0.05*float64(i%10)
+		}
+		draws = append(draws, campaign.Point{v})
+	}
+	likely, region, _ := locate(f, draws, 0)
+	// The 90% region holds 45% in each cluster.
+	if len(region) != 2 || !strings.HasPrefix(region[0], "3.9") || !strings.HasPrefix(region[1], "7.5") ||
+		!strings.Contains(region[0], "(4") || !strings.Contains(region[1], "(4") || likely == "" {
+		t.Errorf("most likely %s, region %v: want two pieces of about 45%% each", likely, region)
+	}
+}
