@@ -91,11 +91,7 @@ func render(p *plot.Plot) ([]byte, error) {
 	if _, err := w.WriteTo(&b); err != nil {
 		return nil, fmt.Errorf("plots: %w", err)
 	}
-	out := b.Bytes()
-	if i := bytes.Index(out, []byte("<svg")); i >= 0 {
-		out = out[i:]
-	}
-	return out, nil
+	return withoutProlog(b.Bytes()), nil
 }
 
 // renderWithScale writes the plot as SVG with a vertical colour scale of
@@ -116,11 +112,7 @@ func renderWithScale(p *plot.Plot, cm palette.ColorMap, label string) ([]byte, e
 	if _, err := c.WriteTo(&b); err != nil {
 		return nil, fmt.Errorf("plots: %w", err)
 	}
-	out := b.Bytes()
-	if i := bytes.Index(out, []byte("<svg")); i >= 0 {
-		out = out[i:]
-	}
-	return out, nil
+	return withoutProlog(b.Bytes()), nil
 }
 
 // scaleBar draws a colour map as a column of filled bands (vector shapes:
@@ -140,6 +132,15 @@ func (b scaleBar) Plot(c draw.Canvas, p *plot.Plot) {
 		x0, x1, y0, y1 := trX(0), trX(1), trY(v0), trY(v1)
 		c.FillPolygon(col, []vg.Point{{X: x0, Y: y0}, {X: x1, Y: y0}, {X: x1, Y: y1 + 0.3}, {X: x0, Y: y1 + 0.3}})
 	}
+}
+
+// withoutProlog drops what comes before the <svg> element (the XML prolog,
+// the generator comment), so the document can be placed inside a page.
+func withoutProlog(out []byte) []byte {
+	if i := bytes.Index(out, []byte("<svg")); i >= 0 {
+		return out[i:]
+	}
+	return out
 }
 
 // runGlyphs marks measured runs: teal dots.
