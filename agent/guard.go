@@ -123,6 +123,18 @@ func (a *Agent) reloadConfig() error {
 	return a.auditNote("limits edited", a.opt.ConfigPath, fmt.Sprintf("%s (limits version %s replaced %s)", what, a.gate.Version(), was))
 }
 
+// SignoffMeaning is what a sign-off entry's signature means (21 CFR Part
+// 11 §11.50(a)(3)): the audit trail and the export both say it this way.
+func (e Entry) SignoffMeaning() string {
+	switch {
+	case e.Action == ActionApprove && e.Partial:
+		return "first of two approvals"
+	case e.Action == ActionApprove:
+		return "approval"
+	}
+	return "rejection"
+}
+
 // auditEntry writes the audit trail's entry for a journal entry.
 // The audit entry carries the journal entry's own time, so that the two
 // records agree to the nanosecond and a lost audit line can be put back
@@ -148,14 +160,7 @@ func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
 	case KindSignoff:
 		ae.Actor, ae.Name = e.By, e.Name
 		ae.Action = e.Action
-		switch {
-		case e.Action == ActionApprove && e.Partial:
-			ae.Meaning = "first of two approvals"
-		case e.Action == ActionApprove:
-			ae.Meaning = "approval"
-		default:
-			ae.Meaning = "rejection"
-		}
+		ae.Meaning = e.SignoffMeaning()
 		if e.Action == ActionApprove && len(e.Point) > 0 {
 			ae.Action = "approve with edited values " + a.cfg.Campaign.Factors.Describe(e.Point)
 		}

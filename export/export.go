@@ -139,7 +139,7 @@ func Build(cfg agent.Config, entries []agent.Entry, now time.Time, software stri
 			t := e.Time.UTC()
 			row.HandedOff, row.Handoff = &t, e.File
 		case agent.KindSignoff:
-			s := Signoff{By: e.By, Name: e.Name, Reason: e.Reason, Time: e.Time.UTC(), Meaning: meaning(e)}
+			s := Signoff{By: e.By, Name: e.Name, Reason: e.Reason, Time: e.Time.UTC(), Meaning: e.SignoffMeaning()}
 			if len(e.Point) > 0 {
 				s.Values = setpoint(space, e.Point)
 			}
@@ -167,16 +167,6 @@ func Build(cfg agent.Config, entries []agent.Entry, now time.Time, software stri
 		doc.Values = append(doc.Values, Column{n, units[n]})
 	}
 	return doc
-}
-
-func meaning(e agent.Entry) string {
-	switch {
-	case e.Action == agent.ActionApprove && e.Partial:
-		return "first of two approvals"
-	case e.Action == agent.ActionApprove:
-		return "approval"
-	}
-	return "rejection"
 }
 
 func setpoint(space campaign.Space, p campaign.Point) map[string]any {
