@@ -33,6 +33,8 @@ type Run struct {
 	Value float64
 	// Failed says why the instrument gave no value.
 	Failed string
+	// Values are every value the latest result file gave.
+	Values map[string]Reading
 	// Files are the result files ingested for this run, oldest first.
 	Files []string
 	// SignedBy, SignReason record the sign-off, if any; Approvers every
@@ -226,6 +228,7 @@ func (s *State) apply(e Entry) {
 			r.Point, r.External = e.Point, true
 		}
 		r.Files = append(r.Files, e.File)
+		r.Values = e.Values
 		if e.Failed != "" {
 			r.Status, r.Failed = StatusFailed, e.Failed
 		} else {

@@ -100,6 +100,9 @@ type RunRow struct {
 	SignedBy           string
 	// Approvers are the ids of everyone who approved the move.
 	Approvers []string
+	// Others are the other values the latest result file gave
+	// ("name value unit"), in name order.
+	Others []string
 }
 
 // Value is one factor's value, formatted.
@@ -361,6 +364,12 @@ func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
 	for _, f := range r.Files {
 		row.Files = append(row.Files, filepath.Base(f))
 	}
+	for name, v := range r.Values {
+		if name != resp.Name {
+			row.Others = append(row.Others, strings.TrimSpace(fmt.Sprintf("%s %.4g %s", name, v.Value, v.Unit)))
+		}
+	}
+	sort.Strings(row.Others)
 	return row
 }
 
