@@ -46,17 +46,10 @@ func benchCampaign(b *testing.B, n, d int) (*testCampaign, string) {
 		b.Fatal(err)
 	}
 	// The history: n runs of a smooth function, then one in flight.
-	j, _, _, err := OpenJournal(journalPath(cfg.Campaign.StateDir))
-	if err != nil {
-		b.Fatal(err)
-	}
+	add, done := recordHistory(b, cfg)
+	defer done()
 	rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))
 	pass := safety.Decision{Verdict: safety.Pass}
-	add := func(e Entry) {
-		if _, err := j.Append(e); err != nil {
-			b.Fatal(err)
-		}
-	}
 	for i := 0; i <= n; i++ {
 		run := fmt.Sprintf("R%05d", i+1)
 		pt := make(campaign.Point, d)
@@ -72,7 +65,6 @@ func benchCampaign(b *testing.B, n, d int) (*testCampaign, string) {
 			add(Entry{Kind: KindIngest, Run: run, File: run + ".csv", SHA256: fmt.Sprint(i), Value: y})
 		}
 	}
-	j.Close()
 	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}, fmt.Sprintf("R%05d", n+1)
 }
 
@@ -109,11 +101,18 @@ func BenchmarkArrivalToHandoff(b *testing.B) {
 					if err := os.WriteFile(path, []byte(fmt.Sprintf("run,y\n%s,%d.5\n", next, i)), 0o644); err != nil {
 						b.Fatal(err)
 					}
+				wait:
 					for {
-						e := <-events
-						if e.Kind == KindHandoffOK {
-							next = e.Run
-							break
+						select {
+						case e := <-events:
+							if e.Kind == KindHandoffOK {
+								next = e.Run
+								break wait
+							}
+						case err := <-done:
+							b.Fatalf("the agent stopped: %v", err)
+						case <-time.After(2 * time.Minute):
+							b.Fatalf("no handoff two minutes after %s arrived", next)
 						}
 					}
 				}
@@ -171,25 +170,16 @@ file = ""
 	if err != nil {
 		b.Fatal(err)
 	}
-	j, _, _, err := OpenJournal(journalPath(cfg.Campaign.StateDir))
-	if err != nil {
-		b.Fatal(err)
-	}
+	add, done := recordHistory(b, cfg)
 	pass := safety.Decision{Verdict: safety.Pass}
 	for i := 1; i <= n; i++ {
 		run := fmt.Sprintf("R%05d", i)
 		pt := campaign.Point{float64(i) / float64(n+1)}
-		for _, e := range []Entry{
-			{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass},
-			{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"},
-			{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"},
-		} {
-			if _, err := j.Append(e); err != nil {
-				b.Fatal(err)
-			}
-		}
+		add(Entry{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
+		add(Entry{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
+		add(Entry{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"})
 	}
-	j.Close()
+	done()
 	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}
 }
 
@@ -241,4 +231,31 @@ func BenchmarkBurst1000(b *testing.B) {
 			b.Fatalf("%d runs done, want %d", got, n)
 		}
 	}
+}
+
+// recordHistory opens the campaign's record the way the agent does and
+// returns a function that appends an entry to the journal and the audit
+// trail together (so the agent vouches for the history at start), and one
+// that closes the record.
+func recordHistory(b *testing.B, cfg Config) (add func(Entry), done func()) {
+	b.Helper()
+	a, err := New(cfg, Options{Logger: zerolog.Nop()})
+	if err != nil {
+		b.Fatal(err)
+	}
+	if err := a.open(); err != nil {
+		b.Fatal(err)
+	}
+	add = func(e Entry) {
+		if err := a.record(e); err != nil {
+			b.Fatal(err)
+		}
+	}
+	done = func() {
+		a.closeStores()
+		if a.unlock != nil {
+			a.unlock()
+		}
+	}
+	return add, done
 }

@@ -70,3 +70,57 @@ func BenchmarkPredict(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkPredictMany is Predict over 2,000 candidate points, one at a
+// time against in blocks (PredictMany).
+func BenchmarkPredictMany(b *testing.B) {
+	for _, n := range []int{200, 1000} {
+		rng := rand.New(rand.NewPCG(uint64(n), 6))
+		x, y := randomData(rng, n, 6, wave, 0.05)
+		m, err := New(x, y, defaultParams(Matern52, 6))
+		if err != nil {
+			b.Fatal(err)
+		}
+		pts, _ := randomData(rng, 2000, 6, wave, 0)
+		mean, variance := make([]float64, len(pts)), make([]float64, len(pts))
+		b.Run(fmt.Sprintf("N=%d/one-by-one", n), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				for _, pt := range pts {
+					m.Predict(pt)
+				}
+			}
+		})
+		b.Run(fmt.Sprintf("N=%d/blocks", n), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				m.PredictMany(pts, mean, variance)
+			}
+		})
+	}
+}
+
+// BenchmarkCondition is one more run with the hyperparameters held: the
+// factor extended (Condition) against rebuilt (New).
+func BenchmarkCondition(b *testing.B) {
+	for _, n := range []int{200, 1000} {
+		rng := rand.New(rand.NewPCG(uint64(n), 6))
+		x, y := randomData(rng, n+1, 6, wave, 0.05)
+		prev, err := New(x[:n], y[:n], defaultParams(Matern52, 6))
+		if err != nil {
+			b.Fatal(err)
+		}
+		b.Run(fmt.Sprintf("N=%d/extend", n), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				if _, err := Condition(prev, x, y); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run(fmt.Sprintf("N=%d/rebuild", n), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				if _, err := New(x, y, prev.Params()); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}

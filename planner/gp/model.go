@@ -162,17 +162,7 @@ func (m *Model) factor() error {
 		return err
 	}
 	m.jitter = jitter
-	resid := make([]float64, n)
-	for i, v := range m.z {
-		resid[i] = v - m.p.Mean
-	}
-	m.alpha = make([]float64, n)
-	m.c.solveTo(m.alpha, resid)
-	m.lml = -0.5*dot(resid, m.alpha) - 0.5*m.c.logDet() - 0.5*float64(n)*math.Log(2*math.Pi)
-	if math.IsNaN(m.lml) || math.IsInf(m.lml, 0) {
-		return fmt.Errorf("gp: log marginal likelihood is %v", m.lml)
-	}
-	return nil
+	return m.solve()
 }
 
 func dot(a, b []float64) float64 {
@@ -219,6 +209,69 @@ func (m *Model) Predict(x []float64) (mean, variance float64) {
 		vv = 0
 	}
 	return m.yMean + m.yScale*(m.p.Mean+mu), vv * m.yScale * m.yScale
+}
+
+// Mean returns the posterior mean of the latent function at x, in the
+// response's units: Predict's mean without its variance, O(N) instead of
+// O(N²).
+func (m *Model) Mean(x []float64) float64 {
+	if len(x) != m.Dim() {
+		panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
+	}
+	var mu float64
+	for i, xi := range m.x {
+		mu += m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen)) * m.alpha[i]
+	}
+	return m.yMean + m.yScale*(m.p.Mean+mu)
+}
+
+// predictBlock is the number of points PredictMany solves for at once.
+const predictBlock = 64
+
+// PredictMany writes Predict's mean and variance at each of xs into mean
+// and variance (each len(xs)). Points go through the triangular solve in
+// blocks, so the Cholesky factor is read once per block instead of once
+// per point: the same arithmetic as Predict, in a fraction of the time
+// when the factor is larger than the processor's cache.
+func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
+	if len(mean) != len(xs) || len(variance) != len(xs) {
+		panic(fmt.Sprintf("gp: predict many: %d points, %d means, %d variances", len(xs), len(mean), len(variance)))
+	}
+	n := len(m.x)
+	s2 := m.yScale * m.yScale
+	buf := make([]float64, n*min(predictBlock, len(xs)))
+	for lo := 0; lo < len(xs); lo += predictBlock {
+		block := xs[lo:min(lo+predictBlock, len(xs))]
+		q := len(block)
+		v := blas64.General{Rows: n, Cols: q, Stride: q, Data: buf[:n*q]}
+		for j, x := range block {
+			if len(x) != m.Dim() {
+				panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
+			}
+			var mu float64
+			for i, xi := range m.x {
+				c := m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen))
+				v.Data[i*q+j] = c
+				mu += c * m.alpha[i]
+			}
+			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+mu)
+		}
+		// V = U⁻ᵀ K*, column by column k*ᵀ K⁻¹ k* = ‖v‖².
+		blas64.Trsm(blas.Left, blas.Trans, 1, m.c.tri(), v)
+		vv := variance[lo : lo+q]
+		for j := range vv {
+			vv[j] = 0
+		}
+		for i := 0; i < n; i++ {
+			row := v.Data[i*q : i*q+q]
+			for j, c := range row {
+				vv[j] += c * c
+			}
+		}
+		for j := range vv {
+			vv[j] = math.Max(0, m.p.SignalVar-vv[j]) * s2
+		}
+	}
 }
 
 // crossCov fills dst with k(x_i, x) for every data point.

@@ -115,18 +115,19 @@ func (m *Model) WithFantasies(xs [][]float64) (*Model, error) {
 	if len(xs) == 0 {
 		return m, nil
 	}
-	f := &Model{p: m.p.Clone(), yMean: m.yMean, yScale: m.yScale}
+	f := &Model{p: m.p.Clone(), yMean: m.yMean, yScale: m.yScale, invLen: m.invLen, jitter: m.jitter}
 	f.x = append(append([][]float64(nil), m.x...), xs...)
 	f.z = append([]float64(nil), m.z...)
 	for _, x := range xs {
 		if len(x) != m.Dim() {
 			panic(fmt.Sprintf("gp: fantasy at %d values, model has %d inputs", len(x), m.Dim()))
 		}
-		mu, _ := m.Predict(x)
-		f.z = append(f.z, (mu-m.yMean)/m.yScale)
+		f.z = append(f.z, (m.Mean(x)-m.yMean)/m.yScale)
 	}
-	if err := f.factor(); err != nil {
-		return nil, err
+	// The factor grows by the fantasies' rows (update.go); only when
+	// they need jitter of their own is it rebuilt.
+	if !f.c.extend(&m.c, len(f.x), f.covBlock(len(m.x)), m.p.NoiseVar+m.jitter, m.p.SignalVar) {
+		return f, f.factor()
 	}
-	return f, nil
+	return f, f.solve()
 }
