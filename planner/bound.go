@@ -15,12 +15,9 @@ import (
 type bound struct{ beta float64 }
 
 func (b bound) choose(ctx context.Context, s *situation) (choice, error) {
-	u, sc, err := s.maximise(ctx, func(u []float64) float64 {
-		if s.feasible != nil && s.feasible(u) < 0.5 {
-			return negInf
-		}
-		mu, v := s.model.Predict(s.p.encode(u))
-		return -acquisition.LowerConfidenceBound(mu, math.Sqrt(v), b.beta)
+	score := s.p.byModel(s.model, func(_ []float64, mu, sd float64) float64 {
+		return -acquisition.LowerConfidenceBound(mu, sd, b.beta)
 	})
+	u, sc, err := s.maximise(ctx, score.where(func(u []float64) bool { return s.feasible == nil || s.feasible(u) >= 0.5 }))
 	return choice{u: u, score: sc, method: fmt.Sprintf("confidence bound (beta %g)", b.beta), logEI: math.NaN()}, err
 }

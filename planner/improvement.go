@@ -24,13 +24,12 @@ type improvement struct {
 
 func (e improvement) choose(ctx context.Context, s *situation) (choice, error) {
 	p := s.p
-	score := func(u []float64) float64 {
-		mu, v := s.model.Predict(p.encode(u))
+	score := p.byModel(s.model, func(u []float64, mu, sd float64) float64 {
 		if e.probability {
-			return acquisition.LogProbabilityOfImprovement(mu, math.Sqrt(v), s.best) + logFeasibility(s.feasible, u)
+			return acquisition.LogProbabilityOfImprovement(mu, sd, s.best) + logFeasibility(s.feasible, u)
 		}
-		return acquisition.LogExpectedImprovement(mu, math.Sqrt(v), s.best) + logFeasibility(s.feasible, u)
-	}
+		return acquisition.LogExpectedImprovement(mu, sd, s.best) + logFeasibility(s.feasible, u)
+	})
 	u, sc, err := s.maximise(ctx, score)
 	if err != nil {
 		return choice{}, err

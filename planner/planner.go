@@ -8,7 +8,6 @@ import (
 	"math/rand/v2"
 	"sort"
 
-	"gonum.org/v1/gonum/optimize"
 
 	"benchtender/campaign"
 	"benchtender/planner/acquisition"
@@ -297,12 +296,10 @@ func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][
 		if err != nil {
 			return Result{}, err
 		}
-		if _, le, err := p.maximise(ctx, func(v []float64) float64 {
-			if !farFrom(v, near) {
-				return math.Inf(-1)
-			}
-			return acquisition.LogExpectedImprovement(p.predictSD(believer, v)(best))
-		}, byValue(ft.x, ft.y), rng); err == nil {
+		ei := p.byModel(believer, func(_ []float64, mu, sd float64) float64 {
+			return acquisition.LogExpectedImprovement(mu, sd, best)
+		})
+		if _, le, err := p.maximise(ctx, ei.where(func(v []float64) bool { return farFrom(v, near) }), byValue(ft.x, ft.y), rng); err == nil {
 			res.EI = math.Exp(le)
 		}
 	} else {
@@ -349,18 +346,11 @@ func farFrom(u []float64, near [][]float64) bool {
 func (p *Planner) bestMean(m *gp.Model, x [][]float64) float64 {
 	best := math.Inf(1)
 	for _, xi := range x {
-		if mu, _ := m.Predict(p.encode(xi)); mu < best {
+		if mu := m.Mean(p.encode(xi)); mu < best {
 			best = mu
 		}
 	}
 	return best
-}
-
-// predictSD adapts a prediction at a unit-box point to the (mean, sd,
-// best) arguments of the acquisition functions.
-func (p *Planner) predictSD(m *gp.Model, u []float64) func(best float64) (float64, float64, float64) {
-	mu, v := m.Predict(p.encode(u))
-	return func(best float64) (float64, float64, float64) { return mu, math.Sqrt(v), best }
 }
 
 // Fitted is a surrogate fitted to a campaign's runs, with the runs on the
@@ -592,7 +582,7 @@ func (p *Planner) randomUnit(rng *rand.Rand, tries int, ok func(campaign.Point) 
 // best runs), then
 // refine the best few by Nelder-Mead with each trial point projected onto
 // the box.
-func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
+func (p *Planner) maximise(ctx context.Context, score scorer, around [][]float64, rng *rand.Rand) (campaign.Point, float64, error) {
 	d := p.space.Dim()
 	cands := LatinHypercube(p.cfg.Candidates, d, rng)
 	if lo, hi := p.regionUnit(); lo != nil {
@@ -605,13 +595,13 @@ func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, a
 	}
 	// Candidates and every refined point are snapped to valid values and
 	// must satisfy the constraints.
-	inner := score
-	score = func(u []float64) float64 {
-		u = p.snapUnit(u)
-		if !p.feasibleUnit(u) {
-			return math.Inf(-1)
+	inner := score.where(p.feasibleUnit)
+	score = func(us [][]float64, out []float64) {
+		snapped := make([][]float64, len(us))
+		for i, u := range us {
+			snapped[i] = p.snapUnit(u)
 		}
-		return inner(u)
+		inner(snapped, out)
 	}
 	// Points near the best runs, where the optimum is likely, at two
 	// scales.
@@ -631,37 +621,47 @@ func (p *Planner) maximise(ctx context.Context, score func([]float64) float64, a
 		s float64
 	}
 	all := make([]scored, 0, len(cands))
+	scores := make([]float64, len(cands))
+	us := make([][]float64, len(cands))
 	for i, c := range cands {
-		if i%256 == 0 {
-			if err := ctx.Err(); err != nil {
-				return nil, 0, err
-			}
+		us[i] = c
+	}
+	for lo := 0; lo < len(cands); lo += 256 {
+		if err := ctx.Err(); err != nil {
+			return nil, 0, err
 		}
-		all = append(all, scored{c, score(c)})
+		hi := min(lo+256, len(cands))
+		score(us[lo:hi], scores[lo:hi])
+	}
+	for i, c := range cands {
+		all = append(all, scored{c, scores[i]})
 	}
 	sort.SliceStable(all, func(a, b int) bool { return all[a].s > all[b].s })
 	if math.IsInf(all[0].s, -1) || math.IsNaN(all[0].s) {
 		return nil, 0, errNoCandidate
 	}
 	best := all[0]
-	for _, start := range all[:min(p.cfg.Refine, len(all))] {
-		if err := ctx.Err(); err != nil {
-			return nil, 0, err
+	starts := make([][]float64, 0, p.cfg.Refine)
+	for _, s := range all[:min(p.cfg.Refine, len(all))] {
+		starts = append(starts, s.u)
+	}
+	refined, err := p.refine(ctx, score, starts)
+	if err != nil {
+		return nil, 0, err
+	}
+	var ends [][]float64
+	for _, x := range refined {
+		if x != nil {
+			ends = append(ends, p.snapUnit(x))
 		}
-		prob := optimize.Problem{Func: func(u []float64) float64 {
-			s := score(clampUnit(u))
-			if math.IsInf(s, -1) || math.IsNaN(s) {
-				return math.MaxFloat64
-			}
-			return -s
-		}}
-		res, _ := optimize.Minimize(prob, start.u, &optimize.Settings{FuncEvaluations: 60 * d, Converger: &optimize.FunctionConverge{Absolute: 1e-6, Iterations: 15}}, &optimize.NelderMead{SimplexSize: 0.02})
-		if res == nil {
-			continue
-		}
-		u := p.snapUnit(res.X)
-		if s := score(u); s > best.s {
-			best = scored{u, s}
+	}
+	endScores := make([]float64, len(ends))
+	if len(ends) > 0 {
+		score(ends, endScores)
+	}
+	for i, u := range ends {
+		if endScores[i] > best.s {
+			best = scored{u, endScores[i]}
 		}
 	}
 	return p.snapUnit(best.u), best.s, nil

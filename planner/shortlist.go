@@ -54,15 +54,13 @@ func (p *Planner) shortlist(ctx context.Context, m *gp.Model, best float64, feas
 		sd := math.Sqrt(vv)
 		return acquisition.LogExpectedImprovement(mu, sd, best) + logFeasibility(feasible, v), acquisition.LowerConfidenceBound(mu, sd, shortlistBeta)
 	}
-	u, b, err := p.maximise(ctx, func(v []float64) float64 {
-		if !allowed(v) {
-			return math.Inf(-1)
-		}
-		if s, bound := at(v); s >= floor {
-			return -bound
+	score := p.byModel(m, func(v []float64, mu, sd float64) float64 {
+		if acquisition.LogExpectedImprovement(mu, sd, best)+logFeasibility(feasible, v) >= floor {
+			return -acquisition.LowerConfidenceBound(mu, sd, shortlistBeta)
 		}
 		return math.Inf(-1)
-	}, append([][]float64{point}, around...), rng)
+	})
+	u, b, err := p.maximise(ctx, score.where(allowed), append([][]float64{point}, around...), rng)
 	switch {
 	case errors.Is(err, errNoCandidate):
 		return point, top, nil

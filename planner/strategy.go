@@ -53,13 +53,8 @@ type situation struct {
 }
 
 // maximise finds a high score among the allowed, feasible points.
-func (s *situation) maximise(ctx context.Context, score func([]float64) float64) (campaign.Point, float64, error) {
-	return s.p.maximise(ctx, func(u []float64) float64 {
-		if !s.allowed(u) {
-			return negInf
-		}
-		return score(u)
-	}, s.around, s.rng)
+func (s *situation) maximise(ctx context.Context, score scorer) (campaign.Point, float64, error) {
+	return s.p.maximise(ctx, score.where(s.allowed), s.around, s.rng)
 }
 
 // strategyFor returns the strategy the config names (validated).

@@ -27,11 +27,11 @@ func (thompson) choose(ctx context.Context, s *situation) (choice, error) {
 	if err != nil {
 		return choice{}, fmt.Errorf("planner: thompson draw: %w", err)
 	}
-	u, sc, err := s.maximise(ctx, func(u []float64) float64 {
+	u, sc, err := s.maximise(ctx, pointwise(func(u []float64) float64 {
 		if s.feasible != nil && s.feasible(u) < 0.5 {
 			return negInf
 		}
 		return -paths[0].At(s.p.encode(u))
-	})
+	}))
 	return choice{u: u, score: sc, method: MethodThompson, logEI: math.NaN()}, err
 }
