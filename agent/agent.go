@@ -76,14 +76,15 @@ type Agent struct {
 	parsers []parsers.Parser // one per instrument
 	planner *planner.Planner
 
-	journal  *Journal
-	audit    *auditLog
-	auditKey []byte
-	state    *State
-	warm     *gp.Params
-	gate     *safety.Gate
-	proposer Proposer
-	write    func(dir, name string, data []byte) (Staged, error)
+	journal   *Journal
+	audit     *auditLog
+	auditKey  []byte
+	state     *State
+	warm      *gp.Params
+	lastModel *planner.Surrogate // the last model, conditioned on new runs between fits
+	gate      *safety.Gate
+	proposer  Proposer
+	write     func(dir, name string, data []byte) (Staged, error)
 
 	holdSeen  map[string]time.Time // when each hold began, by this process's clock
 	cfgMod    time.Time            // modification time of the config file last read
@@ -898,6 +899,9 @@ func (a *Agent) plan(ctx context.Context) error {
 	if res.Fit != nil {
 		a.warm = res.Fit
 	}
+	if res.Surrogate != nil {
+		a.lastModel = res.Surrogate
+	}
 	if res.Stop != "" {
 		a.log.Info().Str("reason", res.Stop).Msg("stopping rule met; no more proposals")
 		return a.record(Entry{Kind: KindStop, Reason: res.Stop})
@@ -991,7 +995,7 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64, all
 	}()
 	res, err = a.proposer.Propose(ctx, planner.Request{
 		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Pending: a.state.Pending(),
-		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm, Region: region,
+		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm, Previous: a.lastModel, Region: region,
 		Allowed: allowed, Aside: a.state.Asides,
 	})
 	if err == nil && (res.Proposal.RunID != id || !res.Proposal.Point.Finite() || len(res.Proposal.Point) != a.cfg.Campaign.Factors.Dim()) {

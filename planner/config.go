@@ -48,6 +48,11 @@ type Config struct {
 	// between, from the previous fit alone. 1 fits from every start at
 	// every run.
 	RefitEvery int `toml:"refit_every"`
+	// HoldFitFrom: from this many runs on, the hyperparameters are held
+	// between fits and the model conditioned on new runs, O(N²) instead
+	// of O(N³); they are fitted again when the runs have grown by 10%
+	// or a result surprises the model (hold.go). 0 fits at every run.
+	HoldFitFrom int `toml:"hold_fit_from"`
 	// Kernel is "matern32" (default), "matern52" or
 	// "squared_exponential". Matérn 3/2 by default: on the runs-to-optimum
 	// benchmark over 600 seeds (README) it needed fewer runs than 5/2 on
@@ -92,7 +97,7 @@ type StopConfig struct {
 
 // Default returns the defaults.
 func Default() Config {
-	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1,
+	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1, HoldFitFrom: 100,
 		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64}
 }
 
@@ -121,6 +126,9 @@ func (c Config) Validate() campaign.Problems {
 	}
 	if c.RefitEvery < 1 {
 		ps.Add("refit_every", "must be a whole number of runs, at least 1, got %d", c.RefitEvery)
+	}
+	if c.HoldFitFrom < 0 {
+		ps.Add("hold_fit_from", "must be 0 (fit at every run) or a number of runs, got %d", c.HoldFitFrom)
 	}
 	if c.FitStarts < 0 {
 		ps.Add("fit_starts", "must not be negative, got %d", c.FitStarts)

@@ -63,7 +63,7 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 	if len(trials) < minFit {
 		return Diagnostics{}, nil, fmt.Errorf("planner: %d completed runs; a model needs at least %d", len(trials), minFit)
 	}
-	f, err := p.fit(trials, nil, rand.New(rand.NewPCG(p.seed, 0xd1a9)))
+	f, err := p.fit(trials, nil, nil, rand.New(rand.NewPCG(p.seed, 0xd1a9)))
 	if err != nil {
 		return Diagnostics{}, nil, err
 	}

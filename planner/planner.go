@@ -8,7 +8,6 @@ import (
 	"math/rand/v2"
 	"sort"
 
-
 	"benchtender/campaign"
 	"benchtender/planner/acquisition"
 	"benchtender/planner/gp"
@@ -103,6 +102,10 @@ type Request struct {
 	Avoid []campaign.Point
 	// Warm is the previous fit, used as a warm start.
 	Warm *gp.Params
+	// Previous is the last proposal's Result.Surrogate: its
+	// hyperparameters may be held and it conditioned on the new runs
+	// (hold.go). nil fits afresh.
+	Previous *Surrogate
 	// Region, when not nil, confines the proposal to these per-factor
 	// intervals (in factor units), for example the review limits while a
 	// move outside them waits for sign-off.
@@ -122,6 +125,9 @@ type Result struct {
 	Model *gp.Model
 	// Fit is the fitted hyperparameters, for the next warm start.
 	Fit *gp.Params
+	// Surrogate is the model of every run, for the next Request.Previous
+	// (nil during the initial design).
+	Surrogate *Surrogate
 	// Best is the modelled loss the improvement is measured against.
 	Best float64
 	// EI is the largest expected improvement found, in modelled units.
@@ -185,7 +191,7 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 		return p.result(req.RunID, u, MethodDesign, 0, Result{})
 	}
 
-	ft, err := p.fit(req.Trials, req.Warm, rng)
+	ft, err := p.fit(req.Trials, req.Warm, req.Previous, rng)
 	if err != nil {
 		return Result{}, err
 	}
@@ -237,7 +243,7 @@ func (p *Planner) searchOutside(ctx context.Context, req Request, ft *Fitted, a 
 		}
 		return p.result(req.RunID, u, fmt.Sprintf("design of a new search, outside %d stalled region(s)", len(a.centres)), 0, res)
 	}
-	local, err := p.fit(req.Trials[epoch:], nil, rng)
+	local, err := p.fit(req.Trials[epoch:], nil, nil, rng)
 	if err != nil {
 		return Result{}, err
 	}
@@ -290,7 +296,7 @@ func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][
 	m := ft.Model
 	fit := m.Params()
 	best := p.bestMean(m, ft.x)
-	res := Result{Model: m, Fit: &fit}
+	res := Result{Model: m, Fit: &fit, Surrogate: &Surrogate{fitted: ft, fittedAt: ft.fittedAt, kernel: p.cfg.Kernel, noiseSD: p.cfg.NoiseSD, width: len(fit.LengthScales)}}
 	if math.IsNaN(ei) {
 		believer, err := p.believer(m, req.Pending)
 		if err != nil {
@@ -360,14 +366,18 @@ type Fitted struct {
 	x     [][]float64
 	y     []float64 // modelled losses, before warping
 	w     warp
+	// fittedAt is the number of runs when the hyperparameters were
+	// last fitted (hold.go).
+	fittedAt int
 }
 
 // Loss maps a model value (warped) back to a modelled loss.
 func (f *Fitted) loss(u float64) float64 { return f.w.from(u) }
 
 // fit fits the surrogate to the trials, on the unit box and the modelled
-// scale (loss, transformed, warped).
-func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) (*Fitted, error) {
+// scale (loss, transformed, warped), or conditions prev on them with its
+// hyperparameters held (hold.go).
+func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, prev *Surrogate, rng *rand.Rand) (*Fitted, error) {
 	x := make([][]float64, len(trials))
 	y := make([]float64, len(trials))
 	for i, t := range trials {
@@ -390,11 +400,17 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, rng *rand.Rand) 
 	for i := range y {
 		yw[i] = w.to(y[i])
 	}
-	m, err := fitCapped(gx, yw, p.fitOptions(warm, rng, len(gx), len(gx[0])))
-	if err != nil {
-		return nil, fmt.Errorf("planner: fit surrogate: %w", err)
+	fittedAt := len(trials)
+	m := p.held(prev, trials, x, gx, y, yw)
+	if m != nil {
+		fittedAt = prev.fittedAt
+	} else {
+		var err error
+		if m, err = fitCapped(gx, yw, p.fitOptions(warm, rng, len(gx), len(gx[0]))); err != nil {
+			return nil, fmt.Errorf("planner: fit surrogate: %w", err)
+		}
 	}
-	return &Fitted{Model: m, x: x, y: y, w: w}, nil
+	return &Fitted{Model: m, x: x, y: y, w: w, fittedAt: fittedAt}, nil
 }
 
 // fitCap is the largest number of runs the hyperparameters are fitted to.

@@ -24,7 +24,7 @@ func stalledAfter(t *testing.T, g [][]float64, y []float64) *Aside {
 	for i := range g {
 		trials = append(trials, campaign.Trial{Point: g[i], Value: y[i]})
 	}
-	ft, err := p.fit(trials, nil, rand.New(rand.NewPCG(1, 1)))
+	ft, err := p.fit(trials, nil, nil, rand.New(rand.NewPCG(1, 1)))
 	if err != nil {
 		t.Fatal(err)
 	}

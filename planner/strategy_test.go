@@ -41,7 +41,7 @@ func TestThompsonFollowsTheOptimumsDistribution(t *testing.T) {
 	cfg := Default()
 	cfg.Shortlist = 0
 	p := New(cc, cfg)
-	ft, err := p.fit(wellRuns(), nil, rand.New(rand.NewPCG(1, 1)))
+	ft, err := p.fit(wellRuns(), nil, nil, rand.New(rand.NewPCG(1, 1)))
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -4,11 +4,15 @@
 #   apt-get install -y python3-sklearn
 # Usage: scripts/gp-vs-sklearn.sh [SIZES]   (SIZES like 50x2,200x6; default below)
 # REPEATS (default 5) and RESTARTS (default 1) may be set in the environment.
+# Both sides run on one core.
 set -euo pipefail
 cd "$(dirname "$0")/.."
-sizes="${1:-50x2,50x6,200x2,200x6,300x6,1000x2,1000x6}"
+sizes="${1:-50x2,50x6,50x10,200x2,200x6,200x10,300x2,300x6,300x10,1000x2,1000x6,1000x10}"
 bin="$(mktemp -d)/fitclock"
 go build -o "$bin" ./scripts/fitclock
 # Debian's python3, where python3-sklearn is installed; OPENBLAS_* tuning
 # variables, where a machine sets them, are left out of this one command.
-env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE /usr/bin/python3 scripts/gp_vs_sklearn.py "$bin" "$sizes"
+# One core each, as issue 23 compares them: one BLAS thread for numpy, one
+# Go processor for the fit (its starts otherwise run side by side).
+env -u OPENBLAS_CORETYPE -u OPENBLAS_L2_SIZE OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 GOMAXPROCS=1 \
+	/usr/bin/python3 scripts/gp_vs_sklearn.py "$bin" "$sizes"

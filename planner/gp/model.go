@@ -320,3 +320,17 @@ func (m *Model) Covariance(a, b []float64) float64 {
 	_, cov := m.PredictJoint([][]float64{a, b})
 	return cov.At(0, 1)
 }
+
+// LogPosterior is the objective Fit maximises, evaluated at the model's
+// hyperparameters: the log marginal likelihood plus the weak log priors
+// (fit.go), with a prior on every length-scale and the noise measured
+// above Fit's default floor. It lets two sets of hyperparameters (ours,
+// or another library's) be compared on the same objective.
+func (m *Model) LogPosterior() float64 {
+	lp := m.lml + logNormal(math.Log(m.p.SignalVar), priorLogSigMean, priorLogSigSD) + logNormal(m.p.Mean, 0, priorMeanSD) +
+		logNormal(math.Log(math.Max(m.p.NoiseVar-1e-6, 1e-12)), priorLogNoiseMean, priorLogNoiseSD)
+	for _, l := range m.p.LengthScales {
+		lp += logNormal(math.Log(l), priorLogLenMean, priorLogLenSD)
+	}
+	return lp
+}

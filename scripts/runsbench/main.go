@@ -230,10 +230,11 @@ func campaignRuns(prob testfn.Problem, seed uint64, cfg planner.Config, stop boo
 	noise := rand.New(rand.NewPCG(seed, 99))
 	var trials []campaign.Trial
 	var warm *gp.Params
+	var previous *planner.Surrogate
 	var asides []planner.Aside
 	reachedAt := 0
 	for i := 0; i < prob.Budget; i++ {
-		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm, Aside: asides})
+		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm, Previous: previous, Aside: asides})
 		if err != nil {
 			fmt.Fprintf(os.Stderr, "\n%s seed %d run %d: %v\n", prob.Name, seed, i, err)
 			return prob.Budget, false, 0
@@ -245,6 +246,7 @@ func campaignRuns(prob testfn.Problem, seed uint64, cfg planner.Config, stop boo
 			return reachedAt, true, i
 		}
 		warm = res.Fit
+		previous = res.Surrogate
 		if res.NewAside != nil {
 			asides = append(asides, *res.NewAside) // as the agent journals it
 		}
