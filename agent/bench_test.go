@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -19,8 +20,9 @@ import (
 )
 
 // benchCampaign writes a campaign with d factors whose journal already
-// holds n completed runs, and one run in flight.
-func benchCampaign(b *testing.B, n, d int) (*testCampaign, string) {
+// holds n completed runs, and one run in flight, whose id and setpoint it
+// returns.
+func benchCampaign(b *testing.B, n, d int) (*testCampaign, string, campaign.Point) {
 	b.Helper()
 	dir := b.TempDir()
 	for _, s := range []string{"exports", "handoff", "state"} {
@@ -50,14 +52,14 @@ func benchCampaign(b *testing.B, n, d int) (*testCampaign, string) {
 	defer done()
 	rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))
 	pass := safety.Decision{Verdict: safety.Pass}
+	var pt campaign.Point
 	for i := 0; i <= n; i++ {
 		run := fmt.Sprintf("R%05d", i+1)
-		pt := make(campaign.Point, d)
-		var y float64
+		pt = make(campaign.Point, d)
 		for k := range pt {
 			pt[k] = rng.Float64()
-			y += math.Sin(3*pt[k]+float64(k)) * float64(k+1)
 		}
+		y := benchResponse(pt)
 		add(Entry{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
 		add(Entry{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
 		add(Entry{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"})
@@ -65,21 +67,32 @@ func benchCampaign(b *testing.B, n, d int) (*testCampaign, string) {
 			add(Entry{Kind: KindIngest, Run: run, File: run + ".csv", SHA256: fmt.Sprint(i), Value: y})
 		}
 	}
-	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}, fmt.Sprintf("R%05d", n+1)
+	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}, fmt.Sprintf("R%05d", n+1), pt
+}
+
+// benchResponse is the benchmark campaigns' smooth response.
+func benchResponse(pt campaign.Point) float64 {
+	var y float64
+	for k, v := range pt {
+		y += math.Sin(3*v+float64(k)) * float64(k+1)
+	}
+	return y
 }
 
 // BenchmarkArrivalToHandoff: the time from a result file's arrival in the
 // export folder to the next setpoint file written, with n runs in the
 // journal and d factors (settle 0, so it measures the agent's own work:
 // read, parse, journal, fit, propose, gate, write). Peak memory is
-// reported as peak-MB (runtime's total heap obtained from the system).
+// reported as peak-MB (runtime's total memory obtained from the system),
+// and the arrivals' median and 90th percentile as p50-ms and p90-ms. Each
+// arrival is one more run, so the runs grow by b.N over a benchmark.
 //
-//	go test ./agent -run XXX -bench ArrivalToHandoff -benchtime 3x
+//	go test ./agent -run XXX -bench ArrivalToHandoff -benchtime 20x
 func BenchmarkArrivalToHandoff(b *testing.B) {
 	for _, n := range []int{50, 200, 1000} {
 		for _, d := range []int{2, 6} {
 			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
-				tc, inflight := benchCampaign(b, n, d)
+				tc, inflight, at := benchCampaign(b, n, d)
 				events := make(chan Entry, 64)
 				a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 20 * time.Millisecond, Notify: func(e Entry) {
 					select {
@@ -95,18 +108,24 @@ func BenchmarkArrivalToHandoff(b *testing.B) {
 				go func() { done <- a.Run(ctx) }()
 				defer func() { cancel(); <-done }()
 				next := inflight
+				took := make([]time.Duration, 0, b.N)
 				b.ResetTimer()
 				for i := 0; i < b.N; i++ {
+					start := time.Now()
 					path := filepath.Join(tc.cfg.Instrument.Watch.Dir, next+".csv")
-					if err := os.WriteFile(path, []byte(fmt.Sprintf("run,y\n%s,%d.5\n", next, i)), 0o644); err != nil {
+					if err := os.WriteFile(path, []byte(fmt.Sprintf("run,y\n%s,%.6f\n", next, benchResponse(at))), 0o644); err != nil {
 						b.Fatal(err)
 					}
 				wait:
 					for {
 						select {
 						case e := <-events:
+							if e.Kind == KindHandoff {
+								at = e.Point
+							}
 							if e.Kind == KindHandoffOK {
 								next = e.Run
+								took = append(took, time.Since(start))
 								break wait
 							}
 						case err := <-done:
@@ -120,6 +139,9 @@ func BenchmarkArrivalToHandoff(b *testing.B) {
 				var ms runtime.MemStats
 				runtime.ReadMemStats(&ms)
 				b.ReportMetric(float64(ms.Sys)/1e6, "peak-MB")
+				slices.Sort(took)
+				b.ReportMetric(took[len(took)/2].Seconds()*1000, "p50-ms")
+				b.ReportMetric(took[(len(took)*9)/10].Seconds()*1000, "p90-ms")
 			})
 		}
 	}

@@ -15,7 +15,7 @@ import (
 type bound struct{ beta float64 }
 
 func (b bound) choose(ctx context.Context, s *situation) (choice, error) {
-	score := s.p.byModel(s.model, func(_ []float64, mu, sd float64) float64 {
+	score := s.p.byModel(s.model, true, func(_ []float64, mu, sd float64) float64 {
 		return -acquisition.LowerConfidenceBound(mu, sd, b.beta)
 	})
 	u, sc, err := s.maximise(ctx, score.where(func(u []float64) bool { return s.feasible == nil || s.feasible(u) >= 0.5 }))

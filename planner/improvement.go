@@ -24,7 +24,9 @@ type improvement struct {
 
 func (e improvement) choose(ctx context.Context, s *situation) (choice, error) {
 	p := s.p
-	score := p.byModel(s.model, func(u []float64, mu, sd float64) float64 {
+	// The probability of improvement falls with the standard deviation
+	// where the mean is below the best: no bound for it.
+	score := p.byModel(s.model, !e.probability, func(u []float64, mu, sd float64) float64 {
 		if e.probability {
 			return acquisition.LogProbabilityOfImprovement(mu, sd, s.best) + logFeasibility(s.feasible, u)
 		}

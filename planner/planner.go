@@ -302,7 +302,7 @@ func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][
 		if err != nil {
 			return Result{}, err
 		}
-		ei := p.byModel(believer, func(_ []float64, mu, sd float64) float64 {
+		ei := p.byModel(believer, true, func(_ []float64, mu, sd float64) float64 {
 			return acquisition.LogExpectedImprovement(mu, sd, best)
 		})
 		if _, le, err := p.maximise(ctx, ei.where(func(v []float64) bool { return farFrom(v, near) }), byValue(ft.x, ft.y), rng); err == nil {
@@ -611,14 +611,7 @@ func (p *Planner) maximise(ctx context.Context, score scorer, around [][]float64
 	}
 	// Candidates and every refined point are snapped to valid values and
 	// must satisfy the constraints.
-	inner := score.where(p.feasibleUnit)
-	score = func(us [][]float64, out []float64) {
-		snapped := make([][]float64, len(us))
-		for i, u := range us {
-			snapped[i] = p.snapUnit(u)
-		}
-		inner(snapped, out)
-	}
+	score = score.where(p.feasibleUnit).mapped(func(u []float64) []float64 { return p.snapUnit(u) })
 	// Points near the best runs, where the optimum is likely, at two
 	// scales.
 	for _, sigma := range []float64{0.02, 0.08} {
@@ -636,23 +629,18 @@ func (p *Planner) maximise(ctx context.Context, score scorer, around [][]float64
 		u campaign.Point
 		s float64
 	}
-	all := make([]scored, 0, len(cands))
-	scores := make([]float64, len(cands))
 	us := make([][]float64, len(cands))
 	for i, c := range cands {
 		us[i] = c
 	}
-	for lo := 0; lo < len(cands); lo += 256 {
-		if err := ctx.Err(); err != nil {
-			return nil, 0, err
-		}
-		hi := min(lo+256, len(cands))
-		score(us[lo:hi], scores[lo:hi])
+	top, err := p.topCandidates(ctx, score, us, max(1, p.cfg.Refine))
+	if err != nil {
+		return nil, 0, err
 	}
-	for i, c := range cands {
-		all = append(all, scored{c, scores[i]})
+	all := make([]scored, len(top))
+	for i, t := range top {
+		all[i] = scored{cands[t.i], t.s}
 	}
-	sort.SliceStable(all, func(a, b int) bool { return all[a].s > all[b].s })
 	if math.IsInf(all[0].s, -1) || math.IsNaN(all[0].s) {
 		return nil, 0, errNoCandidate
 	}
@@ -673,7 +661,7 @@ func (p *Planner) maximise(ctx context.Context, score scorer, around [][]float64
 	}
 	endScores := make([]float64, len(ends))
 	if len(ends) > 0 {
-		score(ends, endScores)
+		score.exact(ends, endScores)
 	}
 	for i, u := range ends {
 		if endScores[i] > best.s {

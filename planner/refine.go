@@ -69,7 +69,7 @@ func (p *Planner) refine(ctx context.Context, score scorer, starts [][]float64) 
 				us[i] = a.u
 			}
 			s := make([]float64, len(batch))
-			score(us, s)
+			score.exact(us, s)
 			for i, a := range batch {
 				a.reply <- s[i]
 			}

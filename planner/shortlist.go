@@ -54,7 +54,7 @@ func (p *Planner) shortlist(ctx context.Context, m *gp.Model, best float64, feas
 		sd := math.Sqrt(vv)
 		return acquisition.LogExpectedImprovement(mu, sd, best) + logFeasibility(feasible, v), acquisition.LowerConfidenceBound(mu, sd, shortlistBeta)
 	}
-	score := p.byModel(m, func(v []float64, mu, sd float64) float64 {
+	score := p.byModel(m, true, func(v []float64, mu, sd float64) float64 {
 		if acquisition.LogExpectedImprovement(mu, sd, best)+logFeasibility(feasible, v) >= floor {
 			return -acquisition.LowerConfidenceBound(mu, sd, shortlistBeta)
 		}

@@ -123,3 +123,33 @@ func TestWithFantasiesMatchesRefactor(t *testing.T) {
 		closeTo(t, fmt.Sprintf("variance %d", i), gv, wv, 1e-9)
 	}
 }
+
+// MeanBound's mean is Predict's and its bound is never below Predict's
+// standard deviation, with and without noise and fantasies.
+func TestMeanBoundBoundsPredict(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	x, y := randomData(rng, 120, 3, wave, 0.05)
+	for _, noise := range []float64{0, 1e-4, 0.05} {
+		p := defaultParams(Matern52, 3)
+		p.NoiseVar = noise
+		m, err := New(x, y, p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		pts, _ := randomData(rng, 300, 3, wave, 0)
+		pts = append(pts, x[:20]...) // at the runs, where the bound is tightest
+		mean, up := make([]float64, len(pts)), make([]float64, len(pts))
+		m.MeanBound(pts, mean, up)
+		tight := 0
+		for i, pt := range pts {
+			wm, wv := m.Predict(pt)
+			closeTo(t, fmt.Sprintf("noise %g: mean %d", noise, i), mean[i], wm, 1e-12)
+			if sd := math.Sqrt(wv); sd > up[i] {
+				t.Errorf("noise %g: point %d: sd %.15g above its bound %.15g", noise, i, sd, up[i])
+			} else if sd > 0.5*up[i] {
+				tight++
+			}
+		}
+		t.Logf("noise %g: bound within a factor 2 of the sd at %d of %d points", noise, tight, len(pts))
+	}
+}

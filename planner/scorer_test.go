@@ -1,0 +1,69 @@
+package planner
+
+import (
+	"context"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"benchtender/campaign"
+	"benchtender/planner/acquisition"
+)
+
+// Scoring candidates in the order of their bound and stopping early must
+// find the same best candidates, with the same scores, as scoring every
+// one; and it must score fewer of them.
+func TestBoundedSearchFindsTheSameCandidates(t *testing.T) {
+	cc := campaign.Config{Name: "b", StateDir: "x", Seed: 1, MaxRuns: 500,
+		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}, {Name: "c", Min: 0, Max: 1}, {Name: "d", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	p := New(cc, Default())
+	rng := rand.New(rand.NewPCG(2, 3))
+	var trials []campaign.Trial
+	for i := 0; i < 150; i++ {
+		pt := campaign.Point{rng.Float64(), rng.Float64(), rng.Float64(), rng.Float64()}
+		y := math.Sin(5*pt[0]) + (pt[1]-0.4)*(pt[1]-0.4) + math.Cos(4*pt[2]*pt[3])
+		trials = append(trials, campaign.Trial{Point: pt, Value: y})
+	}
+	ft, err := p.fit(trials, nil, nil, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	best := p.bestMean(ft.Model, ft.x)
+	for _, c := range []struct {
+		name string
+		f    func(u []float64, mu, sd float64) float64
+	}{
+		{"expected improvement", func(_ []float64, mu, sd float64) float64 { return acquisition.LogExpectedImprovement(mu, sd, best) }},
+		{"confidence bound", func(_ []float64, mu, sd float64) float64 { return -acquisition.LowerConfidenceBound(mu, sd, 2) }},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			bounded := p.byModel(ft.Model, true, c.f)
+			full := bounded
+			full.bound = nil
+			cands := LatinHypercube(2000, 4, rand.New(rand.NewPCG(4, 5)))
+			us := make([][]float64, len(cands))
+			for i, u := range cands {
+				us[i] = u
+			}
+			const k = 5
+			want, err := p.topCandidates(context.Background(), full, us, k)
+			if err != nil {
+				t.Fatal(err)
+			}
+			got, err := p.topCandidates(context.Background(), bounded, us, k)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for j := 0; j < k; j++ {
+				if got[j] != want[j] {
+					t.Errorf("candidate %d: got %+v, scoring all gives %+v", j, got[j], want[j])
+				}
+			}
+			t.Logf("scored %d of %d candidates", len(got), len(us))
+			if len(got) >= len(us) {
+				t.Errorf("the bound saved nothing: scored %d of %d", len(got), len(us))
+			}
+		})
+	}
+}
