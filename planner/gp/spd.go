@@ -53,10 +53,14 @@ func (c *spd) factor(a []float64, n int, noise, signal float64) (float64, error)
 	}
 }
 
-// solveTo writes A⁻¹b into dst.
+// solveTo writes A⁻¹b into dst: two triangular solves, Uᵀw = b then
+// Ux = w (LAPACK's Potrs would treat b as a matrix, at several times the
+// cost for one column).
 func (c *spd) solveTo(dst, b []float64) {
 	copy(dst, b)
-	lapack64.Potrs(c.tri(), blas64.General{Rows: c.n, Cols: 1, Stride: 1, Data: dst})
+	v := blas64.Vector{N: c.n, Inc: 1, Data: dst}
+	blas64.Trsv(blas.Trans, c.tri(), v)
+	blas64.Trsv(blas.NoTrans, c.tri(), v)
 }
 
 // halfSolve overwrites b with U⁻ᵀb, so that bᵀA⁻¹b is the squared norm of
