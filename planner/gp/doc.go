@@ -4,6 +4,12 @@
 // noise, fitted by maximising the log marginal likelihood (plus weak
 // priors) with analytic gradients and L-BFGS from several starts.
 //
+// A fitted model can be conditioned on more runs with its hyperparameters
+// held (Condition) at O(N²) a run, by extending its Cholesky factor
+// instead of rebuilding it; many points are predicted in blocks
+// (PredictMany), and MeanBound bounds the standard deviation from above
+// at O(N) a point, so a search can skip points that cannot compete.
+//
 // Inputs are expected in the unit box and the model standardises the
 // response itself. The package does no I/O and keeps no global state; every
 // random choice takes an explicit source. It must never return a NaN as a
