@@ -51,7 +51,7 @@ type Config struct {
 	// HoldFitFrom: from this many runs on, the hyperparameters are held
 	// between fits and the model conditioned on new runs, O(N²) instead
 	// of O(N³); they are fitted again when the runs have grown by 10%
-	// or a result surprises the model (hold.go). 0 fits at every run.
+	// since the last fit (hold.go). 0 fits at every run.
 	HoldFitFrom int `toml:"hold_fit_from"`
 	// Kernel is "matern32" (default), "matern52" or
 	// "squared_exponential". Matérn 3/2 by default: on the runs-to-optimum

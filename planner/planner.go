@@ -401,7 +401,7 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, prev *Surrogate,
 		yw[i] = w.to(y[i])
 	}
 	fittedAt := len(trials)
-	m := p.held(prev, trials, x, gx, y, yw)
+	m := p.held(prev, gx, yw)
 	if m != nil {
 		fittedAt = prev.fittedAt
 	} else {
