@@ -301,14 +301,26 @@ func (o *objective) compute(t []float64) float64 {
 	s2 := math.Exp(t[d])
 	noise := o.noise(t)
 	mean := t[d+2]
+	// Two passes, the squared distances and then the kernel, so that the
+	// square roots and exponentials of different pairs overlap (the same
+	// arithmetic as one pass).
+	for i := 0; i < n; i++ {
+		row := i * n
+		r2 := o.kc[row+i : row+n]
+		for j := range r2 {
+			r2[j] = 0
+		}
+		for k := 0; k < d; k++ {
+			sq, w := o.sq[k][row+i:row+n], iv[k]
+			for j, v := range sq {
+				r2[j] += v * w
+			}
+		}
+	}
 	for i := 0; i < n; i++ {
 		row := i * n
 		for j := i; j < n; j++ {
-			var r2 float64
-			for k := 0; k < d; k++ {
-				r2 += o.sq[k][row+j] * iv[k]
-			}
-			kc, gc := o.kern.corrSlope(math.Sqrt(r2))
+			kc, gc := o.kern.corrSlope(math.Sqrt(o.kc[row+j]))
 			o.kc[row+j], o.gc[row+j] = kc, gc
 			o.k[row+j] = s2 * kc
 		}

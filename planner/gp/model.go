@@ -218,11 +218,9 @@ func (m *Model) Mean(x []float64) float64 {
 	if len(x) != m.Dim() {
 		panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
 	}
-	var mu float64
-	for i, xi := range m.x {
-		mu += m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen)) * m.alpha[i]
-	}
-	return m.yMean + m.yScale*(m.p.Mean+mu)
+	ks := make([]float64, len(m.x))
+	m.crossCov(ks, x)
+	return m.yMean + m.yScale*(m.p.Mean+dot(ks, m.alpha))
 }
 
 // predictBlock is the number of points PredictMany solves for at once.
@@ -240,6 +238,7 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 	n := len(m.x)
 	s2 := m.yScale * m.yScale
 	buf := make([]float64, n*min(predictBlock, len(xs)))
+	col := make([]float64, n)
 	for lo := 0; lo < len(xs); lo += predictBlock {
 		block := xs[lo:min(lo+predictBlock, len(xs))]
 		q := len(block)
@@ -248,13 +247,11 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 			if len(x) != m.Dim() {
 				panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
 			}
-			var mu float64
-			for i, xi := range m.x {
-				c := m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen))
+			m.crossCov(col, x)
+			for i, c := range col {
 				v.Data[i*q+j] = c
-				mu += c * m.alpha[i]
 			}
-			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+mu)
+			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+dot(col, m.alpha))
 		}
 		// V = U⁻ᵀ K*, column by column k*ᵀ K⁻¹ k* = ‖v‖².
 		blas64.Trsm(blas.Left, blas.Trans, 1, m.c.tri(), v)
@@ -274,10 +271,39 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 	}
 }
 
-// crossCov fills dst with k(x_i, x) for every data point.
+// crossCov fills dst with k(x_i, x) for every data point: s²·corr of
+// the scaled distance, the same arithmetic as Kernel.corr and scaledDist
+// value for value, in two passes (the squared distances, then the
+// kernel) so that the processor overlaps the square roots and
+// exponentials of different points instead of waiting on each in turn.
 func (m *Model) crossCov(dst []float64, x []float64) {
+	inv := m.invLen[:len(x)]
 	for i, xi := range m.x {
-		dst[i] = m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen))
+		xi = xi[:len(x)]
+		var r2 float64
+		for k, v := range x {
+			d := (xi[k] - v) * inv[k]
+			r2 += d * d
+		}
+		dst[i] = r2
+	}
+	s2 := m.p.SignalVar
+	switch m.p.Kernel {
+	case Matern32:
+		for i, r2 := range dst {
+			t := sqrt3 * math.Sqrt(r2)
+			dst[i] = s2 * ((1 + t) * math.Exp(-t))
+		}
+	case SquaredExponential:
+		for i, r2 := range dst {
+			r := math.Sqrt(r2)
+			dst[i] = s2 * math.Exp(-0.5*r*r)
+		}
+	default:
+		for i, r2 := range dst {
+			t := sqrt5 * math.Sqrt(r2)
+			dst[i] = s2 * ((1 + t + t*t/3) * math.Exp(-t))
+		}
 	}
 }
 
@@ -353,17 +379,17 @@ func (m *Model) MeanBound(xs [][]float64, mean, sdUpper []float64) {
 	}
 	s2 := m.p.SignalVar
 	diag := s2 + m.p.NoiseVar + m.jitter
+	ks := make([]float64, len(m.x))
 	for j, x := range xs {
 		if len(x) != m.Dim() {
 			panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
 		}
-		var mu, kmax float64
-		for i, xi := range m.x {
-			c := s2 * m.p.Kernel.corr(scaledDist(xi, x, m.invLen))
-			mu += c * m.alpha[i]
+		m.crossCov(ks, x)
+		var kmax float64
+		for _, c := range ks {
 			kmax = math.Max(kmax, c)
 		}
-		mean[j] = m.yMean + m.yScale*(m.p.Mean+mu)
+		mean[j] = m.yMean + m.yScale*(m.p.Mean+dot(ks, m.alpha))
 		// A relative margin covers rounding in the exact variance.
 		v := math.Max(0, s2-kmax*kmax/diag)*(1+1e-9) + 1e-15*s2
 		sdUpper[j] = math.Sqrt(v) * m.yScale
