@@ -237,36 +237,30 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 	}
 	n := len(m.x)
 	s2 := m.yScale * m.yScale
-	buf := make([]float64, n*min(predictBlock, len(xs)))
-	col := make([]float64, n)
+	q := min(predictBlock, len(xs))
+	buf := make([]float64, n*q)
+	cols := make([][]float64, q)
+	for j := range cols {
+		cols[j] = buf[j*n : j*n+n]
+	}
 	for lo := 0; lo < len(xs); lo += predictBlock {
 		block := xs[lo:min(lo+predictBlock, len(xs))]
-		q := len(block)
-		v := blas64.General{Rows: n, Cols: q, Stride: q, Data: buf[:n*q]}
+		vs := cols[:len(block)]
 		for j, x := range block {
 			if len(x) != m.Dim() {
 				panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
 			}
-			m.crossCov(col, x)
-			for i, c := range col {
-				v.Data[i*q+j] = c
-			}
-			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+dot(col, m.alpha))
+			m.crossCov(vs[j], x)
+			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+dot(vs[j], m.alpha))
 		}
 		// V = U⁻ᵀ K*, column by column k*ᵀ K⁻¹ k* = ‖v‖².
-		blas64.Trsm(blas.Left, blas.Trans, 1, m.c.tri(), v)
-		vv := variance[lo : lo+q]
-		for j := range vv {
-			vv[j] = 0
-		}
-		for i := 0; i < n; i++ {
-			row := v.Data[i*q : i*q+q]
-			for j, c := range row {
-				vv[j] += c * c
+		m.c.halfSolveMany(vs)
+		for j, v := range vs {
+			var ss float64
+			for _, c := range v {
+				ss += c * c
 			}
-		}
-		for j := range vv {
-			vv[j] = math.Max(0, m.p.SignalVar-vv[j]) * s2
+			variance[lo+j] = math.Max(0, m.p.SignalVar-ss) * s2
 		}
 	}
 }

@@ -69,6 +69,26 @@ func (c *spd) halfSolve(b []float64) {
 	blas64.Trsv(blas.Trans, c.tri(), blas64.Vector{N: c.n, Inc: 1, Data: b})
 }
 
+// halfSolveMany overwrites each b of bs with U⁻ᵀb, as halfSolve does for
+// one. It goes through U row by row, applying each row to every b before
+// the next: the row is read from memory once for all of bs, and each
+// update is a long contiguous axpy. (blas64.Trsm on a row-major block
+// does the same arithmetic, value for value, but with updates as long as
+// the number of columns, which is slow when they are few.)
+func (c *spd) halfSolveMany(bs [][]float64) {
+	n := c.n
+	for k := 0; k < n; k++ {
+		inv := 1 / c.u[k*n+k]
+		row := blas64.Vector{N: n - k - 1, Inc: 1, Data: c.u[k*n+k+1 : k*n+n]}
+		for _, b := range bs {
+			b[k] *= inv
+			if v := b[k]; v != 0 && k+1 < n {
+				blas64.Axpy(-v, row, blas64.Vector{N: n - k - 1, Inc: 1, Data: b[k+1 : n]})
+			}
+		}
+	}
+}
+
 // inverseTo writes the upper triangle of A⁻¹ into dst (n×n, row major).
 func (c *spd) inverseTo(dst []float64) bool {
 	copy(dst, c.u)
