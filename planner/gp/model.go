@@ -306,23 +306,21 @@ func (m *Model) crossCov(dst []float64, x []float64) {
 // Cov = K** − K*ᵀ K⁻¹ K* (Rasmussen and Williams 2006, eq. 2.24).
 func (m *Model) PredictJoint(xs [][]float64) ([]float64, *mat.SymDense) {
 	n, q := len(m.x), len(xs)
-	// V = U⁻ᵀ K* (n×q), so K*ᵀ K⁻¹ K* = VᵀV.
-	v := blas64.General{Rows: n, Cols: q, Stride: q, Data: make([]float64, n*q)}
-	col := make([]float64, n)
+	// Row j of w is v_j = U⁻ᵀ k*_j, so K*ᵀ K⁻¹ K* = w wᵀ.
+	w := blas64.General{Rows: q, Cols: n, Stride: n, Data: make([]float64, q*n)}
+	rows := make([][]float64, q)
 	mean := make([]float64, q)
 	for j, x := range xs {
 		if len(x) != m.Dim() {
 			panic(fmt.Sprintf("gp: predict at %d values, model has %d inputs", len(x), m.Dim()))
 		}
-		m.crossCov(col, x)
-		mean[j] = m.yMean + m.yScale*(m.p.Mean+dot(col, m.alpha))
-		for i, c := range col {
-			v.Data[i*q+j] = c
-		}
+		rows[j] = w.Data[j*n : j*n+n]
+		m.crossCov(rows[j], x)
+		mean[j] = m.yMean + m.yScale*(m.p.Mean+dot(rows[j], m.alpha))
 	}
-	blas64.Trsm(blas.Left, blas.Trans, 1, m.c.tri(), v)
-	vtv := blas64.General{Rows: q, Cols: q, Stride: q, Data: make([]float64, q*q)}
-	blas64.Gemm(blas.Trans, blas.NoTrans, 1, v, v, 0, vtv)
+	m.c.halfSolveMany(rows)
+	vtv := blas64.Symmetric{Uplo: blas.Upper, N: q, Stride: q, Data: make([]float64, q*q)}
+	blas64.Syrk(blas.NoTrans, 1, w, 0, vtv)
 	cov := mat.NewSymDense(q, nil)
 	s2 := m.yScale * m.yScale
 	for i := 0; i < q; i++ {
