@@ -69,12 +69,23 @@ func (p *Planner) refine(ctx context.Context, score scorer, starts [][]float64) 
 				us[i] = a.u
 			}
 			s := make([]float64, len(batch))
-			score.exact(us, s)
+			if ctx.Err() == nil {
+				score.exact(us, s)
+			} else {
+				// Cancelled: every point is barred, so each refinement
+				// converges at once and the goroutines end.
+				for i := range s {
+					s[i] = negInf
+				}
+			}
 			for i, a := range batch {
 				a.reply <- s[i]
 			}
 			batch = batch[:0]
 		}
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, err
 	}
 	return out, nil
 }

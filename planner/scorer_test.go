@@ -67,3 +67,28 @@ func TestBoundedSearchFindsTheSameCandidates(t *testing.T) {
 		})
 	}
 }
+
+// A cancelled context ends the lockstep refinements promptly with the
+// context's error, every goroutine finished.
+func TestRefineStopsWhenCancelled(t *testing.T) {
+	cc := campaign.Config{Name: "r", StateDir: "x", Seed: 1, MaxRuns: 10,
+		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	p := New(cc, Default())
+	ctx, cancel := context.WithCancel(context.Background())
+	calls := 0
+	score := pointwise(func(u []float64) float64 {
+		calls++
+		if calls == 20 {
+			cancel()
+		}
+		return -(u[0]-0.3)*(u[0]-0.3) - (u[1]-0.6)*(u[1]-0.6)
+	})
+	_, err := p.refine(ctx, score, [][]float64{{0.1, 0.1}, {0.9, 0.9}, {0.5, 0.5}})
+	if err != context.Canceled {
+		t.Fatalf("got %v, want context.Canceled", err)
+	}
+	if calls > 25 {
+		t.Errorf("%d points scored after cancelling at the 20th", calls)
+	}
+}
