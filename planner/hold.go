@@ -36,12 +36,9 @@ const holdGrowth = 0.1
 // instead of fitted again. It is opaque to the caller.
 type Surrogate struct {
 	fitted *Fitted
-	// fittedAt is the number of runs when the hyperparameters were last
-	// fitted.
-	fittedAt int
-	kernel   string
-	noiseSD  float64
-	width    int
+	// kernel and noiseSD are the configuration it was fitted under.
+	kernel  string
+	noiseSD float64
 }
 
 // held returns the model of the trials conditioned on prev with its
@@ -53,13 +50,14 @@ func (p *Planner) held(prev *Surrogate, gx [][]float64, yw []float64) *gp.Model 
 	if p.cfg.HoldFitFrom == 0 || prev == nil || prev.fitted == nil || n < p.cfg.HoldFitFrom {
 		return nil
 	}
-	if prev.kernel != p.cfg.Kernel || prev.noiseSD != p.cfg.NoiseSD || prev.width != len(gx[0]) {
+	at := prev.fitted.fittedAt
+	if prev.kernel != p.cfg.Kernel || prev.noiseSD != p.cfg.NoiseSD || prev.fitted.Model.Dim() != len(gx[0]) {
 		return nil
 	}
-	if sharedLength(n, len(gx[0])) != sharedLength(prev.fittedAt, len(gx[0])) {
+	if sharedLength(n, len(gx[0])) != sharedLength(at, len(gx[0])) {
 		return nil
 	}
-	if float64(n) >= float64(prev.fittedAt)*(1+holdGrowth) {
+	if float64(n) >= float64(at)*(1+holdGrowth) {
 		return nil
 	}
 	m, err := gp.Condition(prev.fitted.Model, gx, yw)

@@ -36,7 +36,7 @@ func TestHoldFitBetweenRefits(t *testing.T) {
 		return ft
 	}
 	surrogate := func(ft *Fitted) *Surrogate {
-		return &Surrogate{fitted: ft, fittedAt: ft.fittedAt, kernel: cfg.Kernel, noiseSD: cfg.NoiseSD, width: 3}
+		return &Surrogate{fitted: ft, kernel: cfg.Kernel, noiseSD: cfg.NoiseSD}
 	}
 
 	below := fitAt(38, nil)

@@ -296,7 +296,7 @@ func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][
 	m := ft.Model
 	fit := m.Params()
 	best := p.bestMean(m, ft.x)
-	res := Result{Model: m, Fit: &fit, Surrogate: &Surrogate{fitted: ft, fittedAt: ft.fittedAt, kernel: p.cfg.Kernel, noiseSD: p.cfg.NoiseSD, width: len(fit.LengthScales)}}
+	res := Result{Model: m, Fit: &fit, Surrogate: &Surrogate{fitted: ft, kernel: p.cfg.Kernel, noiseSD: p.cfg.NoiseSD}}
 	if math.IsNaN(ei) {
 		believer, err := p.believer(m, req.Pending)
 		if err != nil {
@@ -403,7 +403,7 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, prev *Surrogate,
 	fittedAt := len(trials)
 	m := p.held(prev, gx, yw)
 	if m != nil {
-		fittedAt = prev.fittedAt
+		fittedAt = prev.fitted.fittedAt
 	} else {
 		var err error
 		if m, err = fitCapped(gx, yw, p.fitOptions(warm, rng, len(gx), len(gx[0]))); err != nil {
