@@ -1,9 +1,7 @@
 package main
 
 import (
-	"bufio"
 	"context"
-	"io/fs"
 	"math/rand/v2"
 	"os"
 	"os/exec"
@@ -67,13 +65,7 @@ func TestCrashDuringSignoffs(t *testing.T) {
 		}
 	}
 	rng := rand.New(rand.NewPCG(19, 19))
-	start := func() *exec.Cmd {
-		c := exec.Command(bin, "run", cfgPath)
-		if err := c.Start(); err != nil {
-			t.Fatal(err)
-		}
-		return c
-	}
+	start := func() *exec.Cmd { return startDaemon(t, bin, cfgPath) }
 	for i := 0; i < kills; i++ {
 		c := start()
 		time.Sleep(time.Duration(100+rng.IntN(500)) * time.Millisecond)
@@ -110,17 +102,11 @@ func TestCrashDuringSignoffs(t *testing.T) {
 	}
 	st := agent.Replay(es)
 	applied := map[string]int{}
-	intents := map[string]int{}
 	approvals := 0
 	for _, e := range es {
-		switch e.Kind {
-		case agent.KindSignoff:
+		if e.Kind == agent.KindSignoff {
 			applied[e.Request]++
 			approvals++
-		case agent.KindHandoff:
-			intents[e.Run]++
-		case agent.KindHandoffNo:
-			intents[e.Run]--
 		}
 	}
 	for id, n := range applied {
@@ -136,36 +122,11 @@ func TestCrashDuringSignoffs(t *testing.T) {
 			t.Errorf("sign-off request left in the inbox: %s", f.Name())
 		}
 	}
-	taken := map[string]int{}
-	if f, err := os.Open(filepath.Join(cfg.Instrument.HandoffDir, "taken.log")); err == nil {
-		sc := bufio.NewScanner(f)
-		for sc.Scan() {
-			taken[sc.Text()]++
-		}
-		f.Close()
-	}
-	for run, n := range taken {
-		if n != 1 {
-			t.Errorf("the instrument took %s %d times", run, n)
-		}
-		if intents[run] != 1 {
-			t.Errorf("%s was taken but the journal holds %d live handoffs of it", run, intents[run])
-		}
-	}
-	for run, n := range intents {
-		if n > 1 {
-			t.Errorf("%s handed off %d times", run, n)
-		}
-	}
+	taken := handedOffOnce(t, cfg, es)
 	if len(st.Held())+len(st.Ready()) > 0 {
 		t.Errorf("%d runs still held and %d approved but not handed off", len(st.Held()), len(st.Ready()))
 	}
-	filepath.WalkDir(cfg.Campaign.StateDir, func(path string, d fs.DirEntry, err error) error {
-		if err == nil && !d.IsDir() && strings.HasPrefix(d.Name(), ".benchtender-") && strings.HasSuffix(d.Name(), ".tmp") {
-			t.Errorf("temp file left after the last clean run: %s", path)
-		}
-		return nil
-	})
+	noTempFiles(t, cfg.Campaign.StateDir)
 	n, err := agent.CheckRecord(cfg)
 	if err != nil {
 		t.Errorf("audit trail: %v", err)
@@ -174,7 +135,7 @@ func TestCrashDuringSignoffs(t *testing.T) {
 		t.Error("no move was approved: the test did not exercise sign-offs")
 	}
 	t.Logf("%d kills; %d approval requests given, %d sign-off entries; %d setpoints taken; %d runs done; %d journal entries, %d audit entries",
-		kills, requests, approvals, len(taken), len(st.Trials()), len(es), n)
+		kills, requests, approvals, taken, len(st.Trials()), len(es), n)
 	if len(st.Trials())+len(st.FailedPoints()) < runs {
 		t.Errorf("%d of %d runs done", len(st.Trials())+len(st.FailedPoints()), runs)
 	}

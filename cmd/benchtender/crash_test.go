@@ -40,14 +40,7 @@ func TestCrashAndRestart(t *testing.T) {
 	go func() { simDone <- instr.Run(ctx) }()
 
 	rng := rand.New(rand.NewPCG(7, 7))
-	start := func() *exec.Cmd {
-		c := exec.Command(bin, "run", cfgPath)
-		c.Stdout, c.Stderr = nil, nil
-		if err := c.Start(); err != nil {
-			t.Fatal(err)
-		}
-		return c
-	}
+	start := func() *exec.Cmd { return startDaemon(t, bin, cfgPath) }
 	for i := 0; i < kills; i++ {
 		c := start()
 		time.Sleep(time.Duration(50+rng.IntN(700)) * time.Millisecond)
@@ -75,27 +68,15 @@ func TestCrashAndRestart(t *testing.T) {
 		t.Fatal(err)
 	}
 	st := agent.Replay(es)
-	// The last run swept what the kills left half-written, archive
-	// folders included (issue 19: archive/xx/ was skipped).
-	filepath.WalkDir(cfg.Campaign.StateDir, func(path string, d fs.DirEntry, err error) error {
-		if err == nil && !d.IsDir() && strings.HasPrefix(d.Name(), ".benchtender-") && strings.HasSuffix(d.Name(), ".tmp") {
-			t.Errorf("temp file left after the last clean run: %s", path)
-		}
-		return nil
-	})
+	noTempFiles(t, cfg.Campaign.StateDir)
 	// Every result file ingested exactly once.
 	ingests := map[string]int{}
-	intents := map[string]int{}
 	for _, e := range es {
 		switch e.Kind {
 		case agent.KindIngest:
 			ingests[filepath.Base(e.File)]++
 		case agent.KindQuarantine:
 			t.Errorf("quarantined %s: %s", e.File, e.Reason)
-		case agent.KindHandoff:
-			intents[e.Run]++
-		case agent.KindHandoffNo:
-			intents[e.Run]--
 		}
 	}
 	results, _ := filepath.Glob(filepath.Join(cfg.Instrument.Watch.Dir, "*.csv"))
@@ -104,8 +85,66 @@ func TestCrashAndRestart(t *testing.T) {
 			t.Errorf("result %s ingested %d times", filepath.Base(r), n)
 		}
 	}
-	// No run handed off twice, as the instrument saw it and as the
-	// journal says; every setpoint taken has its journal entry.
+	taken := handedOffOnce(t, cfg, es)
+	n, err := agent.CheckRecord(cfg)
+	if err != nil {
+		t.Errorf("audit trail: %v", err)
+	}
+	t.Logf("%d kills; %d setpoints taken by the instrument, %d result files, %d ingested, %d runs done, %d journal entries, %d audit entries",
+		kills, taken, len(results), len(ingests), len(st.Trials()), len(es), n)
+	// Nothing stalls: every run of the budget ends with its result.
+	if len(st.Trials()) != runs {
+		t.Errorf("%d of %d runs done after the kills and %v of running on", len(st.Trials()), runs, 90*time.Second)
+	}
+	// Settled once: restarts add nothing to the audit trail beyond the
+	// journal (and the rare repair note of a torn last record).
+	if n > len(es)+kills/10 {
+		t.Errorf("%d audit entries for %d journal entries", n, len(es))
+	}
+	if t.Failed() {
+		dumpCampaign(t, cfg, es)
+	}
+}
+
+// startDaemon starts the real binary on the campaign, its output
+// discarded.
+func startDaemon(t *testing.T, bin, cfgPath string) *exec.Cmd {
+	t.Helper()
+	c := exec.Command(bin, "run", cfgPath)
+	if err := c.Start(); err != nil {
+		t.Fatal(err)
+	}
+	return c
+}
+
+// noTempFiles fails for every temp file left under the state folder:
+// the last clean run sweeps what kills left half-written, archive
+// folders included (issue 19: archive/xx/ was skipped).
+func noTempFiles(t *testing.T, stateDir string) {
+	t.Helper()
+	filepath.WalkDir(stateDir, func(path string, d fs.DirEntry, err error) error {
+		if err == nil && !d.IsDir() && strings.HasPrefix(d.Name(), ".benchtender-") && strings.HasSuffix(d.Name(), ".tmp") {
+			t.Errorf("temp file left after the last clean run: %s", path)
+		}
+		return nil
+	})
+}
+
+// handedOffOnce checks that no run was handed off twice, as the simulated
+// instrument saw it (its taken.log) and as the journal es says, and that
+// every setpoint taken has one live handoff in the journal. It returns the
+// number of setpoints taken.
+func handedOffOnce(t *testing.T, cfg agent.Config, es []agent.Entry) int {
+	t.Helper()
+	intents := map[string]int{}
+	for _, e := range es {
+		switch e.Kind {
+		case agent.KindHandoff:
+			intents[e.Run]++
+		case agent.KindHandoffNo:
+			intents[e.Run]--
+		}
+	}
 	taken := map[string]int{}
 	if f, err := os.Open(filepath.Join(cfg.Instrument.HandoffDir, "taken.log")); err == nil {
 		sc := bufio.NewScanner(f)
@@ -127,24 +166,7 @@ func TestCrashAndRestart(t *testing.T) {
 			t.Errorf("%s handed off %d times", run, n)
 		}
 	}
-	n, err := agent.CheckRecord(cfg)
-	if err != nil {
-		t.Errorf("audit trail: %v", err)
-	}
-	t.Logf("%d kills; %d setpoints taken by the instrument, %d result files, %d ingested, %d runs done, %d journal entries, %d audit entries",
-		kills, len(taken), len(results), len(ingests), len(st.Trials()), len(es), n)
-	// Nothing stalls: every run of the budget ends with its result.
-	if len(st.Trials()) != runs {
-		t.Errorf("%d of %d runs done after the kills and %v of running on", len(st.Trials()), runs, 90*time.Second)
-	}
-	// Settled once: restarts add nothing to the audit trail beyond the
-	// journal (and the rare repair note of a torn last record).
-	if n > len(es)+kills/10 {
-		t.Errorf("%d audit entries for %d journal entries", n, len(es))
-	}
-	if t.Failed() {
-		dumpCampaign(t, cfg, es)
-	}
+	return len(taken)
 }
 
 // dumpCampaign logs the journal's entries and the agent log's last lines,
