@@ -14,9 +14,7 @@ import (
 // the same log marginal likelihood as conditioning from scratch), until
 // the runs have grown by 10%; then they are fitted again.
 func TestHoldFitBetweenRefits(t *testing.T) {
-	cc := campaign.Config{Name: "hold", StateDir: "x", Seed: 1, MaxRuns: 100,
-		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}, {Name: "c", Min: 0, Max: 1}},
-		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	cc := unitCampaign(3, 100)
 	cfg := Default()
 	cfg.HoldFitFrom = 40
 	p := New(cc, cfg)
@@ -103,4 +101,15 @@ func equalParams(a, b gp.Params) bool {
 		}
 	}
 	return true
+}
+
+// unitCampaign is a campaign of d factors (a, b, ...) on [0, 1] and one
+// response to minimise, with room for maxRuns runs.
+func unitCampaign(d, maxRuns int) campaign.Config {
+	fs := make(campaign.Space, d)
+	for k := range fs {
+		fs[k] = campaign.Factor{Name: string(rune('a' + k)), Min: 0, Max: 1}
+	}
+	return campaign.Config{Name: "unit", StateDir: "x", Seed: 1, MaxRuns: maxRuns, Factors: fs,
+		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
 }

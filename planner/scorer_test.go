@@ -14,9 +14,7 @@ import (
 // find the same best candidates, with the same scores, as scoring every
 // one; and it must score fewer of them.
 func TestBoundedSearchFindsTheSameCandidates(t *testing.T) {
-	cc := campaign.Config{Name: "b", StateDir: "x", Seed: 1, MaxRuns: 500,
-		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}, {Name: "c", Min: 0, Max: 1}, {Name: "d", Min: 0, Max: 1}},
-		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	cc := unitCampaign(4, 500)
 	p := New(cc, Default())
 	rng := rand.New(rand.NewPCG(2, 3))
 	var trials []campaign.Trial
@@ -71,9 +69,7 @@ func TestBoundedSearchFindsTheSameCandidates(t *testing.T) {
 // A cancelled context ends the lockstep refinements promptly with the
 // context's error, every goroutine finished.
 func TestRefineStopsWhenCancelled(t *testing.T) {
-	cc := campaign.Config{Name: "r", StateDir: "x", Seed: 1, MaxRuns: 10,
-		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
-		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	cc := unitCampaign(2, 10)
 	p := New(cc, Default())
 	ctx, cancel := context.WithCancel(context.Background())
 	calls := 0
