@@ -61,15 +61,12 @@ func samePrefix(a, b [][]float64) bool {
 
 // covBlock returns the covariances of rows n0.. of m's inputs with every
 // row, as an (n−n0)×n row-major block: row i−n0 holds k(x_i, x_j) for
-// j = 0..n−1 (without noise).
+// j = 0..n−1 (without noise; extend reads j ≤ i).
 func (m *Model) covBlock(n0 int) []float64 {
 	n := len(m.x)
 	b := make([]float64, (n-n0)*n)
 	for i := n0; i < n; i++ {
-		row := b[(i-n0)*n:]
-		for j := 0; j <= i; j++ {
-			row[j] = m.p.SignalVar * m.p.Kernel.corr(scaledDist(m.x[i], m.x[j], m.invLen))
-		}
+		m.crossCov(b[(i-n0)*n:(i-n0+1)*n], m.x[i])
 	}
 	return b
 }
