@@ -19,6 +19,7 @@ import (
 	"benchtender/parsers"
 	"benchtender/planner"
 	"benchtender/planner/gp"
+	"benchtender/record"
 	"benchtender/safety"
 	"benchtender/watch"
 )
@@ -32,7 +33,7 @@ type Options struct {
 	Now func() time.Time
 	// Notify, when set, is called with every journal entry after it is
 	// written, from the agent's goroutine; it must not block for long.
-	Notify func(Entry)
+	Notify func(record.Entry)
 	// Tick is how often the sign-off inbox, the all-stop file and the
 	// config file are looked at (default 1 s).
 	Tick time.Duration
@@ -49,7 +50,7 @@ type Options struct {
 	// Writer stages a setpoint file in the handoff folder: written and
 	// synced under a temp name, put in place by Commit (a temp file
 	// beside the target when nil); tests inject faults here.
-	Writer func(dir, name string, data []byte) (Staged, error)
+	Writer func(dir, name string, data []byte) (record.Staged, error)
 }
 
 // Observer receives the agent's measurements; every method is called from
@@ -76,15 +77,15 @@ type Agent struct {
 	parsers []parsers.Parser // one per instrument
 	planner *planner.Planner
 
-	journal   *Journal
-	audit     *auditLog
+	journal   *record.Journal
+	audit     *record.Audit
 	auditKey  []byte
-	state     *State
+	state     *record.State
 	warm      *gp.Params
 	lastModel *planner.Surrogate // the last model, conditioned on new runs between fits
 	gate      *safety.Gate
 	proposer  Proposer
-	write     func(dir, name string, data []byte) (Staged, error)
+	write     func(dir, name string, data []byte) (record.Staged, error)
 
 	holdSeen  map[string]time.Time // when each hold began, by this process's clock
 	cfgMod    time.Time            // modification time of the config file last read
@@ -151,8 +152,8 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		a.proposer = a.planner
 	}
 	if a.write == nil {
-		a.write = func(dir, name string, data []byte) (Staged, error) {
-			return atomicWriter{}.stage(dir, name, data, 0o644)
+		a.write = func(dir, name string, data []byte) (record.Staged, error) {
+			return record.Writer{}.Stage(dir, name, data, 0o644)
 		}
 	}
 	if opt.ConfigPath != "" {
@@ -276,10 +277,10 @@ func (a *Agent) open() error {
 	if err := os.MkdirAll(sd, 0o755); err != nil {
 		return fmt.Errorf("agent: state folder: %w", err)
 	}
-	if err := checkLocalFS(sd); err != nil {
+	if err := record.CheckLocalFS(sd); err != nil {
 		return fmt.Errorf("agent: %w", err)
 	}
-	unlock, err := lockState(sd)
+	unlock, err := record.LockState(sd)
 	if err != nil {
 		return fmt.Errorf("agent: %w", err)
 	}
@@ -294,17 +295,17 @@ func (a *Agent) open() error {
 		return fmt.Errorf("agent: %w; nothing was started", err)
 	}
 	a.auditKey = key
-	audit, tornAudit, err := openAudit(auditPath(sd), key)
+	audit, tornAudit, err := record.OpenAudit(record.AuditPath(sd), key)
 	if err != nil {
-		return fmt.Errorf("agent: %s: %w; nothing was started (run benchtender audit verify)", auditPath(sd), err)
+		return fmt.Errorf("agent: %s: %w; nothing was started (run benchtender audit verify)", record.AuditPath(sd), err)
 	}
 	a.audit = audit
-	j, entries, cut, err := OpenJournal(journalPath(sd))
+	j, entries, cut, err := record.OpenJournal(journalPath(sd))
 	if err != nil {
-		audit.close()
+		audit.Close()
 		return fmt.Errorf("agent: %w", err)
 	}
-	a.journal, a.state = j, Replay(entries)
+	a.journal, a.state = j, record.Replay(entries)
 	// The journal and the trail must agree; the one gap a crash leaves
 	// (the last entry journalled, not yet audited) is closed now.
 	if err := a.reconcile(entries); err != nil {
@@ -352,15 +353,15 @@ func (a *Agent) open() error {
 		handoffDirs[ic.HandoffDir] = true
 	}
 	for _, dir := range dirs {
-		removed, err := sweepTemp(dir)
+		removed, err := record.SweepTemp(dir)
 		if err != nil && !errors.Is(err, os.ErrNotExist) {
 			a.log.Warn().Err(err).Str("dir", dir).Msg("cannot sweep temp files")
 		}
 		for _, t := range removed {
-			a.log.Info().Str("file", filepath.Join(dir, t.name)).Msg("removed a temp file left by an earlier run")
+			a.log.Info().Str("file", filepath.Join(dir, t.Name)).Msg("removed a temp file left by an earlier run")
 			if handoffDirs[dir] {
-				target := filepath.Join(dir, tempTarget(t.name))
-				swept[target] = append(swept[target], t.head)
+				target := filepath.Join(dir, record.TempTarget(t.Name))
+				swept[target] = append(swept[target], t.Head)
 			}
 		}
 	}
@@ -384,17 +385,17 @@ func (a *Agent) recoverHandoffs(swept map[string][]string) error {
 		staged := slices.ContainsFunc(swept[path], func(head string) bool { return strings.Contains(head, r.ActionID) })
 		switch {
 		case err == nil && strings.Contains(string(data), r.ActionID):
-			if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "found in place after a restart"}); err != nil {
+			if err := a.record(record.Entry{Kind: record.KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "found in place after a restart"}); err != nil {
 				return err
 			}
 		case staged:
 			a.log.Warn().Str("run", r.ID).Msg("handoff was cut short by a crash before the file was in place; sending it again")
-			if err := a.record(Entry{Kind: KindHandoffNo, Run: r.ID, ActionID: r.ActionID, Reason: "cut short by a crash before the rename; the instrument never saw it"}); err != nil {
+			if err := a.record(record.Entry{Kind: record.KindHandoffNo, Run: r.ID, ActionID: r.ActionID, Reason: "cut short by a crash before the rename; the instrument never saw it"}); err != nil {
 				return err
 			}
 		default:
 			a.log.Warn().Str("run", r.ID).Str("action", r.ActionID).Msg("handoff unconfirmed after a restart: the file is gone, taken by the instrument; not sent again, waiting for its result")
-			if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "gone at restart: taken by the instrument before the confirmation was journalled"}); err != nil {
+			if err := a.record(record.Entry{Kind: record.KindHandoffOK, Run: r.ID, ActionID: r.ActionID, File: path, Reason: "gone at restart: taken by the instrument before the confirmation was journalled"}); err != nil {
 				return err
 			}
 		}
@@ -404,12 +405,12 @@ func (a *Agent) recoverHandoffs(swept map[string][]string) error {
 
 // record appends an entry to the journal and the audit trail, updates the
 // state and tells Notify.
-func (a *Agent) record(e Entry) error {
+func (a *Agent) record(e record.Entry) error {
 	e.Time = a.opt.Now().UTC()
-	if a.storage != "" || a.journal == nil || a.journal.f == nil || a.audit == nil {
+	if a.storage != "" || !a.journal.Usable() || a.audit == nil {
 		return storageError{fmt.Errorf("journal not writable: %s", a.storage)}
 	}
-	e.AuditHead = a.audit.head()
+	e.AuditHead = a.audit.Head()
 	e, err := a.journal.Append(e)
 	if err != nil {
 		a.log.Error().Err(err).Msg("journal write failed; nothing more happens until it can be recorded")
@@ -418,8 +419,8 @@ func (a *Agent) record(e Entry) error {
 	if err := a.auditEntry(e); err != nil {
 		return storageError{err}
 	}
-	a.state.apply(e)
-	if e.Kind == KindProposal && e.Decision != nil && e.Decision.Verdict == safety.Hold {
+	a.state.Apply(e)
+	if e.Kind == record.KindProposal && e.Decision != nil && e.Decision.Verdict == safety.Hold {
 		a.holdSeen[e.Run] = a.opt.Now()
 	}
 	if a.opt.Notify != nil {
@@ -520,8 +521,8 @@ func (a *Agent) instrumentNamed(name string) int {
 
 // inFlightOn returns the runs handed off to instrument i and awaiting
 // their results, oldest first.
-func (a *Agent) inFlightOn(i int) []*Run {
-	var out []*Run
+func (a *Agent) inFlightOn(i int) []*record.Run {
+	var out []*record.Run
 	for _, r := range a.state.InFlight() {
 		if a.instrumentNamed(r.Instrument) == i {
 			out = append(out, r)
@@ -537,7 +538,7 @@ func (a *Agent) previous() campaign.Point {
 	if i < 0 {
 		i = 0 // every export folder lost: nothing is handed off anyway
 	}
-	return a.state.lastOn(a.cfg.Instruments[i].Name, len(a.cfg.Instruments) == 1)
+	return a.state.LastHandoffOn(a.cfg.Instruments[i].Name, len(a.cfg.Instruments) == 1)
 }
 
 // pickInstrument chooses where the next setpoint goes: the instrument
@@ -601,7 +602,7 @@ func (a *Agent) ingest(f watch.File) error {
 		// The same content under another name: recorded, never fed
 		// twice.
 		log.Info().Str("same_as", seen[0]).Msg("duplicate result file: same content as one already recorded")
-		return a.record(Entry{Kind: KindDuplicate, File: path, SHA256: sha, Reason: "same content as " + seen[0]})
+		return a.record(record.Entry{Kind: record.KindDuplicate, File: path, SHA256: sha, Reason: "same content as " + seen[0]})
 	}
 	inst := a.instrumentOf(path)
 	rec, err := a.parsers[inst].Parse(path, data)
@@ -648,14 +649,14 @@ func (a *Agent) ingest(f watch.File) error {
 			val.Failed, val.Number = why, 0
 		}
 	}
-	e := Entry{Kind: KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed, Values: readValues(rec)}
+	e := record.Entry{Kind: record.KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed, Values: readValues(rec)}
 	if !campaign.ValidRunID(rec.RunID) {
 		return a.refuseFile(path, sha, data, fmt.Sprintf("run id %q is not usable (letters, digits, '_', '.', '-'; at most 64)", rec.RunID))
 	}
 	r, known := a.state.Runs[rec.RunID]
 	switch {
-	case known && (r.Status == StatusHanded || r.Status == StatusDone || r.Status == StatusFailed):
-		if r.Status != StatusHanded {
+	case known && (r.Status == record.StatusHanded || r.Status == record.StatusDone || r.Status == record.StatusFailed):
+		if r.Status != record.StatusHanded {
 			e.Revision = len(r.Files) + 1
 			log.Info().Str("run", r.ID).Int("revision", e.Revision).Msg("new content for a run already ingested: a new revision; both are kept, the latest counts")
 		}
@@ -725,7 +726,7 @@ func (a *Agent) refuseFile(path, sha string, data []byte, reason string) error {
 		return nil
 	}
 	a.log.Warn().Str("file", path).Str("copy", cp).Str("reason", reason).Msg("result file quarantined")
-	return a.record(Entry{Kind: KindQuarantine, File: path, SHA256: sha, Reason: reason, Copy: cp})
+	return a.record(record.Entry{Kind: record.KindQuarantine, File: path, SHA256: sha, Reason: reason, Copy: cp})
 }
 
 // handoffReady writes the setpoint file of every run cleared for handoff,
@@ -760,10 +761,10 @@ func (a *Agent) handoffReady() error {
 		sp := campaign.Setpoint{RunID: r.ID, Point: r.Point}
 		// Gate once more right before writing, against the setpoint this
 		// instrument last ran: fail closed.
-		d := a.gate.Check(sp, a.state.lastOn(ic.Name, len(a.cfg.Instruments) == 1))
+		d := a.gate.Check(sp, a.state.LastHandoffOn(ic.Name, len(a.cfg.Instruments) == 1))
 		if d.Verdict == safety.Refuse {
 			a.log.Error().Str("run", r.ID).Str("gate", d.Summary()).Msg("not handed off: the gate refuses it")
-			if err := a.record(Entry{Kind: KindRegate, Run: r.ID, Decision: &d, Reason: "refused when about to be handed off"}); err != nil {
+			if err := a.record(record.Entry{Kind: record.KindRegate, Run: r.ID, Decision: &d, Reason: "refused when about to be handed off"}); err != nil {
 				return err
 			}
 			continue
@@ -772,7 +773,7 @@ func (a *Agent) handoffReady() error {
 			// Approved under other limits, or passed before a ramp from
 			// a newer setpoint: a person must look again.
 			a.log.Warn().Str("run", r.ID).Str("gate", d.Summary()).Msg("held again: the limits changed since it was cleared")
-			if err := a.record(Entry{Kind: KindRegate, Run: r.ID, Decision: &d, Reason: "limits or previous setpoint changed since it was cleared"}); err != nil {
+			if err := a.record(record.Entry{Kind: record.KindRegate, Run: r.ID, Decision: &d, Reason: "limits or previous setpoint changed since it was cleared"}); err != nil {
 				return err
 			}
 			continue
@@ -799,7 +800,7 @@ func (a *Agent) handoffReady() error {
 		// journalled, the file is renamed into place. A crash between any
 		// two is settled at restart without ever sending a run twice,
 		// and no file reaches the instrument unrecorded.
-		action := fmt.Sprintf("%s-%d", r.ID, a.journal.seq+1)
+		action := fmt.Sprintf("%s-%d", r.ID, a.journal.Seq()+1)
 		data, err := renderHandoff(a.cfg.Campaign.Factors, sp, ic.HandoffFormat, action)
 		if err != nil {
 			a.log.Error().Err(err).Str("run", r.ID).Msg("cannot render the setpoint file; no setpoint written")
@@ -810,20 +811,20 @@ func (a *Agent) handoffReady() error {
 			a.writeFailed(r.ID, err)
 			return nil
 		}
-		if err := a.record(Entry{Kind: KindHandoff, Run: r.ID, File: path, Point: r.Point, ActionID: action, Instrument: ic.Name}); err != nil {
+		if err := a.record(record.Entry{Kind: record.KindHandoff, Run: r.ID, File: path, Point: r.Point, ActionID: action, Instrument: ic.Name}); err != nil {
 			st.Abort()
 			return err
 		}
-		if err := st.Commit(); err != nil && !errors.Is(err, ErrInPlace) {
+		if err := st.Commit(); err != nil && !errors.Is(err, record.ErrInPlace) {
 			a.writeFailed(r.ID, err)
-			return a.record(Entry{Kind: KindHandoffNo, Run: r.ID, ActionID: action, Reason: err.Error()})
+			return a.record(record.Entry{Kind: record.KindHandoffNo, Run: r.ID, ActionID: action, Reason: err.Error()})
 		} else if err != nil {
 			// Visible to the instrument: it counts as sent, so that it
 			// can never be sent twice.
 			a.log.Error().Err(err).Str("run", r.ID).Msg("setpoint file in place but its folder could not be synced; counted as handed off")
 		}
 		a.writeErrs = 0
-		if err := a.record(Entry{Kind: KindHandoffOK, Run: r.ID, ActionID: action, File: path, Point: r.Point}); err != nil {
+		if err := a.record(record.Entry{Kind: record.KindHandoffOK, Run: r.ID, ActionID: action, File: path, Point: r.Point}); err != nil {
 			return err
 		}
 		a.log.Info().Str("run", r.ID).Str("file", path).Interface("setpoint", named(a.cfg.Campaign.Factors, r.Point)).Msg("setpoint handed off")
@@ -843,7 +844,7 @@ func (a *Agent) writeFailed(run string, err error) {
 func (a *Agent) spent() int {
 	n := 0
 	for _, r := range a.state.Runs {
-		if r.Status != StatusRejected && r.Status != StatusRefused && r.Status != StatusExpired && !r.External {
+		if r.Status != record.StatusRejected && r.Status != record.StatusRefused && r.Status != record.StatusExpired && !r.External {
 			n++
 		}
 	}
@@ -904,7 +905,7 @@ func (a *Agent) plan(ctx context.Context) error {
 	}
 	if res.Stop != "" {
 		a.log.Info().Str("reason", res.Stop).Msg("stopping rule met; no more proposals")
-		return a.record(Entry{Kind: KindStop, Reason: res.Stop})
+		return a.record(record.Entry{Kind: record.KindStop, Reason: res.Stop})
 	}
 	if na := res.NewAside; na != nil {
 		// Decided once: journalled before the proposal it shapes, and
@@ -919,7 +920,7 @@ func (a *Agent) plan(ctx context.Context) error {
 			msg = "regions set aside are released; the search goes on over the whole box"
 		}
 		a.log.Info().Str("centre_run", run).Str("reason", na.Reason).Msg(msg)
-		if err := a.record(Entry{Kind: KindSetAside, Run: run, Point: na.Centre, Aside: na, Reason: na.Reason}); err != nil {
+		if err := a.record(record.Entry{Kind: record.KindSetAside, Run: run, Point: na.Centre, Aside: na, Reason: na.Reason}); err != nil {
 			return err
 		}
 	}
@@ -932,7 +933,7 @@ func (a *Agent) plan(ctx context.Context) error {
 		return nil
 	}
 	d := a.gate.Check(prop.Setpoint, a.previous())
-	e := Entry{Kind: KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d, Limits: d.Limits,
+	e := record.Entry{Kind: record.KindProposal, Run: id, Point: prop.Point, Method: prop.Method, Score: prop.Score, Decision: &d, Limits: d.Limits,
 		Stopping: res.Stopping.String()}
 	if d.Verdict == safety.Hold && region == nil {
 		// Show the person signing off what would run inside the limits.
@@ -1007,11 +1008,11 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64, all
 // readValues is every value and derived value a result file gave, with
 // its unit, for the record and the export (failed ones are left out: the
 // response's failure is recorded on its own).
-func readValues(rec parsers.Record) map[string]Reading {
-	out := map[string]Reading{}
+func readValues(rec parsers.Record) map[string]record.Reading {
+	out := map[string]record.Reading{}
 	for name, v := range rec.Values {
 		if v.Failed == "" && !math.IsNaN(v.Number) && !math.IsInf(v.Number, 0) {
-			out[name] = Reading{Value: v.Number, Unit: v.Unit}
+			out[name] = record.Reading{Value: v.Number, Unit: v.Unit}
 		}
 	}
 	return out

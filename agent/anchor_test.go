@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -21,7 +22,7 @@ func runUntilHandoffs(t *testing.T, n int) *testCampaign {
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
 	for i := 1; i <= n; i++ {
 		run := "R000" + string(rune('0'+i))
-		waitFor(t, events, run+" handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == run })
+		waitFor(t, events, run+" handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == run })
 		if i < n {
 			tc.writeResult(t, "res_"+run+".csv", resultFile("8"+string(rune('0'+i))+",5"))
 		}
@@ -32,7 +33,7 @@ func runUntilHandoffs(t *testing.T, n int) *testCampaign {
 
 func trailLines(t *testing.T, tc *testCampaign) []string {
 	t.Helper()
-	data, err := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+	data, err := os.ReadFile(record.AuditPath(tc.cfg.Campaign.StateDir))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -66,8 +67,8 @@ func startErr(t *testing.T, tc *testCampaign) error {
 func TestCutRecordIsFound(t *testing.T) {
 	tc := runUntilHandoffs(t, 3)
 	lines := trailLines(t, tc)
-	os.WriteFile(auditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(lines[:len(lines)-1], "")), 0o644)
-	if _, err := CheckRecord(tc.cfg); !errors.Is(err, ErrRecordMismatch) || !strings.Contains(err.Error(), "lacks the journal's last entry") {
+	os.WriteFile(record.AuditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(lines[:len(lines)-1], "")), 0o644)
+	if _, err := CheckRecord(tc.cfg); !errors.Is(err, record.ErrRecordMismatch) || !strings.Contains(err.Error(), "lacks the journal's last entry") {
 		t.Errorf("last line cut: audit verify says %v", err)
 	}
 	if err := startErr(t, tc); err != nil {
@@ -81,14 +82,14 @@ func TestCutRecordIsFound(t *testing.T) {
 		tc := runUntilHandoffs(t, 3)
 		lines := trailLines(t, tc)
 		kept := strings.Join(lines[:len(lines)-cut], "")
-		os.WriteFile(auditPath(tc.cfg.Campaign.StateDir), []byte(kept), 0o644)
-		if err := startErr(t, tc); !errors.Is(err, ErrRecordMismatch) {
+		os.WriteFile(record.AuditPath(tc.cfg.Campaign.StateDir), []byte(kept), 0o644)
+		if err := startErr(t, tc); !errors.Is(err, record.ErrRecordMismatch) {
 			t.Fatalf("trail cut by %d: start gave %v, want ErrRecordMismatch", cut, err)
 		}
 		if after := strings.Join(trailLines(t, tc), ""); strings.TrimSpace(after) != strings.TrimSpace(kept) {
 			t.Fatalf("trail cut by %d: the daemon wrote to it", cut)
 		}
-		if _, err := CheckRecord(tc.cfg); !errors.Is(err, ErrRecordMismatch) {
+		if _, err := CheckRecord(tc.cfg); !errors.Is(err, record.ErrRecordMismatch) {
 			t.Errorf("trail cut by %d: audit verify says %v", cut, err)
 		}
 	}
@@ -96,11 +97,11 @@ func TestCutRecordIsFound(t *testing.T) {
 	es := readJournalT(t, tc)
 	var n int
 	for _, e := range es[:len(es)-2] {
-		line, _ := encodeEntry(e)
+		line, _ := record.EncodeEntry(e)
 		n += len(line)
 	}
 	os.Truncate(journalPath(tc.cfg.Campaign.StateDir), int64(n))
-	if err := startErr(t, tc); !errors.Is(err, ErrRecordMismatch) || !strings.Contains(err.Error(), "journal was cut") {
+	if err := startErr(t, tc); !errors.Is(err, record.ErrRecordMismatch) || !strings.Contains(err.Error(), "journal was cut") {
 		t.Fatalf("journal cut: start gave %v", err)
 	}
 }
@@ -113,7 +114,7 @@ func TestForgedTrailDoesNotVerify(t *testing.T) {
 	prev := ""
 	var forged []string
 	for i, l := range lines {
-		var e AuditEntry
+		var e record.AuditEntry
 		if err := json.Unmarshal([]byte(l), &e); err != nil {
 			t.Fatal(err)
 		}
@@ -128,8 +129,8 @@ func TestForgedTrailDoesNotVerify(t *testing.T) {
 		out, _ := json.Marshal(e)
 		forged = append(forged, string(out)+"\n")
 	}
-	os.WriteFile(auditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(forged, "")), 0o644)
-	if _, err := CheckRecord(tc.cfg); !errors.Is(err, ErrAuditBroken) {
+	os.WriteFile(record.AuditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(forged, "")), 0o644)
+	if _, err := CheckRecord(tc.cfg); !errors.Is(err, record.ErrAuditBroken) {
 		t.Fatalf("forged trail: %v, want ErrAuditBroken", err)
 	}
 	// The key is not made anew for a trail that has entries.
@@ -150,19 +151,19 @@ func TestCrashGapAndAcceptance(t *testing.T) {
 	lines := trailLines(t, tc)
 	es := readJournalT(t, tc)
 	last := es[len(es)-1]
-	var ae AuditEntry
+	var ae record.AuditEntry
 	json.Unmarshal([]byte(lines[len(lines)-1]), &ae)
-	if detailSeq(ae) != last.Seq {
-		t.Fatalf("the trail's last entry is not the journal's last (%d, %d)", detailSeq(ae), last.Seq)
+	if record.DetailSeq(ae) != last.Seq {
+		t.Fatalf("the trail's last entry is not the journal's last (%d, %d)", record.DetailSeq(ae), last.Seq)
 	}
-	os.WriteFile(auditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(lines[:len(lines)-1], "")), 0o644)
+	os.WriteFile(record.AuditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(lines[:len(lines)-1], "")), 0o644)
 	if err := startErr(t, tc); err != nil {
 		t.Fatalf("crash gap: %v", err)
 	}
-	trail, _ := ReadAudit(auditPath(tc.cfg.Campaign.StateDir))
-	var redone *AuditEntry
+	trail, _ := record.ReadAudit(record.AuditPath(tc.cfg.Campaign.StateDir))
+	var redone *record.AuditEntry
 	for i := range trail {
-		if detailSeq(trail[i]) == last.Seq {
+		if record.DetailSeq(trail[i]) == last.Seq {
 			redone = &trail[i]
 		}
 	}
@@ -175,8 +176,8 @@ func TestCrashGapAndAcceptance(t *testing.T) {
 
 	// Cut two entries: refused; accepted by a person; starts.
 	lines = trailLines(t, tc)
-	os.WriteFile(auditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(lines[:len(lines)-4], "")), 0o644)
-	if err := startErr(t, tc); !errors.Is(err, ErrRecordMismatch) {
+	os.WriteFile(record.AuditPath(tc.cfg.Campaign.StateDir), []byte(strings.Join(lines[:len(lines)-4], "")), 0o644)
+	if err := startErr(t, tc); !errors.Is(err, record.ErrRecordMismatch) {
 		t.Fatalf("cut trail: %v", err)
 	}
 	if _, err := AcceptMismatch(tc.cfg, "", "Ada Tech", "x", time.Now()); err == nil {
@@ -189,8 +190,8 @@ func TestCrashGapAndAcceptance(t *testing.T) {
 	if _, err := CheckRecord(tc.cfg); err != nil {
 		t.Fatalf("after the acceptance: %v", err)
 	}
-	trail, _ = ReadAudit(auditPath(tc.cfg.Campaign.StateDir))
-	if a := trail[len(trail)-1]; a.Action != actionAccept || a.Name != "Ada Tech" || a.Meaning == "" {
+	trail, _ = record.ReadAudit(record.AuditPath(tc.cfg.Campaign.StateDir))
+	if a := trail[len(trail)-1]; a.Action != record.ActionAccept || a.Name != "Ada Tech" || a.Meaning == "" {
 		t.Errorf("the acceptance is recorded as %+v", a)
 	}
 	if err := startErr(t, tc); err != nil {
@@ -209,9 +210,9 @@ func TestWitnessFindsAMatchingCut(t *testing.T) {
 	tc.cfg.Audit.WitnessDir = filepath.Join(t.TempDir(), "other-disk")
 	os.MkdirAll(tc.cfg.Audit.WitnessDir, 0o755)
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
-	waitFor(t, events, "R0001 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	waitFor(t, events, "R0001 handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 	tc.writeResult(t, "res_R0001.csv", resultFile("81,5"))
-	waitFor(t, events, "R0002 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0002" })
+	waitFor(t, events, "R0002 handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0002" })
 	stop()
 	sd := tc.cfg.Campaign.StateDir
 	if _, err := CheckRecord(tc.cfg); err != nil {
@@ -219,15 +220,15 @@ func TestWitnessFindsAMatchingCut(t *testing.T) {
 	}
 	// Cut both at the first handoff's confirmation.
 	for _, e := range readJournalT(t, tc) {
-		if e.Kind == KindHandoffOK {
+		if e.Kind == record.KindHandoffOK {
 			cutRecordAfter(t, sd, readJournalT(t, tc), e.Seq)
 			break
 		}
 	}
-	if _, err := CheckRecord(tc.cfg); !errors.Is(err, ErrRecordMismatch) || !strings.Contains(err.Error(), "witness") {
+	if _, err := CheckRecord(tc.cfg); !errors.Is(err, record.ErrRecordMismatch) || !strings.Contains(err.Error(), "witness") {
 		t.Fatalf("cut at matching points, with a witness: %v", err)
 	}
-	if err := startErr(t, tc); !errors.Is(err, ErrRecordMismatch) {
+	if err := startErr(t, tc); !errors.Is(err, record.ErrRecordMismatch) {
 		t.Fatalf("start: %v", err)
 	}
 	blind := tc.cfg

@@ -8,6 +8,7 @@ import (
 	"os"
 	"path/filepath"
 
+	"benchtender/record"
 	"benchtender/watch"
 )
 
@@ -72,7 +73,7 @@ func archive(stateDir, sha string, data []byte, mode os.FileMode) (string, error
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return "", fmt.Errorf("archive: %w", err)
 	}
-	if err := writeFileAtomic(dir, sha, data, mode&0o444); err != nil {
+	if err := record.WriteFileAtomic(dir, sha, data, mode&0o444); err != nil {
 		return "", fmt.Errorf("archive: %w", err)
 	}
 	return path, nil
@@ -103,10 +104,10 @@ func (a *Agent) refuseUnread(path, problem string) error {
 	name := "name-" + hex.EncodeToString(sum[:8]) + ".reason.txt"
 	note := fmt.Sprintf("file:     %s\nrefused:  %s\nreason:   %s\n\nThe file was not read, moved or changed.\n",
 		watch.Quote(f.Path), a.opt.Now().UTC().Format("2006-01-02T15:04:05Z"), f.Problem)
-	if err := writeFileAtomic(dir, name, []byte(note), 0o644); err != nil {
+	if err := record.WriteFileAtomic(dir, name, []byte(note), 0o644); err != nil {
 		a.log.Error().Err(err).Msg("cannot write the quarantine note")
 		return nil
 	}
 	a.log.Warn().Str("file", f.Path).Str("reason", f.Problem).Msg("result file refused; not read")
-	return a.record(Entry{Kind: KindQuarantine, File: f.Path, Reason: f.Problem, Copy: filepath.Join(dir, name)})
+	return a.record(record.Entry{Kind: record.KindQuarantine, File: f.Path, Reason: f.Problem, Copy: filepath.Join(dir, name)})
 }

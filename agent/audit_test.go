@@ -1,17 +1,12 @@
 package agent
 
 import (
-	"encoding/hex"
+	"benchtender/record"
 	"errors"
 	"os"
-	"path/filepath"
 	"strings"
 	"testing"
-	"time"
 )
-
-// testKey keys the trails these tests write by hand.
-var testKey = []byte("0123456789abcdef0123456789abcdef")
 
 // keyOf is the key the agent made for a test campaign.
 func keyOf(t *testing.T, tc *testCampaign) []byte {
@@ -23,93 +18,35 @@ func keyOf(t *testing.T, tc *testCampaign) []byte {
 	return k
 }
 
-func writeTrail(t *testing.T, n int) (string, []string) {
-	t.Helper()
-	path := filepath.Join(t.TempDir(), "audit.log")
-	a, _, err := openAudit(path, testKey)
-	if err != nil {
-		t.Fatal(err)
-	}
-	now := time.Date(2026, 12, 1, 22, 0, 0, 0, time.UTC)
-	for i := 0; i < n; i++ {
-		if _, err := a.append(AuditEntry{Actor: "ada", Name: "Ada Tech", Action: "approve", Subject: "R000" + string(rune('1'+i)), Reason: "checked", Meaning: "approval"}, now.Add(time.Duration(i)*time.Minute)); err != nil {
-			t.Fatal(err)
-		}
-	}
-	a.close()
-	data, _ := os.ReadFile(path)
-	return path, strings.SplitAfter(strings.TrimSuffix(string(data), "\n"), "\n")
-}
-
-// The audit trail's hash chain detects an edited, a deleted and a
-// reordered entry, as 21 CFR Part 11 §11.10(e) asks of an audit trail
-// (secure, computer-generated, time-stamped; changes must not obscure
-// earlier entries), and reopening goes on from the last entry.
-func TestAuditVerifyDetectsTampering(t *testing.T) {
-	path, lines := writeTrail(t, 4)
-	if n, err := VerifyAudit(path, testKey); err != nil || n != 4 {
-		t.Fatalf("intact trail: %d entries, %v", n, err)
-	}
-	join := func(ls []string) string {
-		s := strings.Join(ls, "")
-		if !strings.HasSuffix(s, "\n") {
-			s += "\n"
-		}
-		return s
-	}
-	cases := map[string]string{
-		"edited":        join(append(append([]string{}, lines[:2]...), append([]string{strings.Replace(lines[2], `"reason":"checked"`, `"reason":"looks fine"`, 1)}, lines[3:]...)...)),
-		"deleted":       join(append(append([]string{}, lines[:1]...), lines[2:]...)),
-		"reordered":     join([]string{lines[0], lines[2], lines[1], lines[3]}),
-		"cut mid-entry": join(append(append([]string{}, lines[:2]...), lines[2][:40]+"\n", lines[3])),
-	}
-	for name, content := range cases {
-		t.Run(name, func(t *testing.T) {
-			p := filepath.Join(t.TempDir(), "audit.log")
-			os.WriteFile(p, []byte(content), 0o644)
-			if _, err := VerifyAudit(p, testKey); !errors.Is(err, ErrAuditBroken) {
-				t.Fatalf("%s trail: %v, want ErrAuditBroken", name, err)
-			}
-			if _, _, err := openAudit(p, testKey); err == nil {
-				t.Fatalf("a %s trail was opened for appending", name)
-			}
-		})
-	}
-	a, _, err := openAudit(path, testKey)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if e, err := a.append(AuditEntry{Actor: "benchtender", Action: "handoff", Subject: "R0005"}, time.Now()); err != nil || e.Seq != 5 {
-		t.Fatalf("append after reopen: %+v %v", e, err)
-	}
-	a.close()
-	if n, err := VerifyAudit(path, testKey); err != nil || n != 5 {
-		t.Fatalf("after reopen: %d, %v", n, err)
-	}
-}
-
-// The daemon refuses to start on a broken trail, touching nothing.
+// The daemon refuses to start on a broken trail (its own, with an entry
+// deleted), touching neither the trail nor the journal.
 func TestAgentRefusesBrokenAudit(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
-	os.MkdirAll(tc.cfg.Campaign.StateDir, 0o755)
-	_, lines := writeTrail(t, 3)
-	os.WriteFile(tc.cfg.Audit.KeyFile, []byte(hex.EncodeToString(testKey)), 0o600)
-	broken := lines[0] + lines[2] + "\n"
-	p := auditPath(tc.cfg.Campaign.StateDir)
+	events, stop := tc.start(t)
+	waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	stop()
+	p := record.AuditPath(tc.cfg.Campaign.StateDir)
+	data, _ := os.ReadFile(p)
+	lines := strings.SplitAfter(string(data), "\n")
+	if len(lines) < 4 {
+		t.Fatalf("the trail has %d lines", len(lines))
+	}
+	broken := lines[0] + strings.Join(lines[2:], "")
 	os.WriteFile(p, []byte(broken), 0o644)
+	journal, _ := os.ReadFile(journalPath(tc.cfg.Campaign.StateDir))
 	a, err := New(tc.cfg, Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
 	err = a.Run(t.Context())
-	if !errors.Is(err, ErrAuditBroken) {
+	if !errors.Is(err, record.ErrAuditBroken) {
 		t.Fatalf("Run: %v, want ErrAuditBroken", err)
 	}
 	if after, _ := os.ReadFile(p); string(after) != broken {
 		t.Error("the broken trail was changed")
 	}
-	if _, err := os.Stat(journalPath(tc.cfg.Campaign.StateDir)); !os.IsNotExist(err) {
-		t.Error("a journal was created despite the broken trail")
+	if after, _ := os.ReadFile(journalPath(tc.cfg.Campaign.StateDir)); string(after) != string(journal) {
+		t.Error("the journal was changed despite the broken trail")
 	}
 }
 
@@ -118,40 +55,21 @@ func TestAgentRefusesBrokenAudit(t *testing.T) {
 func TestCorrectionIsANewEntry(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	waitFor(t, events, "a handoff", kind(KindHandoffOK))
-	before, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+	waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	before, _ := os.ReadFile(record.AuditPath(tc.cfg.Campaign.StateDir))
 	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Action: ActionCorrect, Corrects: 1, By: "ada", Name: "Ada Tech", Reason: "proposal 1 was discussed at 08:00, not at night"}); err != nil {
 		t.Fatal(err)
 	}
-	waitFor(t, events, "the correction", kind(KindCorrection))
+	waitFor(t, events, "the correction", kind(record.KindCorrection))
 	stop()
-	after, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+	after, _ := os.ReadFile(record.AuditPath(tc.cfg.Campaign.StateDir))
 	if !strings.HasPrefix(string(after), string(before)) {
 		t.Fatal("earlier entries changed")
 	}
 	if !strings.Contains(string(after[len(before):]), `"action":"correction","subject":"audit entry 1"`) || !strings.Contains(string(after), `"corrects":1`) {
 		t.Errorf("correction entry missing:\n%s", after[len(before):])
 	}
-	if _, err := VerifyAudit(auditPath(tc.cfg.Campaign.StateDir), keyOf(t, tc)); err != nil {
+	if _, err := record.VerifyAudit(record.AuditPath(tc.cfg.Campaign.StateDir), keyOf(t, tc)); err != nil {
 		t.Error(err)
-	}
-}
-
-// A last entry torn by a crash (no line end) is cut off at open, and the
-// entries before it keep verifying; verify alone reports it as torn.
-func TestAuditTornTailIsCut(t *testing.T) {
-	path, lines := writeTrail(t, 3)
-	torn := strings.Join(lines[:2], "") + lines[2][:30]
-	os.WriteFile(path, []byte(torn), 0o644)
-	if _, err := VerifyAudit(path, testKey); !errors.Is(err, ErrAuditTorn) {
-		t.Fatalf("verify: %v, want ErrAuditTorn", err)
-	}
-	a, cut, err := openAudit(path, testKey)
-	if err != nil || !cut {
-		t.Fatalf("open: cut %v, %v", cut, err)
-	}
-	a.close()
-	if n, err := VerifyAudit(path, testKey); err != nil || n != 2 {
-		t.Fatalf("after the cut: %d entries, %v", n, err)
 	}
 }

@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"crypto/rand"
 	"crypto/sha256"
 	"encoding/hex"
@@ -67,8 +68,8 @@ func LoadAuditKey(cfg Config, create bool) ([]byte, error) {
 	case !errors.Is(err, os.ErrNotExist):
 		return nil, fmt.Errorf("%w: %v", ErrAuditKey, err)
 	}
-	if fi, serr := os.Stat(auditPath(cfg.Campaign.StateDir)); serr == nil && fi.Size() > 0 {
-		return nil, fmt.Errorf("%w: %s is missing but the audit trail %s has entries; restore the key from your backup (a new key is never made for an existing trail)", ErrAuditKey, path, auditPath(cfg.Campaign.StateDir))
+	if fi, serr := os.Stat(record.AuditPath(cfg.Campaign.StateDir)); serr == nil && fi.Size() > 0 {
+		return nil, fmt.Errorf("%w: %s is missing but the audit trail %s has entries; restore the key from your backup (a new key is never made for an existing trail)", ErrAuditKey, path, record.AuditPath(cfg.Campaign.StateDir))
 	}
 	if !create {
 		return nil, fmt.Errorf("%w: %s does not exist (the daemon makes it at its first start)", ErrAuditKey, path)

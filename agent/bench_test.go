@@ -16,6 +16,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"benchtender/campaign"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -60,11 +61,11 @@ func benchCampaign(b *testing.B, n, d int) (*testCampaign, string, campaign.Poin
 			pt[k] = rng.Float64()
 		}
 		y := benchResponse(pt)
-		add(Entry{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
-		add(Entry{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
-		add(Entry{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"})
+		add(record.Entry{Kind: record.KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
+		add(record.Entry{Kind: record.KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
+		add(record.Entry{Kind: record.KindHandoffOK, Run: run, ActionID: run + "-h"})
 		if i < n {
-			add(Entry{Kind: KindIngest, Run: run, File: run + ".csv", SHA256: fmt.Sprint(i), Value: y})
+			add(record.Entry{Kind: record.KindIngest, Run: run, File: run + ".csv", SHA256: fmt.Sprint(i), Value: y})
 		}
 	}
 	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}, fmt.Sprintf("R%05d", n+1), pt
@@ -93,8 +94,8 @@ func BenchmarkArrivalToHandoff(b *testing.B) {
 		for _, d := range []int{2, 6} {
 			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
 				tc, inflight, at := benchCampaign(b, n, d)
-				events := make(chan Entry, 64)
-				a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 20 * time.Millisecond, Notify: func(e Entry) {
+				events := make(chan record.Entry, 64)
+				a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 20 * time.Millisecond, Notify: func(e record.Entry) {
 					select {
 					case events <- e:
 					default:
@@ -120,10 +121,10 @@ func BenchmarkArrivalToHandoff(b *testing.B) {
 					for {
 						select {
 						case e := <-events:
-							if e.Kind == KindHandoff {
+							if e.Kind == record.KindHandoff {
 								at = e.Point
 							}
-							if e.Kind == KindHandoffOK {
+							if e.Kind == record.KindHandoffOK {
 								next = e.Run
 								took = append(took, time.Since(start))
 								break wait
@@ -197,9 +198,9 @@ file = ""
 	for i := 1; i <= n; i++ {
 		run := fmt.Sprintf("R%05d", i)
 		pt := campaign.Point{float64(i) / float64(n+1)}
-		add(Entry{Kind: KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
-		add(Entry{Kind: KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
-		add(Entry{Kind: KindHandoffOK, Run: run, ActionID: run + "-h"})
+		add(record.Entry{Kind: record.KindProposal, Run: run, Point: pt, Method: "history", Decision: &pass})
+		add(record.Entry{Kind: record.KindHandoff, Run: run, Point: pt, ActionID: run + "-h"})
+		add(record.Entry{Kind: record.KindHandoffOK, Run: run, ActionID: run + "-h"})
 	}
 	done()
 	return &testCampaign{dir: dir, cfgPath: cfgPath, cfg: cfg}
@@ -217,8 +218,8 @@ func BenchmarkBurst1000(b *testing.B) {
 		b.StopTimer()
 		tc := burstCampaign(b, n)
 		ingested := make(chan struct{}, n)
-		a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 50 * time.Millisecond, Notify: func(e Entry) {
-			if e.Kind == KindIngest {
+		a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 50 * time.Millisecond, Notify: func(e record.Entry) {
+			if e.Kind == record.KindIngest {
 				ingested <- struct{}{}
 			}
 		}})
@@ -248,8 +249,8 @@ func BenchmarkBurst1000(b *testing.B) {
 		if err := <-done; err != nil {
 			b.Fatal(err)
 		}
-		es, _ := ReadJournal(journalPath(tc.cfg.Campaign.StateDir))
-		if got := len(Replay(es).Trials()); got != n {
+		es, _ := record.ReadJournal(journalPath(tc.cfg.Campaign.StateDir))
+		if got := len(record.Replay(es).Trials()); got != n {
 			b.Fatalf("%d runs done, want %d", got, n)
 		}
 	}
@@ -259,7 +260,7 @@ func BenchmarkBurst1000(b *testing.B) {
 // returns a function that appends an entry to the journal and the audit
 // trail together (so the agent vouches for the history at start), and one
 // that closes the record.
-func recordHistory(b *testing.B, cfg Config) (add func(Entry), done func()) {
+func recordHistory(b *testing.B, cfg Config) (add func(record.Entry), done func()) {
 	b.Helper()
 	a, err := New(cfg, Options{Logger: zerolog.Nop()})
 	if err != nil {
@@ -268,7 +269,7 @@ func recordHistory(b *testing.B, cfg Config) (add func(Entry), done func()) {
 	if err := a.open(); err != nil {
 		b.Fatal(err)
 	}
-	add = func(e Entry) {
+	add = func(e record.Entry) {
 		if err := a.record(e); err != nil {
 			b.Fatal(err)
 		}

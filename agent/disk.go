@@ -5,6 +5,7 @@ import (
 	"os"
 	"path/filepath"
 
+	"benchtender/record"
 	"benchtender/watch"
 )
 
@@ -30,7 +31,7 @@ func makeReserve(stateDir string) error {
 	if fi, err := os.Stat(path); err == nil && fi.Size() >= reserveBytes {
 		return nil
 	}
-	return writeFileAtomic(stateDir, "reserve", make([]byte, reserveBytes), 0o644)
+	return record.WriteFileAtomic(stateDir, "reserve", make([]byte, reserveBytes), 0o644)
 }
 
 // enterDegraded stops handoffs after a storage error: it frees the
@@ -60,7 +61,7 @@ func (a *Agent) tryRecover() {
 	if free, ok := freeBytes(sd); ok && free < 4*reserveBytes {
 		return
 	}
-	if a.journal == nil || a.journal.f == nil || a.audit == nil || a.audit.f == nil {
+	if !a.journal.Usable() || !a.audit.Usable() {
 		if err := a.reopen(); err != nil {
 			return
 		}
@@ -90,16 +91,16 @@ func (a *Agent) tryRecover() {
 func (a *Agent) reopen() error {
 	a.closeStores()
 	sd := a.cfg.Campaign.StateDir
-	audit, _, err := openAudit(auditPath(sd), a.auditKey)
+	audit, _, err := record.OpenAudit(record.AuditPath(sd), a.auditKey)
 	if err != nil {
 		return err
 	}
-	j, entries, _, err := OpenJournal(journalPath(sd))
+	j, entries, _, err := record.OpenJournal(journalPath(sd))
 	if err != nil {
-		audit.close()
+		audit.Close()
 		return err
 	}
-	a.audit, a.journal, a.state = audit, j, Replay(entries)
+	a.audit, a.journal, a.state = audit, j, record.Replay(entries)
 	return a.reconcile(entries)
 }
 
@@ -108,7 +109,7 @@ func (a *Agent) closeStores() {
 		a.journal.Close()
 	}
 	if a.audit != nil {
-		a.audit.close()
+		a.audit.Close()
 	}
 }
 

@@ -13,6 +13,7 @@ import (
 
 	"benchtender/campaign"
 	"benchtender/planner"
+	"benchtender/record"
 )
 
 // fixedAt proposes the same setpoint for every run.
@@ -29,25 +30,25 @@ func TestRevisionsAreKeptAndArchived(t *testing.T) {
 	tc := newTestCampaign(t, "3", passLimits)
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
 	defer stop()
-	waitFor(t, events, "R0001 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	waitFor(t, events, "R0001 handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 	first := resultFile("81,5")
 	path := tc.writeResult(t, "res_R0001.csv", first)
-	in1 := waitFor(t, events, "the first result", kind(KindIngest))
+	in1 := waitFor(t, events, "the first result", kind(record.KindIngest))
 	time.Sleep(50 * time.Millisecond) // a later modification time
 	second := resultFile("84,0")
 	tc.writeResult(t, "res_R0001.csv", second)
-	in2 := waitFor(t, events, "the corrected result", kind(KindIngest))
+	in2 := waitFor(t, events, "the corrected result", kind(record.KindIngest))
 	stop()
 	if in1.Revision != 0 || in2.Revision != 2 || in2.Run != "R0001" || in2.File != path {
 		t.Fatalf("revisions %d and %d of %s (%s)", in1.Revision, in2.Revision, in2.Run, in2.File)
 	}
-	st := Replay(readJournalT(t, tc))
+	st := record.Replay(readJournalT(t, tc))
 	r := st.Runs["R0001"]
 	if r.Value != 84 || len(r.Files) != 2 || len(st.Trials()) != 1 || st.Trials()[0].Value != 84 {
 		t.Fatalf("run %+v; trials %v", r, st.Trials())
 	}
 	for _, c := range []struct {
-		e    Entry
+		e    record.Entry
 		data string
 	}{{in1, first}, {in2, second}} {
 		got, err := os.ReadFile(c.e.Copy)
@@ -70,13 +71,13 @@ func TestRevisionsAreKeptAndArchived(t *testing.T) {
 func TestResultArrivingWhileDown(t *testing.T) {
 	tc := newTestCampaign(t, "3", passLimits)
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
-	waitFor(t, events, "R0001 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	waitFor(t, events, "R0001 handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 	stop()
 	tc.writeResult(t, "res_R0001.csv", resultFile("77,0"))
 	for i := 0; i < 2; i++ {
 		events, stop = tc.startWith(t, Options{Proposer: fixedAt})
 		if i == 0 {
-			waitFor(t, events, "the result", kind(KindIngest))
+			waitFor(t, events, "the result", kind(record.KindIngest))
 		} else {
 			time.Sleep(500 * time.Millisecond) // several scans
 		}
@@ -84,7 +85,7 @@ func TestResultArrivingWhileDown(t *testing.T) {
 	}
 	n := 0
 	for _, e := range readJournalT(t, tc) {
-		if e.Kind == KindIngest {
+		if e.Kind == record.KindIngest {
 			n++
 		}
 	}
@@ -111,19 +112,19 @@ func TestHostileFilesAreRefusedUnread(t *testing.T) {
 		events, stop := tc.startWith(t, Options{Proposer: fixedAt})
 		if round == 0 {
 			for i := 0; i < 3; i++ {
-				waitFor(t, events, "a refusal", kind(KindQuarantine))
+				waitFor(t, events, "a refusal", kind(record.KindQuarantine))
 			}
 		} else {
 			time.Sleep(500 * time.Millisecond)
 		}
 		stop()
 	}
-	var qs []Entry
+	var qs []record.Entry
 	for _, e := range readJournalT(t, tc) {
 		switch e.Kind {
-		case KindQuarantine:
+		case record.KindQuarantine:
 			qs = append(qs, e)
-		case KindIngest:
+		case record.KindIngest:
 			t.Errorf("ingested %s", e.File)
 		}
 	}
@@ -159,7 +160,7 @@ func TestOldFilesOnlyOnRequest(t *testing.T) {
 	long := time.Now().Add(-30 * 24 * time.Hour)
 	os.Chtimes(old, long, long)
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
-	waitFor(t, events, "R0001 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	waitFor(t, events, "R0001 handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 	time.Sleep(500 * time.Millisecond)
 	stop()
 	for _, e := range readJournalT(t, tc) {
@@ -168,9 +169,9 @@ func TestOldFilesOnlyOnRequest(t *testing.T) {
 		}
 	}
 	events, stop = tc.startWith(t, Options{Proposer: fixedAt, IncludeOld: true})
-	e := waitFor(t, events, "the old file", func(e Entry) bool { return e.File == old })
+	e := waitFor(t, events, "the old file", func(e record.Entry) bool { return e.File == old })
 	stop()
-	if e.Kind != KindIngest && e.Kind != KindQuarantine {
+	if e.Kind != record.KindIngest && e.Kind != record.KindQuarantine {
 		t.Errorf("old file recorded as %s", e.Kind)
 	}
 }

@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -37,7 +38,7 @@ func (c Config) FolderProblems() []string {
 // probeWrite creates and removes a temporary file (with the prefix the
 // instrument is told to ignore) in dir.
 func probeWrite(dir string) error {
-	f, err := os.CreateTemp(dir, tempPrefix+"probe-*.tmp")
+	f, err := os.CreateTemp(dir, record.TempPrefix+"probe-*.tmp")
 	if err != nil {
 		return err
 	}

@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"os"
 	"path/filepath"
 	"strings"
@@ -24,9 +25,9 @@ func TestLostExportFolderHoldsHandoffs(t *testing.T) {
 	}
 	events, stop := tc.start(t)
 	defer stop()
-	waitFor(t, events, "the first proposal", kind(KindProposal))
-	noneFor(t, events, 1500*time.Millisecond, "handed off while the export folder is missing", func(e Entry) bool {
-		return e.Kind == KindHandoff || e.Kind == KindHandoffOK
+	waitFor(t, events, "the first proposal", kind(record.KindProposal))
+	noneFor(t, events, 1500*time.Millisecond, "handed off while the export folder is missing", func(e record.Entry) bool {
+		return e.Kind == record.KindHandoff || e.Kind == record.KindHandoffOK
 	})
 	if ns := Notices(tc.cfg); len(ns) == 0 || !strings.Contains(strings.Join(ns, "\n"), "handoffs to instrument bench are held") {
 		t.Errorf("status notices: %q", ns)
@@ -34,7 +35,7 @@ func TestLostExportFolderHoldsHandoffs(t *testing.T) {
 	if err := os.Mkdir(exports, 0o755); err != nil {
 		t.Fatal(err)
 	}
-	waitFor(t, events, "the handoff once the folder is back", kind(KindHandoffOK))
+	waitFor(t, events, "the handoff once the folder is back", kind(record.KindHandoffOK))
 }
 
 // check's folder warnings: none for a campaign whose folders exist and
@@ -58,7 +59,7 @@ func TestHandoffDoesNotWaitForTheTick(t *testing.T) {
 	tc := newTestCampaign(t, "3", passLimits)
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt, Tick: time.Hour})
 	defer stop()
-	waitFor(t, events, "R0001 handed off without a tick", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	waitFor(t, events, "R0001 handed off without a tick", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 	tc.writeResult(t, "res_R0001.csv", resultFile("81,5"))
-	waitFor(t, events, "R0002 handed off without a tick", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0002" })
+	waitFor(t, events, "R0002 handed off without a tick", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0002" })
 }

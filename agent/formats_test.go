@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"os"
 	"path/filepath"
 	"strings"
@@ -13,16 +14,16 @@ import (
 func TestFlaggedResultIsAFailedRun(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
 	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("OVER"))
-	in := waitFor(t, events, "an ingest", kind(KindIngest))
+	in := waitFor(t, events, "an ingest", kind(record.KindIngest))
 	if in.Failed == "" || !strings.Contains(in.Failed, "over range") || in.Run != h.Run {
 		t.Fatalf("ingest %+v, want a failed run with the over-range reason", in)
 	}
-	waitFor(t, events, "the next handoff", kind(KindHandoffOK))
+	waitFor(t, events, "the next handoff", kind(record.KindHandoffOK))
 	stop()
-	st := Replay(readJournalT(t, tc))
-	if st.Runs[h.Run].Status != StatusFailed || len(st.Trials()) != 0 || len(st.FailedPoints()) != 1 {
+	st := record.Replay(readJournalT(t, tc))
+	if st.Runs[h.Run].Status != record.StatusFailed || len(st.Trials()) != 0 || len(st.FailedPoints()) != 1 {
 		t.Errorf("run %s is %s; %d trials, %d failed", h.Run, st.Runs[h.Run].Status, len(st.Trials()), len(st.FailedPoints()))
 	}
 }
@@ -37,19 +38,19 @@ func TestIncompleteFileWaitsThenTimesOut(t *testing.T) {
 	tc.cfg.Formats["bench_csv"] = spec
 	tc.positions(2)
 	events, stop := tc.start(t)
-	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
-	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
+	h1 := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	h2 := waitFor(t, events, "a second handoff", kind(record.KindHandoffOK))
 	p1 := tc.writeResult(t, "res_"+h1.Run+".csv", resultFile("50,0"))
 	tc.writeResult(t, "res_"+h2.Run+".csv", resultFile("51,0"))
 	time.Sleep(300 * time.Millisecond) // settled, parsed, waiting
 	if err := os.WriteFile(p1, []byte(resultFile("50,0")+"END\r\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	in := waitFor(t, events, "the completed file's ingest", kind(KindIngest))
+	in := waitFor(t, events, "the completed file's ingest", kind(record.KindIngest))
 	if in.Run != h1.Run || in.Value != 50 {
 		t.Fatalf("ingest %+v", in)
 	}
-	q := waitFor(t, events, "the abandoned file's quarantine", kind(KindQuarantine))
+	q := waitFor(t, events, "the abandoned file's quarantine", kind(record.KindQuarantine))
 	stop()
 	if !strings.Contains(q.Reason, "still incomplete") || filepath.Base(q.File) != "res_"+h2.Run+".csv" {
 		t.Errorf("quarantine %+v", q)
@@ -65,12 +66,12 @@ func TestResultMatchedToOldestHandoff(t *testing.T) {
 	tc.cfg.Formats["bench_csv"] = spec
 	tc.positions(2)
 	events, stop := tc.start(t)
-	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
-	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
+	h1 := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	h2 := waitFor(t, events, "a second handoff", kind(record.KindHandoffOK))
 	tc.writeResult(t, "result_a.csv", resultFile("60,0"))
-	in1 := waitFor(t, events, "an ingest", kind(KindIngest))
+	in1 := waitFor(t, events, "an ingest", kind(record.KindIngest))
 	tc.writeResult(t, "result_b.csv", resultFile("61,0"))
-	in2 := waitFor(t, events, "a second ingest", kind(KindIngest))
+	in2 := waitFor(t, events, "a second ingest", kind(record.KindIngest))
 	stop()
 	if in1.Run != h1.Run || in2.Run != h2.Run {
 		t.Errorf("results went to %s and %s, want %s then %s", in1.Run, in2.Run, h1.Run, h2.Run)

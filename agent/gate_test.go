@@ -2,6 +2,7 @@ package agent
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"math"
 	"os"
@@ -15,12 +16,13 @@ import (
 
 	"benchtender/campaign"
 	"benchtender/planner"
+	"benchtender/record"
 )
 
 // fakeProposer is a planner whose answer the test chooses.
 // failingCommit stages for real and fails the rename, as a handoff folder
 // whose permissions changed under the agent would.
-type failingCommit struct{ Staged }
+type failingCommit struct{ record.Staged }
 
 func (f failingCommit) Commit() error {
 	f.Abort()
@@ -38,14 +40,14 @@ func (f fakeProposer) Propose(ctx context.Context, req planner.Request) (planner
 }
 
 // startWith runs an agent with the given options on the campaign.
-func (tc *testCampaign) startWith(t *testing.T, opt Options) (<-chan Entry, func()) {
+func (tc *testCampaign) startWith(t *testing.T, opt Options) (<-chan record.Entry, func()) {
 	t.Helper()
-	events := make(chan Entry, 1024)
+	events := make(chan record.Entry, 1024)
 	opt.Logger = zerolog.New(zerolog.NewTestWriter(t))
 	if opt.Tick == 0 {
 		opt.Tick = 50 * time.Millisecond
 	}
-	opt.Notify = func(e Entry) { events <- e }
+	opt.Notify = func(e record.Entry) { events <- e }
 	a, err := New(tc.cfg, opt)
 	if err != nil {
 		t.Fatal(err)
@@ -100,12 +102,12 @@ func TestFaultsWriteNoSetpoint(t *testing.T) {
 		"planner wrong size": {Proposer: fakeProposer{func(ctx context.Context, req planner.Request) (planner.Result, error) {
 			return planner.Result{Proposal: campaign.Proposal{Setpoint: campaign.Setpoint{RunID: req.RunID, Point: campaign.Point{50}}}}, nil
 		}}},
-		"writer fails on sync": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) (Staged, error) {
-			return atomicWriter{sync: func(*os.File) error { return errors.New("injected: EIO on fsync") }}.stage(dir, name, data, 0o644)
+		"writer fails on sync": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) (record.Staged, error) {
+			return record.Writer{Sync: func(*os.File) error { return errors.New("injected: EIO on fsync") }}.Stage(dir, name, data, 0o644)
 		}},
-		"writer fails": {Proposer: fakeProposer{good}, Writer: func(string, string, []byte) (Staged, error) { return nil, errors.New("injected") }},
-		"rename fails": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) (Staged, error) {
-			st, err := atomicWriter{}.stage(dir, name, data, 0o644)
+		"writer fails": {Proposer: fakeProposer{good}, Writer: func(string, string, []byte) (record.Staged, error) { return nil, errors.New("injected") }},
+		"rename fails": {Proposer: fakeProposer{good}, Writer: func(dir, name string, data []byte) (record.Staged, error) {
+			st, err := record.Writer{}.Stage(dir, name, data, 0o644)
 			return failingCommit{st}, err
 		}},
 	}
@@ -121,11 +123,11 @@ func TestFaultsWriteNoSetpoint(t *testing.T) {
 			intents := 0
 			for len(events) > 0 {
 				switch e := <-events; e.Kind {
-				case KindHandoffOK:
+				case record.KindHandoffOK:
 					t.Fatalf("a handoff was recorded as written: %+v", e)
-				case KindHandoff:
+				case record.KindHandoff:
 					intents++
-				case KindHandoffNo:
+				case record.KindHandoffNo:
 					intents--
 				}
 			}
@@ -133,7 +135,7 @@ func TestFaultsWriteNoSetpoint(t *testing.T) {
 			if intents != 0 {
 				t.Errorf("%d handoff intents without their failure recorded", intents)
 			}
-			if n := len(Replay(readJournalT(t, tc)).InFlight()); n != 0 {
+			if n := len(record.Replay(readJournalT(t, tc)).InFlight()); n != 0 {
 				t.Errorf("%d runs count as handed off", n)
 			}
 		})
@@ -142,7 +144,7 @@ func TestFaultsWriteNoSetpoint(t *testing.T) {
 
 // heldCampaign starts a campaign whose every move is held (review_min
 // above the whole design), and returns the first held proposal.
-func heldCampaign(t *testing.T, extra string, opt Options) (*testCampaign, <-chan Entry, func(), Entry) {
+func heldCampaign(t *testing.T, extra string, opt Options) (*testCampaign, <-chan record.Entry, func(), record.Entry) {
 	t.Helper()
 	tc := newTestCampaign(t, "4", `
 [safety.limits.temp]
@@ -155,7 +157,7 @@ hard_min = 1.0
 hard_max = 5.0
 `+extra)
 	events, stop := tc.startWith(t, opt)
-	p := waitFor(t, events, "a held proposal", kind(KindProposal))
+	p := waitFor(t, events, "a held proposal", kind(record.KindProposal))
 	if p.Decision.Verdict != "hold" {
 		t.Fatalf("verdict %s", p.Decision.Verdict)
 	}
@@ -164,7 +166,7 @@ hard_max = 5.0
 
 func approve(t *testing.T, tc *testCampaign, run, by string, edit map[string]float64) {
 	t.Helper()
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: run, Action: ActionApprove, By: by, Name: "Person " + by, Reason: "checked", Edit: edit}); err != nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: run, Action: record.ActionApprove, By: by, Name: "Person " + by, Reason: "checked", Edit: edit}); err != nil {
 		t.Fatal(err)
 	}
 }
@@ -174,7 +176,7 @@ func waitAudit(t *testing.T, tc *testCampaign, text string) {
 	t.Helper()
 	deadline := time.Now().Add(10 * time.Second)
 	for time.Now().Before(deadline) {
-		b, _ := os.ReadFile(auditPath(tc.cfg.Campaign.StateDir))
+		b, _ := os.ReadFile(record.AuditPath(tc.cfg.Campaign.StateDir))
 		if strings.Contains(string(b), text) {
 			return
 		}
@@ -189,27 +191,27 @@ func waitAudit(t *testing.T, tc *testCampaign, text string) {
 func TestStaleAndReplayedApprovalsAreRefused(t *testing.T) {
 	t.Run("new result arrived", func(t *testing.T) {
 		tc, _, _, p := heldCampaign(t, "", Options{})
-		req := SignoffRequest{ID: "r1", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: -1}
+		req := SignoffRequest{ID: "r1", Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: -1}
 		writeRequest(t, tc, req)
 		waitAudit(t, tc, "new result(s) arrived since it was given")
 	})
 	t.Run("limits edited", func(t *testing.T) {
 		tc, _, _, p := heldCampaign(t, "", Options{})
-		req := SignoffRequest{ID: "r2", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now(), Limits: "0123456789abcdef", State: 0}
+		req := SignoffRequest{ID: "r2", Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now(), Limits: "0123456789abcdef", State: 0}
 		writeRequest(t, tc, req)
 		waitAudit(t, tc, "the limits changed since it was given")
 	})
 	t.Run("expired", func(t *testing.T) {
 		tc, _, _, p := heldCampaign(t, "", Options{})
-		req := SignoffRequest{ID: "r3", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now().Add(-2 * time.Hour), Limits: tc.cfg.Safety.Version()}
+		req := SignoffRequest{ID: "r3", Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "ok", Time: time.Now().Add(-2 * time.Hour), Limits: tc.cfg.Safety.Version()}
 		writeRequest(t, tc, req)
 		waitAudit(t, tc, "longer than approval_expiry")
 	})
 	t.Run("replayed", func(t *testing.T) {
 		tc, events, _, p := heldCampaign(t, "", Options{})
-		req := SignoffRequest{ID: "r4", Run: p.Run, Action: ActionReject, By: "ada", Name: "Ada", Reason: "no", Time: time.Now(), Limits: tc.cfg.Safety.Version()}
+		req := SignoffRequest{ID: "r4", Run: p.Run, Action: record.ActionReject, By: "ada", Name: "Ada", Reason: "no", Time: time.Now(), Limits: tc.cfg.Safety.Version()}
 		writeRequest(t, tc, req)
-		waitFor(t, events, "the rejection", kind(KindSignoff))
+		waitFor(t, events, "the rejection", kind(record.KindSignoff))
 		// Once the agent has taken the first copy away, the same request
 		// comes again.
 		first := filepath.Join(inboxDir(tc.cfg.Campaign.StateDir), req.ID+".json")
@@ -228,8 +230,8 @@ func writeRequest(t *testing.T, tc *testCampaign, req SignoffRequest) {
 	t.Helper()
 	dir := inboxDir(tc.cfg.Campaign.StateDir)
 	os.MkdirAll(dir, 0o755)
-	b, _ := jsonMarshal(req)
-	if err := writeFileAtomic(dir, req.ID+".json", b, 0o644); err != nil {
+	b, _ := json.Marshal(req)
+	if err := record.WriteFileAtomic(dir, req.ID+".json", b, 0o644); err != nil {
 		t.Fatal(err)
 	}
 }
@@ -241,17 +243,17 @@ func TestEditedApprovalIsGatedAgain(t *testing.T) {
 	tc, events, _, p := heldCampaign(t, "", Options{})
 	// The command says so at once; a request that reaches the inbox all
 	// the same is refused by the daemon.
-	_, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "hotter", Edit: map[string]float64{"temp": 85}})
+	_, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "hotter", Edit: map[string]float64{"temp": 85}})
 	if err == nil || !strings.Contains(err.Error(), "above hard_max") {
 		t.Fatalf("edited past a hard limit: %v", err)
 	}
-	writeRequest(t, tc, SignoffRequest{ID: "hot", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "hotter", Edit: map[string]float64{"temp": 85}, Time: time.Now(), Limits: tc.cfg.Safety.Version()})
+	writeRequest(t, tc, SignoffRequest{ID: "hot", Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "hotter", Edit: map[string]float64{"temp": 85}, Time: time.Now(), Limits: tc.cfg.Safety.Version()})
 	waitAudit(t, tc, "the gate refuses the move")
 	if files := handoffFiles(t, tc); len(files) != 0 {
 		t.Fatalf("handoff folder holds %v", files)
 	}
 	approve(t, tc, p.Run, "ada", map[string]float64{"temp": 79.5})
-	h := waitFor(t, events, "the handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "the handoff", kind(record.KindHandoffOK))
 	if h.Run != p.Run || h.Point[0] != 79.5 {
 		t.Fatalf("handed off %v for %s", h.Point, h.Run)
 	}
@@ -261,26 +263,26 @@ func TestEditedApprovalIsGatedAgain(t *testing.T) {
 func TestTwoPersonRule(t *testing.T) {
 	tc, events, _, p := heldCampaign(t, "\n[safety]\ntwo_person = [\"review_min\"]\n", Options{})
 	approve(t, tc, p.Run, "ada", nil)
-	first := waitFor(t, events, "the first approval", kind(KindSignoff))
+	first := waitFor(t, events, "the first approval", kind(record.KindSignoff))
 	if !first.Partial {
 		t.Fatalf("first approval %+v is not partial", first)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "again"}); err == nil || !strings.Contains(err.Error(), "a second, different person") {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "again"}); err == nil || !strings.Contains(err.Error(), "a second, different person") {
 		t.Fatalf("the same person approving twice: %v", err)
 	}
 	// Past the command's check (a request written straight into the
 	// inbox), the daemon refuses it too.
-	writeRequest(t, tc, SignoffRequest{ID: "again", Run: p.Run, Action: ActionApprove, By: "ada", Name: "Ada", Reason: "again", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: 0})
+	writeRequest(t, tc, SignoffRequest{ID: "again", Run: p.Run, Action: record.ActionApprove, By: "ada", Name: "Ada", Reason: "again", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: 0})
 	waitAudit(t, tc, "ada gave the first approval of this move")
 	if files := handoffFiles(t, tc); len(files) != 0 {
 		t.Fatalf("handed off after one person: %v", files)
 	}
 	approve(t, tc, p.Run, "bo", nil)
-	second := waitFor(t, events, "the second approval", kind(KindSignoff))
+	second := waitFor(t, events, "the second approval", kind(record.KindSignoff))
 	if second.Partial || second.By != "bo" {
 		t.Fatalf("second approval %+v", second)
 	}
-	waitFor(t, events, "the handoff", kind(KindHandoffOK))
+	waitFor(t, events, "the handoff", kind(record.KindHandoffOK))
 }
 
 // A pending first approval is never dropped. Here the proposed move needs
@@ -293,39 +295,39 @@ func TestSecondApprovalNeverDropsTheFirst(t *testing.T) {
 	tc, events, _, p := heldCampaign(t, "review_max = 4.0\n\n[safety]\ntwo_person = [\"review_max\"]\n", Options{})
 	edit := map[string]float64{"flow": 4.5}
 	approve(t, tc, p.Run, "ada", edit)
-	first := waitFor(t, events, "the first approval", kind(KindSignoff))
+	first := waitFor(t, events, "the first approval", kind(record.KindSignoff))
 	if !first.Partial || first.Point[1] != 4.5 {
 		t.Fatalf("first approval %+v", first)
 	}
-	st := Replay(readJournalT(t, tc))
+	st := record.Replay(readJournalT(t, tc))
 	if f := st.Runs[p.Run].First; f == nil || f.By != "ada" || f.Name != "Person ada" || f.Point[1] != 4.5 || f.Time.IsZero() {
 		t.Fatalf("pending first approval %+v", f)
 	}
-	_, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "bo", Name: "Bo", Reason: "fine"})
+	_, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: record.ActionApprove, By: "bo", Name: "Bo", Reason: "fine"})
 	if err == nil || !strings.Contains(err.Error(), "flow=4.5") || !strings.Contains(err.Error(), "ada (Person ada)") {
 		t.Fatalf("a plain second approval after an edited first: %v", err)
 	}
-	writeRequest(t, tc, SignoffRequest{ID: "plain", Run: p.Run, Action: ActionApprove, By: "bo", Name: "Bo", Reason: "fine", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: 0})
+	writeRequest(t, tc, SignoffRequest{ID: "plain", Run: p.Run, Action: record.ActionApprove, By: "bo", Name: "Bo", Reason: "fine", Time: time.Now(), Limits: tc.cfg.Safety.Version(), State: 0})
 	waitAudit(t, tc, "Approve those same values to complete it")
 	if files := handoffFiles(t, tc); len(files) != 0 {
 		t.Fatalf("handed off with the first approver's edit dropped: %v", files)
 	}
 	// Other values, replacing the first approval: a new first approval.
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "bo", Name: "Bo", Reason: "less flow", Edit: map[string]float64{"flow": 4.2}, Replace: true}); err != nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: record.ActionApprove, By: "bo", Name: "Bo", Reason: "less flow", Edit: map[string]float64{"flow": 4.2}, Replace: true}); err != nil {
 		t.Fatal(err)
 	}
-	repl := waitFor(t, events, "the replacing approval", kind(KindSignoff))
+	repl := waitFor(t, events, "the replacing approval", kind(record.KindSignoff))
 	if !repl.Partial || !strings.Contains(repl.Replaces, "ada (Person ada)") || !strings.Contains(repl.Replaces, "flow=4.5") {
 		t.Fatalf("replacing approval %+v", repl)
 	}
 	waitAudit(t, tc, "replaces the first approval by ada (Person ada)")
 	// ada completes bo's values.
 	approve(t, tc, p.Run, "ada", map[string]float64{"flow": 4.2})
-	second := waitFor(t, events, "the second approval", kind(KindSignoff))
+	second := waitFor(t, events, "the second approval", kind(record.KindSignoff))
 	if second.Partial {
 		t.Fatalf("second approval %+v", second)
 	}
-	h := waitFor(t, events, "the handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "the handoff", kind(record.KindHandoffOK))
 	if h.Point[1] != 4.2 {
 		t.Fatalf("handed off %v, want the values both signed", h.Point)
 	}
@@ -337,19 +339,19 @@ func TestAllStop(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits)
 	tc.positions(1)
 	events, _ := tc.startWith(t, Options{Tick: 50 * time.Millisecond})
-	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
 	stopFile := allStopPath(tc.cfg)
 	if err := os.WriteFile(stopFile, []byte("smoke in room 3"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	set := time.Now()
-	as := waitFor(t, events, "the all-stop", kind(KindAllStop))
+	as := waitFor(t, events, "the all-stop", kind(record.KindAllStop))
 	if took := time.Since(set); took > 2*time.Second || !strings.Contains(as.Reason, "smoke in room 3") {
 		t.Errorf("all-stop after %v: %+v", took, as)
 	}
 	// A result arrives: it is ingested, but nothing is handed off.
 	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("70,0"))
-	waitFor(t, events, "the ingest", kind(KindIngest))
+	waitFor(t, events, "the ingest", kind(record.KindIngest))
 	time.Sleep(300 * time.Millisecond)
 	if n := len(handoffFiles(t, tc)); n != 1 {
 		t.Fatalf("%d handoff files during the all-stop, want the 1 from before", n)
@@ -363,8 +365,8 @@ func TestAllStop(t *testing.T) {
 	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Action: ActionResume, By: "ada", Name: "Ada Tech", Reason: "room checked"}); err != nil {
 		t.Fatal(err)
 	}
-	waitFor(t, events, "the resume", kind(KindResume))
-	waitFor(t, events, "a handoff after the resume", kind(KindHandoffOK))
+	waitFor(t, events, "the resume", kind(record.KindResume))
+	waitFor(t, events, "a handoff after the resume", kind(record.KindHandoffOK))
 }
 
 // A held move lapses after hold_expiry, measured by the injected clock.
@@ -380,7 +382,7 @@ func TestHoldExpires(t *testing.T) {
 	mu.Lock()
 	now = now.Add(2 * time.Minute)
 	mu.Unlock()
-	e := waitFor(t, events, "the expiry", kind(KindExpire))
+	e := waitFor(t, events, "the expiry", kind(record.KindExpire))
 	if e.Run != p.Run {
 		t.Fatalf("expired %s, want %s", e.Run, p.Run)
 	}
@@ -391,8 +393,8 @@ func TestRateLimit(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits+"\n[safety]\nmax_handoffs_per_hour = 2\n")
 	tc.positions(4)
 	events, stop := tc.startWith(t, Options{})
-	waitFor(t, events, "a handoff", kind(KindHandoffOK))
-	waitFor(t, events, "a second handoff", kind(KindHandoffOK))
+	waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	waitFor(t, events, "a second handoff", kind(record.KindHandoffOK))
 	time.Sleep(500 * time.Millisecond)
 	stop()
 	if n := len(handoffFiles(t, tc)); n != 2 {
@@ -405,7 +407,7 @@ func TestRateLimit(t *testing.T) {
 func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits)
 	events, _ := tc.startWith(t, Options{ConfigPath: tc.cfgPath})
-	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
 	good, _ := os.ReadFile(tc.cfgPath)
 	time.Sleep(20 * time.Millisecond) // a new modification time
 	if err := os.WriteFile(tc.cfgPath, []byte(strings.Replace(string(good), "hard_max = 80.0", "hard_max = 10.0", 1)), 0o644); err != nil {
@@ -413,14 +415,14 @@ func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
 	}
 	waitAudit(t, tc, "config refused")
 	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("70,0"))
-	waitFor(t, events, "the ingest", kind(KindIngest))
+	waitFor(t, events, "the ingest", kind(record.KindIngest))
 	time.Sleep(300 * time.Millisecond)
 	if n := len(handoffFiles(t, tc)); n != 1 {
 		t.Fatalf("%d handoff files under a broken config", n)
 	}
 	os.WriteFile(tc.cfgPath, good, 0o644)
 	waitAudit(t, tc, "limits edited")
-	waitFor(t, events, "a handoff once fixed", kind(KindHandoffOK))
+	waitFor(t, events, "a handoff once fixed", kind(record.KindHandoffOK))
 	_ = filepath.Join
 }
 
@@ -430,19 +432,19 @@ func TestBrokenConfigEditStopsHandoffs(t *testing.T) {
 // when the result of the run in flight comes in.
 func TestCapacityIsNeverExceeded(t *testing.T) {
 	tc, events, _, p := heldCampaign(t, "\n[safety]\nkeep_busy = true\n", Options{})
-	busy := waitFor(t, events, "the keep-busy handoff", kind(KindHandoffOK))
+	busy := waitFor(t, events, "the keep-busy handoff", kind(record.KindHandoffOK))
 	approve(t, tc, p.Run, "ada", nil)
-	waitFor(t, events, "the approval", kind(KindSignoff))
+	waitFor(t, events, "the approval", kind(record.KindSignoff))
 	// Several looks of the agent: nothing else may be written.
-	noneFor(t, events, 500*time.Millisecond, "a second setpoint file while one is in flight", kind(KindHandoff))
+	noneFor(t, events, 500*time.Millisecond, "a second setpoint file while one is in flight", kind(record.KindHandoff))
 	if files := handoffFiles(t, tc); len(files) != 1 {
 		t.Fatalf("handoff folder holds %v, capacity 1", files)
 	}
-	if r := Replay(readJournalT(t, tc)).Runs[p.Run]; r.Status != StatusReady {
+	if r := record.Replay(readJournalT(t, tc)).Runs[p.Run]; r.Status != record.StatusReady {
 		t.Fatalf("approved run is %s, want ready (queued)", r.Status)
 	}
 	tc.writeResult(t, "res_"+busy.Run+".csv", resultFile("50,1"))
-	h := waitFor(t, events, "the queued handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "the queued handoff", kind(record.KindHandoffOK))
 	if h.Run != p.Run {
 		t.Fatalf("handed off %s, want the queued %s", h.Run, p.Run)
 	}
@@ -453,7 +455,7 @@ func TestCapacityIsNeverExceeded(t *testing.T) {
 func TestLimitsEditIsRecordedInWords(t *testing.T) {
 	tc := newTestCampaign(t, "6", defaultLimits)
 	events, _ := tc.startWith(t, Options{ConfigPath: tc.cfgPath})
-	waitFor(t, events, "a proposal", kind(KindProposal))
+	waitFor(t, events, "a proposal", kind(record.KindProposal))
 	good, _ := os.ReadFile(tc.cfgPath)
 	time.Sleep(20 * time.Millisecond) // a new modification time
 	if err := os.WriteFile(tc.cfgPath, []byte(strings.Replace(string(good), "review_max = 75.0", "review_max = 70.0", 1)), 0o644); err != nil {

@@ -8,6 +8,7 @@ import (
 	"strings"
 	"time"
 
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -28,10 +29,10 @@ func (a *Agent) checkAllStop() error {
 		}
 		reason := fmt.Sprintf("%s exists: %s", path, why)
 		a.log.Error().Str("file", path).Msg("ALL-STOP: every handoff halted until a person clears it (benchtender resume)")
-		return a.record(Entry{Kind: KindAllStop, Reason: reason, By: "all-stop file"})
+		return a.record(record.Entry{Kind: record.KindAllStop, Reason: reason, By: "all-stop file"})
 	case err != nil && !errors.Is(err, os.ErrNotExist) && a.state.AllStop == "":
 		// Cannot tell whether the file is there: fail closed.
-		return a.record(Entry{Kind: KindAllStop, Reason: fmt.Sprintf("cannot read %s: %v", path, err), By: actorAgent})
+		return a.record(record.Entry{Kind: record.KindAllStop, Reason: fmt.Sprintf("cannot read %s: %v", path, err), By: actorAgent})
 	}
 	return nil
 }
@@ -76,7 +77,7 @@ func (a *Agent) expireHolds() error {
 		}
 		if now.Sub(seen) >= limit {
 			a.log.Warn().Str("run", r.ID).Stringer("after", limit).Msg("held move lapsed unsigned")
-			if err := a.record(Entry{Kind: KindExpire, Run: r.ID, Reason: fmt.Sprintf("held %v without sign-off", limit)}); err != nil {
+			if err := a.record(record.Entry{Kind: record.KindExpire, Run: r.ID, Reason: fmt.Sprintf("held %v without sign-off", limit)}); err != nil {
 				return err
 			}
 			delete(a.holdSeen, r.ID)
@@ -123,30 +124,21 @@ func (a *Agent) reloadConfig() error {
 	return a.auditNote("limits edited", a.opt.ConfigPath, fmt.Sprintf("%s (limits version %s replaced %s)", what, a.gate.Version(), was))
 }
 
-// SignoffMeaning is what a sign-off entry's signature means (21 CFR Part
-// 11 §11.50(a)(3)): the audit trail and the export both say it this way.
-func (e Entry) SignoffMeaning() string {
-	switch {
-	case e.Action == ActionApprove && e.Partial:
-		return "first of two approvals"
-	case e.Action == ActionApprove:
-		return "approval"
-	}
-	return "rejection"
-}
+// actorAgent is the agent's own identity in the audit trail.
+const actorAgent = "benchtender"
 
 // auditEntry writes the audit trail's entry for a journal entry.
 // The audit entry carries the journal entry's own time, so that the two
 // records agree to the nanosecond and a lost audit line can be put back
 // exactly as it was.
-func (a *Agent) auditEntry(e Entry) error { return a.auditEntryAt(e, e.Time) }
+func (a *Agent) auditEntry(e record.Entry) error { return a.auditEntryAt(e, e.Time) }
 
 // auditEntryAt audits a journal entry with the time given (its own, when
 // a crash delayed its audit entry).
-func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
-	ae := AuditEntry{Actor: actorAgent, Subject: e.Run, Reason: e.Reason}
+func (a *Agent) auditEntryAt(e record.Entry, at time.Time) error {
+	ae := record.AuditEntry{Actor: actorAgent, Subject: e.Run, Reason: e.Reason}
 	switch e.Kind {
-	case KindIngest, KindQuarantine, KindDuplicate:
+	case record.KindIngest, record.KindQuarantine, record.KindDuplicate:
 		ae.Action, ae.Subject = e.Kind, e.File
 		if e.Run != "" {
 			ae.Subject = e.Run + " " + e.File
@@ -154,25 +146,25 @@ func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
 		if e.Failed != "" {
 			ae.Reason = "failed run: " + e.Failed
 		}
-	case KindProposal:
+	case record.KindProposal:
 		ae.Action = "proposal; gate " + string(e.Decision.Verdict)
 		ae.Reason = e.Decision.Summary()
-	case KindSignoff:
+	case record.KindSignoff:
 		ae.Actor, ae.Name = e.By, e.Name
 		ae.Action = e.Action
 		ae.Meaning = e.SignoffMeaning()
-		if e.Action == ActionApprove && len(e.Point) > 0 {
+		if e.Action == record.ActionApprove && len(e.Point) > 0 {
 			ae.Action = "approve with edited values " + a.cfg.Campaign.Factors.Describe(e.Point)
 		}
 		if e.Replaces != "" {
 			ae.Meaning += "; replaces the first approval by " + e.Replaces
 		}
-	case KindResume:
+	case record.KindResume:
 		ae.Actor, ae.Name, ae.Action, ae.Meaning, ae.Subject = e.By, e.Name, "all-stop cleared", "resumption", "all-stop"
-	case KindCorrection:
+	case record.KindCorrection:
 		ae.Actor, ae.Name, ae.Action, ae.Meaning = e.By, e.Name, "correction", "correction of an earlier entry"
 		ae.Subject, ae.Corrects = fmt.Sprintf("audit entry %d", e.Corrects), e.Corrects
-	case KindAllStop:
+	case record.KindAllStop:
 		ae.Actor, ae.Action, ae.Subject = e.By, "all-stop", "every handoff"
 	default:
 		ae.Action = e.Kind
@@ -188,8 +180,8 @@ func (a *Agent) auditEntryAt(e Entry, at time.Time) error {
 // appendAudit appends to the trail and copies its new head to the
 // witness, if one is configured (a witness that cannot be written is
 // logged: the trail itself is written).
-func (a *Agent) appendAudit(ae AuditEntry, at time.Time) error {
-	e, err := a.audit.append(ae, at)
+func (a *Agent) appendAudit(ae record.AuditEntry, at time.Time) error {
+	e, err := a.audit.Append(ae, at)
 	if err != nil {
 		a.log.Error().Err(err).Msg("audit trail write failed; nothing more happens until it can be recorded")
 		return storageError{fmt.Errorf("agent: %w", err)}
@@ -205,5 +197,5 @@ func (a *Agent) auditNote(action, subject, reason string) error {
 	if a.audit == nil {
 		return storageError{fmt.Errorf("agent: audit trail not open")}
 	}
-	return a.appendAudit(AuditEntry{Actor: actorAgent, Action: action, Subject: subject, Reason: reason}, a.opt.Now())
+	return a.appendAudit(record.AuditEntry{Actor: actorAgent, Action: action, Subject: subject, Reason: reason}, a.opt.Now())
 }

@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -15,7 +16,7 @@ import (
 // an all-stop, an edited config that does not validate, trouble with the
 // state folder's disk. It reads the journal's state and the audit trail
 // (the last word on each kind of halt wins).
-func Halts(cfg Config, st *State) []string {
+func Halts(cfg Config, st *record.State) []string {
 	var out []string
 	if st.AllStop != "" {
 		// The reason says what was true when it was recorded ("... exists");
@@ -26,11 +27,11 @@ func Halts(cfg Config, st *State) []string {
 		}
 		out = append(out, fmt.Sprintf("ALL-STOP: every handoff halted since: %s; %s (clear with benchtender resume)", st.AllStop, now))
 	}
-	trail, err := ReadAudit(auditPath(cfg.Campaign.StateDir))
+	trail, err := record.ReadAudit(record.AuditPath(cfg.Campaign.StateDir))
 	if err != nil {
 		return append(out, fmt.Sprintf("audit trail unreadable: %v", err))
 	}
-	last := func(halt, clear string) *AuditEntry {
+	last := func(halt, clear string) *record.AuditEntry {
 		for i := len(trail) - 1; i >= 0; i-- {
 			switch trail[i].Action {
 			case halt:
@@ -73,7 +74,7 @@ func writeWatchStatus(stateDir string, byDir map[string]WatchStatus) error {
 	if err != nil {
 		return err
 	}
-	return writeFileAtomic(stateDir, "watch.json", b, 0o644)
+	return record.WriteFileAtomic(stateDir, "watch.json", b, 0o644)
 }
 
 // ReadWatchStatus returns the watch status the agent last wrote, one per
@@ -110,7 +111,7 @@ func Notices(cfg Config) []string {
 // basins the planner has set aside after progress stalled there, why, and
 // how many runs the search outside them has made, or when regions were
 // last released; empty when none ever was.
-func SetAsideNote(st *State) string {
+func SetAsideNote(st *record.State) string {
 	var parts []string
 	released := ""
 	from := 0

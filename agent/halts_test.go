@@ -6,6 +6,7 @@ import (
 
 	"benchtender/campaign"
 	"benchtender/planner"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -14,16 +15,16 @@ import (
 // each with its reason and counts the new search's runs.
 func TestSetAsideNote(t *testing.T) {
 	pass := safety.Decision{Verdict: safety.Pass}
-	var es []Entry
+	var es []record.Entry
 	for i := 1; i <= 6; i++ {
 		run := fmt.Sprintf("R%04d", i)
-		es = append(es, Entry{Kind: KindProposal, Run: run, Point: campaign.Point{float64(i), 2}, Method: "test", Decision: &pass},
-			Entry{Kind: KindIngest, Run: run, File: run + ".csv", SHA256: run, Value: float64(i)})
+		es = append(es, record.Entry{Kind: record.KindProposal, Run: run, Point: campaign.Point{float64(i), 2}, Method: "test", Decision: &pass},
+			record.Entry{Kind: record.KindIngest, Run: run, File: run + ".csv", SHA256: run, Value: float64(i)})
 		if i == 4 {
-			es = append(es, Entry{Kind: KindSetAside, Run: "R0002", Aside: &planner.Aside{Run: 1, Centre: campaign.Point{2, 2}, Scales: []float64{0.1, 0.1}, From: 4, Reason: "15 runs without progress since run 2, the best of its search"}})
+			es = append(es, record.Entry{Kind: record.KindSetAside, Run: "R0002", Aside: &planner.Aside{Run: 1, Centre: campaign.Point{2, 2}, Scales: []float64{0.1, 0.1}, From: 4, Reason: "15 runs without progress since run 2, the best of its search"}})
 		}
 	}
-	st := Replay(es)
+	st := record.Replay(es)
 	if len(st.Asides) != 1 || st.Asides[0].From != 4 || st.AsideRuns[0] != "R0002" {
 		t.Fatalf("replayed regions %+v, runs %v", st.Asides, st.AsideRuns)
 	}
@@ -31,11 +32,11 @@ func TestSetAsideNote(t *testing.T) {
 	if got := SetAsideNote(st); got != want {
 		t.Errorf("note %q, want %q", got, want)
 	}
-	if got := SetAsideNote(Replay(es[:4])); got != "" {
+	if got := SetAsideNote(record.Replay(es[:4])); got != "" {
 		t.Errorf("nothing set aside: %q", got)
 	}
-	rel := append(append([]Entry(nil), es...), Entry{Kind: KindSetAside, Aside: &planner.Aside{Release: true, From: 5, Reason: "nothing better outside"}})
-	if got := SetAsideNote(Replay(rel)); got != "regions set aside earlier were released (nothing better outside); 1 runs since" {
+	rel := append(append([]record.Entry(nil), es...), record.Entry{Kind: record.KindSetAside, Aside: &planner.Aside{Release: true, From: 5, Reason: "nothing better outside"}})
+	if got := SetAsideNote(record.Replay(rel)); got != "regions set aside earlier were released (nothing better outside); 1 runs since" {
 		t.Errorf("after a release: %q", got)
 	}
 }

@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"encoding/json"
 	"os"
 	"path/filepath"
@@ -134,13 +135,13 @@ func (tc *testCampaign) positions(n int) {
 
 // start runs an agent on the campaign with default options and returns a
 // channel of its journal entries and a stop function that waits for it.
-func (tc *testCampaign) start(t *testing.T) (<-chan Entry, func()) {
+func (tc *testCampaign) start(t *testing.T) (<-chan record.Entry, func()) {
 	t.Helper()
 	return tc.startWith(t, Options{})
 }
 
 // waitFor reads entries until one satisfies ok, failing after 20 s.
-func waitFor(t *testing.T, events <-chan Entry, what string, ok func(Entry) bool) Entry {
+func waitFor(t *testing.T, events <-chan record.Entry, what string, ok func(record.Entry) bool) record.Entry {
 	t.Helper()
 	deadline := time.After(20 * time.Second)
 	for {
@@ -155,7 +156,7 @@ func waitFor(t *testing.T, events <-chan Entry, what string, ok func(Entry) bool
 	}
 }
 
-func kind(k string) func(Entry) bool { return func(e Entry) bool { return e.Kind == k } }
+func kind(k string) func(record.Entry) bool { return func(e record.Entry) bool { return e.Kind == k } }
 
 // writeResult writes a result file the way the test instrument does.
 func (tc *testCampaign) writeResult(t *testing.T, name, body string) string {
@@ -171,9 +172,9 @@ func resultFile(purity string) string {
 	return "Instrument: test bench\r\nDate: 01.12.2026\r\nSample;Purity;Unit\r\nx;" + purity + ";%\r\n"
 }
 
-func readJournalT(t *testing.T, tc *testCampaign) []Entry {
+func readJournalT(t *testing.T, tc *testCampaign) []record.Entry {
 	t.Helper()
-	es, err := ReadJournal(journalPath(tc.cfg.Campaign.StateDir))
+	es, err := record.ReadJournal(journalPath(tc.cfg.Campaign.StateDir))
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -182,7 +183,7 @@ func readJournalT(t *testing.T, tc *testCampaign) []Entry {
 
 // noneFor reads entries for d and fails on the first that bad accepts:
 // a window in which something that must not happen would show.
-func noneFor(t *testing.T, events <-chan Entry, d time.Duration, what string, bad func(Entry) bool) {
+func noneFor(t *testing.T, events <-chan record.Entry, d time.Duration, what string, bad func(record.Entry) bool) {
 	t.Helper()
 	quiet := time.After(d)
 	for {
@@ -200,30 +201,30 @@ func noneFor(t *testing.T, events <-chan Entry, d time.Duration, what string, ba
 // cutRecordAfter cuts the journal and the audit trail of the state folder
 // sd just after journal entry last (the entries es are the journal's), as
 // a crash right after that entry was journalled and audited leaves them.
-func cutRecordAfter(t *testing.T, sd string, es []Entry, last int64) {
+func cutRecordAfter(t *testing.T, sd string, es []record.Entry, last int64) {
 	t.Helper()
 	var jlen int
 	for _, e := range es {
 		if e.Seq > last {
 			break
 		}
-		line, _ := encodeEntry(e)
+		line, _ := record.EncodeEntry(e)
 		jlen += len(line)
 	}
 	if err := os.Truncate(journalPath(sd), int64(jlen)); err != nil {
 		t.Fatal(err)
 	}
-	trail, _ := os.ReadFile(auditPath(sd))
+	trail, _ := os.ReadFile(record.AuditPath(sd))
 	var alen int
 	for _, line := range strings.SplitAfter(string(trail), "\n") {
 		alen += len(line)
-		var ae AuditEntry
+		var ae record.AuditEntry
 		json.Unmarshal([]byte(line), &ae)
-		if detailSeq(ae) == last {
+		if record.DetailSeq(ae) == last {
 			break
 		}
 	}
-	if err := os.Truncate(auditPath(sd), int64(alen)); err != nil {
+	if err := os.Truncate(record.AuditPath(sd), int64(alen)); err != nil {
 		t.Fatal(err)
 	}
 }

@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -81,9 +82,9 @@ func TestTwoInstrumentsShareACampaign(t *testing.T) {
 	inFlight := map[string]string{}
 	answered := 0
 	for answered < 6 {
-		e := waitFor(t, events, "a handoff or an ingest", func(e Entry) bool { return e.Kind == KindHandoff || e.Kind == KindIngest })
+		e := waitFor(t, events, "a handoff or an ingest", func(e record.Entry) bool { return e.Kind == record.KindHandoff || e.Kind == record.KindIngest })
 		switch e.Kind {
-		case KindHandoff:
+		case record.KindHandoff:
 			if prev, busy := inFlight[e.Instrument]; busy {
 				t.Fatalf("%s handed to %s while %s is still in flight there", e.Run, e.Instrument, prev)
 			}
@@ -100,7 +101,7 @@ func TestTwoInstrumentsShareACampaign(t *testing.T) {
 				// would be a duplicate).
 				tc.writeFile(t, "exports_b", "result_"+e.Run[1:]+".txt", fmt.Sprintf("purity\n%d.25\n", 69+len(on["b"])))
 			}
-		case KindIngest:
+		case record.KindIngest:
 			inst := "a"
 			if strings.Contains(e.File, "exports_b") {
 				inst = "b"
@@ -116,7 +117,7 @@ func TestTwoInstrumentsShareACampaign(t *testing.T) {
 	if len(on["a"]) < 2 || len(on["b"]) < 2 {
 		t.Errorf("runs by instrument: %v", on)
 	}
-	st := Replay(readJournalT(t, tc))
+	st := record.Replay(readJournalT(t, tc))
 	for _, r := range st.TrialRuns() {
 		onB := contains(on["b"], r.ID)
 		if (onB && (r.Value < 70 || r.Value > 79)) || (!onB && r.Value != 80.5) || (r.Instrument == "b") != onB {

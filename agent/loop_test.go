@@ -11,6 +11,7 @@ import (
 
 	"benchtender/campaign"
 	"benchtender/planner"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -22,13 +23,13 @@ func TestWholeLoopThroughRealFiles(t *testing.T) {
 	tc := newTestCampaign(t, "6", passLimits)
 	events, stop := tc.start(t)
 	purities := []string{"81,5", "84,25", "79,0", "88,75", "90,5", "91,0"}
-	var handoffs []Entry
+	var handoffs []record.Entry
 	for i := 0; i < 6; i++ {
-		prop := waitFor(t, events, "a proposal", kind(KindProposal))
+		prop := waitFor(t, events, "a proposal", kind(record.KindProposal))
 		if prop.Decision.Verdict != safety.Pass {
 			t.Fatalf("proposal %s: %v, want pass (no review limits)", prop.Run, prop.Decision.Summary())
 		}
-		h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+		h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
 		handoffs = append(handoffs, h)
 		if h.Run != prop.Run {
 			t.Fatalf("handoff of %s after proposal of %s", h.Run, prop.Run)
@@ -56,7 +57,7 @@ func TestWholeLoopThroughRealFiles(t *testing.T) {
 		}
 		// The instrument answers.
 		tc.writeResult(t, "res_"+prop.Run+".csv", resultFile(purities[i]))
-		in := waitFor(t, events, "an ingest", kind(KindIngest))
+		in := waitFor(t, events, "an ingest", kind(record.KindIngest))
 		want, _ := strconv.ParseFloat(strings.Replace(purities[i], ",", ".", 1), 64)
 		if in.Run != prop.Run || in.Value != want {
 			t.Fatalf("ingested %s = %v, want %s = %v", in.Run, in.Value, prop.Run, want)
@@ -64,7 +65,7 @@ func TestWholeLoopThroughRealFiles(t *testing.T) {
 	}
 	stop()
 	es := readJournalT(t, tc)
-	st := Replay(es)
+	st := record.Replay(es)
 	if st.Handoffs != 6 || len(st.Trials()) != 6 {
 		t.Fatalf("journal has %d handoffs and %d results, want 6 and 6", st.Handoffs, len(st.Trials()))
 	}
@@ -88,10 +89,10 @@ func TestWholeLoopThroughRealFiles(t *testing.T) {
 func TestMalformedResultIsQuarantinedAndNothingIsLost(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
 	bad := "Instrument: test bench\r\nDate: 01.12.2026\r\nSample;Purity;Unit\r\nx;12,3,4;%\r\n"
 	path := tc.writeResult(t, "res_"+h.Run+"_a.csv", bad)
-	q := waitFor(t, events, "a quarantine", kind(KindQuarantine))
+	q := waitFor(t, events, "a quarantine", kind(record.KindQuarantine))
 	if !strings.Contains(q.Reason, ":4:") || !strings.Contains(q.Reason, "not a number") || !strings.Contains(q.Reason, "Purity") {
 		t.Errorf("reason %q should name line 4, the column and why", q.Reason)
 	}
@@ -107,21 +108,21 @@ func TestMalformedResultIsQuarantinedAndNothingIsLost(t *testing.T) {
 	}
 	// The agent keeps running: a good file for the same run is taken.
 	tc.writeResult(t, "res_"+h.Run+"_b.csv", resultFile("55,5"))
-	in := waitFor(t, events, "an ingest", kind(KindIngest))
+	in := waitFor(t, events, "an ingest", kind(record.KindIngest))
 	if in.Run != h.Run || in.Value != 55.5 {
 		t.Fatalf("ingest %s %v", in.Run, in.Value)
 	}
-	waitFor(t, events, "the next handoff", kind(KindHandoffOK))
+	waitFor(t, events, "the next handoff", kind(record.KindHandoffOK))
 	stop()
 
 	// After a restart neither the quarantined nor the ingested content is
 	// taken again: the first thing recorded is the next run's result.
-	next := Replay(readJournalT(t, tc)).InFlight()[0].ID
+	next := record.Replay(readJournalT(t, tc)).InFlight()[0].ID
 	events, stop = tc.start(t)
 	tc.writeResult(t, "res_"+next+".csv", resultFile("60,0"))
-	first := waitFor(t, events, "the first entry after restart", func(Entry) bool { return true })
+	first := waitFor(t, events, "the first entry after restart", func(record.Entry) bool { return true })
 	stop()
-	if first.Kind != KindIngest || first.Run != next {
+	if first.Kind != record.KindIngest || first.Run != next {
 		t.Errorf("first entry after restart: %s %s (%s), want the ingest of %s", first.Kind, first.Run, first.File, next)
 	}
 }
@@ -145,7 +146,7 @@ hard_max = 5.0
 	}
 	events, stop := tc.start(t)
 	for i := 0; i < maxRefusals; i++ {
-		e := waitFor(t, events, "a proposal", kind(KindProposal))
+		e := waitFor(t, events, "a proposal", kind(record.KindProposal))
 		if e.Decision.Verdict != safety.Refuse {
 			// A design point may land inside [20, 21]: then it is
 			// handed off; the test needs refusals only.
@@ -160,7 +161,7 @@ hard_max = 5.0
 	if len(files) != 0 {
 		t.Fatalf("handoff folder holds %d files, want none", len(files))
 	}
-	st := Replay(readJournalT(t, tc))
+	st := record.Replay(readJournalT(t, tc))
 	if st.Proposals != maxRefusals || st.Handoffs != 0 {
 		t.Errorf("%d proposals, %d handoffs; want %d and 0", st.Proposals, st.Handoffs, maxRefusals)
 	}
@@ -172,37 +173,37 @@ hard_max = 5.0
 func TestHeldMoveIsHandedOffOnlyAfterApproval(t *testing.T) {
 	// Every temp below 79 is held.
 	tc, events, _, p := heldCampaign(t, "", Options{})
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: "R9999", Action: ActionApprove, By: "a", Name: "A", Reason: "b"}); err == nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: "R9999", Action: record.ActionApprove, By: "a", Name: "A", Reason: "b"}); err == nil {
 		t.Error("approving an unknown run was accepted")
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionApprove, By: "", Name: "B", Reason: "b"}); err == nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: record.ActionApprove, By: "", Name: "B", Reason: "b"}); err == nil {
 		t.Error("approval without a name was accepted")
 	}
 	if files, _ := filepath.Glob(filepath.Join(tc.cfg.Instrument.HandoffDir, "*.csv")); len(files) != 0 {
 		t.Fatalf("held move was written: %v", files)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: ActionReject, By: "ada", Name: "Ada Tech", Reason: "too cold for this batch"}); err != nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p.Run, Action: record.ActionReject, By: "ada", Name: "Ada Tech", Reason: "too cold for this batch"}); err != nil {
 		t.Fatal(err)
 	}
-	s := waitFor(t, events, "the rejection", kind(KindSignoff))
-	if s.Run != p.Run || s.Action != ActionReject || s.By != "ada" || s.Name != "Ada Tech" || s.Reason != "too cold for this batch" {
+	s := waitFor(t, events, "the rejection", kind(record.KindSignoff))
+	if s.Run != p.Run || s.Action != record.ActionReject || s.By != "ada" || s.Name != "Ada Tech" || s.Reason != "too cold for this batch" {
 		t.Fatalf("sign-off entry %+v", s)
 	}
-	p2 := waitFor(t, events, "the next proposal", kind(KindProposal))
+	p2 := waitFor(t, events, "the next proposal", kind(record.KindProposal))
 	if p2.Run == p.Run || campaign.Point(p2.Point).Finite() == false {
 		t.Fatalf("next proposal %+v", p2)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "ada", Name: "Ada Tech", Reason: "checked the jacket"}); err != nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: record.ActionApprove, By: "ada", Name: "Ada Tech", Reason: "checked the jacket"}); err != nil {
 		t.Fatal(err)
 	}
-	h := waitFor(t, events, "the handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "the handoff", kind(record.KindHandoffOK))
 	if h.Run != p2.Run {
 		t.Fatalf("handed off %s, want %s", h.Run, p2.Run)
 	}
 	if _, err := os.Stat(filepath.Join(tc.cfg.Instrument.HandoffDir, p.Run+".csv")); !os.IsNotExist(err) {
 		t.Errorf("rejected run %s has a handoff file", p.Run)
 	}
-	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: ActionApprove, By: "ada", Name: "Ada Tech", Reason: "again"}); err == nil {
+	if _, err := RequestSignoff(tc.cfg, SignoffRequest{Run: p2.Run, Action: record.ActionApprove, By: "ada", Name: "Ada Tech", Reason: "again"}); err == nil {
 		t.Error("a second approval of a handed-off run was accepted")
 	}
 }
@@ -212,26 +213,26 @@ func TestHeldMoveIsHandedOffOnlyAfterApproval(t *testing.T) {
 func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 	tc := newTestCampaign(t, "3", defaultLimits)
 	events, stop := tc.start(t)
-	h := waitFor(t, events, "a handoff", kind(KindHandoffOK))
+	h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
 	body := resultFile("70,0")
 	tc.writeResult(t, "res_"+h.Run+".csv", body)
-	waitFor(t, events, "an ingest", kind(KindIngest))
-	waitFor(t, events, "the next handoff", kind(KindHandoffOK))
+	waitFor(t, events, "an ingest", kind(record.KindIngest))
+	waitFor(t, events, "the next handoff", kind(record.KindHandoffOK))
 	stop()
 	n := len(readJournalT(t, tc))
 	// Restart; the old file is still there and a copy appears.
 	events, stop = tc.start(t)
 	tc.writeResult(t, "copy_of_res_"+h.Run+".csv", body)
 	// Wait for two full scans' worth of time by waiting on a fresh file.
-	h2 := Replay(readJournalT(t, tc)).InFlight()[0]
+	h2 := record.Replay(readJournalT(t, tc)).InFlight()[0]
 	tc.writeResult(t, "res_"+h2.ID+".csv", resultFile("71,0"))
 	// The new result and the copy settle together; either may come
 	// first.
-	var in Entry
+	var in record.Entry
 	gotDup := false
 	for in.Kind == "" || !gotDup {
-		e := waitFor(t, events, "the new ingest and the duplicate", func(e Entry) bool { return e.Kind == KindIngest || e.Kind == KindDuplicate })
-		if e.Kind == KindIngest {
+		e := waitFor(t, events, "the new ingest and the duplicate", func(e record.Entry) bool { return e.Kind == record.KindIngest || e.Kind == record.KindDuplicate })
+		if e.Kind == record.KindIngest {
 			in = e
 		} else {
 			gotDup = true
@@ -244,7 +245,7 @@ func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 	es := readJournalT(t, tc)
 	ingests := 0
 	for _, e := range es {
-		if e.Kind == KindIngest {
+		if e.Kind == record.KindIngest {
 			ingests++
 		}
 	}
@@ -254,7 +255,7 @@ func TestSameContentIsIngestedOnceAcrossRestarts(t *testing.T) {
 	// The copy is recorded as a duplicate of the first file, once.
 	dups := 0
 	for _, e := range es {
-		if e.Kind == KindDuplicate {
+		if e.Kind == record.KindDuplicate {
 			dups++
 			if !strings.Contains(e.File, "copy_of_res_") || !strings.Contains(e.Reason, "same content as") {
 				t.Errorf("duplicate entry %+v", e)
@@ -272,13 +273,13 @@ func TestBatchOfTwoInFlight(t *testing.T) {
 	tc := newTestCampaign(t, "4", defaultLimits)
 	tc.positions(2)
 	events, stop := tc.start(t)
-	h1 := waitFor(t, events, "a handoff", kind(KindHandoffOK))
-	h2 := waitFor(t, events, "a second handoff", kind(KindHandoffOK))
+	h1 := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	h2 := waitFor(t, events, "a second handoff", kind(record.KindHandoffOK))
 	stop()
 	if h1.Run == h2.Run || (h1.Point[0] == h2.Point[0] && h1.Point[1] == h2.Point[1]) {
 		t.Fatalf("two handoffs %v %v", h1, h2)
 	}
-	if n := len(Replay(readJournalT(t, tc)).InFlight()); n != 2 {
+	if n := len(record.Replay(readJournalT(t, tc)).InFlight()); n != 2 {
 		t.Errorf("%d in flight, want 2", n)
 	}
 }

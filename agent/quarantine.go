@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"fmt"
 	"os"
 	"path/filepath"
@@ -43,12 +44,12 @@ func quarantine(dir, src, sha string, data []byte, reason string, now time.Time,
 		return "", fmt.Errorf("quarantine %s: %w", src, err)
 	}
 	name := quarantineName(src, sha)
-	if err := writeFileAtomic(dir, name, data, mode&0o666); err != nil {
+	if err := record.WriteFileAtomic(dir, name, data, mode&0o666); err != nil {
 		return "", fmt.Errorf("quarantine %s: %w", src, err)
 	}
 	note := fmt.Sprintf("file:     %s\nsha256:   %s\nrefused:  %s\nreason:   %s\n\nThe original file was left where it was, unchanged.\n",
 		src, sha, now.UTC().Format(time.RFC3339), reason)
-	if err := writeFileAtomic(dir, name+".reason.txt", []byte(note), mode&0o666|0o600); err != nil {
+	if err := record.WriteFileAtomic(dir, name+".reason.txt", []byte(note), mode&0o666|0o600); err != nil {
 		return "", fmt.Errorf("quarantine %s: %w", src, err)
 	}
 	return filepath.Join(dir, name), nil

@@ -9,6 +9,7 @@ import (
 
 	"benchtender/campaign"
 	"benchtender/planner"
+	"benchtender/record"
 )
 
 // A crash can stop a handoff after any of its three durable steps (temp
@@ -29,15 +30,15 @@ func TestRestartSettlesAnUnconfirmedHandoff(t *testing.T) {
 	}{
 		"after staging": {
 			crash: func(t *testing.T, handoff string) {
-				if err := os.Rename(handoff, filepath.Join(filepath.Dir(handoff), tempPrefix+"R0001.csv.4711.tmp")); err != nil {
+				if err := os.Rename(handoff, filepath.Join(filepath.Dir(handoff), record.TempPrefix+"R0001.csv.4711.tmp")); err != nil {
 					t.Fatal(err)
 				}
 			},
-			want: KindHandoffNo, reason: "before the rename", resent: true, fileLeft: true,
+			want: record.KindHandoffNo, reason: "before the rename", resent: true, fileLeft: true,
 		},
 		"after the rename, file waiting": {
 			crash: func(t *testing.T, handoff string) {},
-			want:  KindHandoffOK, reason: "found in place", fileLeft: true,
+			want:  record.KindHandoffOK, reason: "found in place", fileLeft: true,
 		},
 		"after the rename, file taken": {
 			crash: func(t *testing.T, handoff string) {
@@ -45,27 +46,27 @@ func TestRestartSettlesAnUnconfirmedHandoff(t *testing.T) {
 					t.Fatal(err)
 				}
 			},
-			want: KindHandoffOK, reason: "taken by the instrument",
+			want: record.KindHandoffOK, reason: "taken by the instrument",
 		},
 	}
 	for name, c := range cases {
 		t.Run(name, func(t *testing.T) {
 			tc := newTestCampaign(t, "3", defaultLimits)
 			events, stop := tc.startWith(t, Options{Proposer: fixed})
-			ok := waitFor(t, events, "the first handoff", kind(KindHandoffOK))
+			ok := waitFor(t, events, "the first handoff", kind(record.KindHandoffOK))
 			stop()
 			// The journal and the audit trail as the crash left them:
 			// everything up to the handoff's intent (audited too, as
 			// record does before the rename), nothing after.
 			es := readJournalT(t, tc)
-			var kept []Entry
+			var kept []record.Entry
 			for _, e := range es {
-				if e.Kind == KindHandoffOK && e.Run == ok.Run {
+				if e.Kind == record.KindHandoffOK && e.Run == ok.Run {
 					break
 				}
 				kept = append(kept, e)
 			}
-			if last := kept[len(kept)-1]; last.Kind != KindHandoff || last.Run != "R0001" {
+			if last := kept[len(kept)-1]; last.Kind != record.KindHandoff || last.Run != "R0001" {
 				t.Fatalf("the journal before the confirmation ends in %+v", last)
 			}
 			sd := tc.cfg.Campaign.StateDir
@@ -80,14 +81,14 @@ func TestRestartSettlesAnUnconfirmedHandoff(t *testing.T) {
 			c.crash(t, handoff)
 
 			events, stop = tc.startWith(t, Options{Proposer: fixed})
-			got := waitFor(t, events, "the restart's verdict on R0001", func(e Entry) bool {
-				return (e.Kind == KindHandoffOK || e.Kind == KindHandoffNo) && e.Run == "R0001"
+			got := waitFor(t, events, "the restart's verdict on R0001", func(e record.Entry) bool {
+				return (e.Kind == record.KindHandoffOK || e.Kind == record.KindHandoffNo) && e.Run == "R0001"
 			})
 			if got.Kind != c.want || !strings.Contains(got.Reason, c.reason) || got.ActionID != intent.ActionID {
 				t.Fatalf("restart recorded %s (%q, action %s); want %s (%q, action %s)", got.Kind, got.Reason, got.ActionID, c.want, c.reason, intent.ActionID)
 			}
 			if c.resent {
-				again := waitFor(t, events, "R0001 sent again", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+				again := waitFor(t, events, "R0001 sent again", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 				if again.ActionID == intent.ActionID {
 					t.Errorf("sent again under the old action id %s", again.ActionID)
 				}
@@ -110,7 +111,7 @@ func TestRestartSettlesAnUnconfirmedHandoff(t *testing.T) {
 					t.Errorf("second restart recorded %s for R0001 again", e.Kind)
 				}
 			}
-			if _, err := VerifyAudit(auditPath(sd), keyOf(t, tc)); err != nil {
+			if _, err := record.VerifyAudit(record.AuditPath(sd), keyOf(t, tc)); err != nil {
 				t.Errorf("audit trail: %v", err)
 			}
 		})

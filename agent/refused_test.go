@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"os"
 	"path/filepath"
 	"strings"
@@ -15,7 +16,7 @@ import (
 // temp file a crash left in the archive (the sweep skipped it).
 func TestRefusedFilesAlwaysGetANote(t *testing.T) {
 	tc := newTestCampaign(t, "3", passLimits)
-	stray := filepath.Join(tc.cfg.Campaign.StateDir, "archive", "ab", tempPrefix+"abcd.1234.tmp")
+	stray := filepath.Join(tc.cfg.Campaign.StateDir, "archive", "ab", record.TempPrefix+"abcd.1234.tmp")
 	os.MkdirAll(filepath.Dir(stray), 0o755)
 	os.WriteFile(stray, []byte("half an archive copy"), 0o444)
 
@@ -33,9 +34,9 @@ func TestRefusedFilesAlwaysGetANote(t *testing.T) {
 
 	events, stop := tc.start(t)
 	defer stop()
-	notes := map[string]Entry{}
+	notes := map[string]record.Entry{}
 	for len(notes) < 3 {
-		e := waitFor(t, events, "three quarantine entries", kind(KindQuarantine))
+		e := waitFor(t, events, "three quarantine entries", kind(record.KindQuarantine))
 		notes[filepath.Base(e.File)] = e
 	}
 	stop()
@@ -67,7 +68,7 @@ func TestRefusedFilesAlwaysGetANote(t *testing.T) {
 	time.Sleep(1500 * time.Millisecond) // a window for a wrong ingest to show
 	stop()
 	for _, e := range readJournalT(t, tc) {
-		if e.Kind == KindIngest {
+		if e.Kind == record.KindIngest {
 			t.Errorf("a refused file was ingested after a restart: %s", e.File)
 		}
 	}
@@ -97,9 +98,9 @@ func TestAllStopStatusFollowsTheFile(t *testing.T) {
 	os.MkdirAll(filepath.Dir(stopFile), 0o755)
 	os.WriteFile(stopFile, []byte("valve check"), 0o644)
 	events, stop := tc.start(t)
-	waitFor(t, events, "the all-stop", kind(KindAllStop))
+	waitFor(t, events, "the all-stop", kind(record.KindAllStop))
 	stop()
-	st := Replay(readJournalT(t, tc))
+	st := record.Replay(readJournalT(t, tc))
 	if h := strings.Join(Halts(tc.cfg, st), "\n"); !strings.Contains(h, "still there") {
 		t.Errorf("halts with the file: %q", h)
 	}
@@ -116,15 +117,15 @@ func TestImplausibleResponseIsAFailedRun(t *testing.T) {
 	tc := newTestCampaign(t, "3", passLimits)
 	events, stop := tc.startWith(t, Options{Proposer: fixedAt})
 	defer stop()
-	waitFor(t, events, "R0001 handed off", func(e Entry) bool { return e.Kind == KindHandoffOK && e.Run == "R0001" })
+	waitFor(t, events, "R0001 handed off", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == "R0001" })
 	tc.writeResult(t, "res_R0001.csv", resultFile("1e308"))
-	e := waitFor(t, events, "the result", kind(KindIngest))
+	e := waitFor(t, events, "the result", kind(record.KindIngest))
 	stop()
 	if !strings.Contains(e.Failed, "beyond 1e+15") || e.Value != 0 {
 		t.Fatalf("ingest entry %+v: want a failed run naming the size", e)
 	}
-	st := Replay(readJournalT(t, tc))
-	if r := st.Runs["R0001"]; r.Status != StatusFailed || len(st.Trials()) != 0 {
+	st := record.Replay(readJournalT(t, tc))
+	if r := st.Runs["R0001"]; r.Status != record.StatusFailed || len(st.Trials()) != 0 {
 		t.Errorf("run %+v, trials %v: want a failed run and nothing to model", r, st.Trials())
 	}
 }

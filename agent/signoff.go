@@ -15,6 +15,7 @@ import (
 	"unicode"
 
 	"benchtender/campaign"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -65,13 +66,13 @@ func (r SignoffRequest) Validate() error {
 		return fmt.Errorf("sign-off: %q is not a run id", r.Run)
 	}
 	switch r.Action {
-	case ActionApprove, ActionReject, ActionResume:
+	case record.ActionApprove, record.ActionReject, ActionResume:
 	case ActionCorrect:
 		if r.Corrects < 1 {
 			return errors.New("correction: name the audit entry it corrects (--entry)")
 		}
 	default:
-		return fmt.Errorf("sign-off: action must be %q, %q, %q or %q, got %q", ActionApprove, ActionReject, ActionResume, ActionCorrect, r.Action)
+		return fmt.Errorf("sign-off: action must be %q, %q, %q or %q, got %q", record.ActionApprove, record.ActionReject, ActionResume, ActionCorrect, r.Action)
 	}
 	if strings.TrimSpace(r.By) == "" {
 		return errors.New("sign-off: who signs (--by, a user id) is required")
@@ -87,7 +88,7 @@ func (r SignoffRequest) Validate() error {
 			return fmt.Errorf("sign-off: edit %s=%v is not a factor and a finite value", k, v)
 		}
 	}
-	if r.Action != ActionApprove && (len(r.Edit) > 0 || r.Replace) {
+	if r.Action != record.ActionApprove && (len(r.Edit) > 0 || r.Replace) {
 		return errors.New("sign-off: only an approval may edit values or replace a first approval")
 	}
 	if strings.TrimSpace(r.Reason) == "" {
@@ -140,11 +141,11 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	if err := req.Validate(); err != nil {
 		return "", err
 	}
-	entries, err := ReadJournal(journalPath(cfg.Campaign.StateDir))
+	entries, err := record.ReadJournal(journalPath(cfg.Campaign.StateDir))
 	if err != nil {
 		return "", err
 	}
-	st := Replay(entries)
+	st := record.Replay(entries)
 	req.Limits, req.State = cfg.Safety.Version(), st.Ingests
 	r, ok := st.Runs[req.Run]
 	switch {
@@ -153,7 +154,7 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 		if err != nil {
 			return "", err
 		}
-		n, err := VerifyAudit(auditPath(cfg.Campaign.StateDir), key)
+		n, err := record.VerifyAudit(record.AuditPath(cfg.Campaign.StateDir), key)
 		if err != nil {
 			return "", err
 		}
@@ -168,10 +169,10 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 		}
 	case !ok:
 		return "", fmt.Errorf("sign-off: campaign %s has no run %s", cfg.Campaign.Name, req.Run)
-	case r.Status != StatusHeld:
+	case r.Status != record.StatusHeld:
 		return "", fmt.Errorf("sign-off: run %s is %s, not held", req.Run, r.Status)
 	}
-	if req.Action == ActionApprove {
+	if req.Action == record.ActionApprove {
 		// Edits that repeat the held value are no edits (a form sends
 		// every factor).
 		for k, v := range req.Edit {
@@ -192,7 +193,7 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 		}
 		if len(req.Edit) > 0 {
 			gate := safety.NewGate(cfg.Safety, cfg.Campaign.Factors)
-			d := gate.Check(campaign.Setpoint{RunID: r.ID, Point: point}, st.lastOn(cfg.Instruments[0].Name, len(cfg.Instruments) == 1))
+			d := gate.Check(campaign.Setpoint{RunID: r.ID, Point: point}, st.LastHandoffOn(cfg.Instruments[0].Name, len(cfg.Instruments) == 1))
 			if d.Verdict == safety.Refuse {
 				return "", fmt.Errorf("sign-off of %s refused: the gate refuses the edited values %s: %s", req.Run, cfg.Campaign.Factors.Describe(point), d.Summary())
 			}
@@ -207,7 +208,7 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 		return "", err
 	}
 	name := fmt.Sprintf("%020d-%s-%s.json", req.Time.UnixNano(), req.Run, req.Action)
-	if err := writeFileAtomic(dir, name, data, 0o644); err != nil {
+	if err := record.WriteFileAtomic(dir, name, data, 0o644); err != nil {
 		return "", fmt.Errorf("sign-off: %w", err)
 	}
 	return filepath.Join(dir, name), nil

@@ -3,9 +3,9 @@ package agent
 import (
 	"fmt"
 	"os"
-	"time"
 
 	"benchtender/campaign"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -44,53 +44,53 @@ func (a *Agent) applySignoffs() error {
 
 // judgeSignoff returns the journal entry a request makes, or why it is
 // refused.
-func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
+func (a *Agent) judgeSignoff(it inboxItem) (record.Entry, string) {
 	req := it.req
 	if it.err != nil {
-		return Entry{}, it.err.Error()
+		return record.Entry{}, it.err.Error()
 	}
 	if a.state.Requests[req.ID] {
-		return Entry{}, "this request was used already (a replay)"
+		return record.Entry{}, "this request was used already (a replay)"
 	}
 	if age := a.opt.Now().Sub(req.Time); age > a.cfg.Safety.Approvals() {
-		return Entry{}, fmt.Sprintf("given %v ago, longer than approval_expiry %v", age.Round(1e9), a.cfg.Safety.Approvals())
+		return record.Entry{}, fmt.Sprintf("given %v ago, longer than approval_expiry %v", age.Round(1e9), a.cfg.Safety.Approvals())
 	}
-	e := Entry{Kind: KindSignoff, Run: req.Run, Action: req.Action, By: req.By, Name: req.Name, Reason: req.Reason, Request: req.ID, Limits: a.gate.Version()}
+	e := record.Entry{Kind: record.KindSignoff, Run: req.Run, Action: req.Action, By: req.By, Name: req.Name, Reason: req.Reason, Request: req.ID, Limits: a.gate.Version()}
 	if req.Action == ActionCorrect {
-		e.Kind, e.Corrects = KindCorrection, req.Corrects
+		e.Kind, e.Corrects = record.KindCorrection, req.Corrects
 		return e, ""
 	}
 	if req.Action == ActionResume {
 		if a.state.AllStop == "" {
-			return Entry{}, "no all-stop is in effect"
+			return record.Entry{}, "no all-stop is in effect"
 		}
 		if _, err := os.Stat(allStopPath(a.cfg)); err == nil {
-			return Entry{}, "the all-stop file is still there"
+			return record.Entry{}, "the all-stop file is still there"
 		}
-		e.Kind = KindResume
+		e.Kind = record.KindResume
 		return e, ""
 	}
 	r, ok := a.state.Runs[req.Run]
 	switch {
 	case !ok:
-		return Entry{}, "no such run"
-	case r.Status != StatusHeld:
-		return Entry{}, fmt.Sprintf("run %s is %s, not held", r.ID, r.Status)
+		return record.Entry{}, "no such run"
+	case r.Status != record.StatusHeld:
+		return record.Entry{}, fmt.Sprintf("run %s is %s, not held", r.ID, r.Status)
 	case req.Limits != a.gate.Version():
-		return Entry{}, fmt.Sprintf("the limits changed since it was given (version %s, now %s): sign the move again", req.Limits, a.gate.Version())
+		return record.Entry{}, fmt.Sprintf("the limits changed since it was given (version %s, now %s): sign the move again", req.Limits, a.gate.Version())
 	case req.State != a.state.Ingests:
-		return Entry{}, fmt.Sprintf("%d new result(s) arrived since it was given: look at the move again and sign again", a.state.Ingests-req.State)
+		return record.Entry{}, fmt.Sprintf("%d new result(s) arrived since it was given: look at the move again and sign again", a.state.Ingests-req.State)
 	}
-	if req.Action == ActionReject {
+	if req.Action == record.ActionReject {
 		return e, ""
 	}
 	point, err := editedPoint(a.cfg.Campaign.Factors, r.Point, req.Edit)
 	if err != nil {
-		return Entry{}, err.Error()
+		return record.Entry{}, err.Error()
 	}
 	if len(req.Edit) > 0 {
 		if v := a.planner.Violated(point); v != "" {
-			return Entry{}, fmt.Sprintf("the edited move breaks constraint %s", v)
+			return record.Entry{}, fmt.Sprintf("the edited move breaks constraint %s", v)
 		}
 		e.Point = point
 	}
@@ -98,14 +98,14 @@ func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
 	// what is approved, and nothing refused can be signed through.
 	d := a.gate.Check(campaign.Setpoint{RunID: r.ID, Point: point}, a.previous())
 	if d.Verdict == safety.Refuse {
-		return Entry{}, "the gate refuses the move: " + d.Summary()
+		return record.Entry{}, "the gate refuses the move: " + d.Summary()
 	}
 	e.Decision = &d
 	// A pending first approval is never dropped silently: a second
 	// approval signs the same values, or says it replaces the first.
 	first := r.First
 	if why := secondApproval(a.cfg.Campaign.Factors, first, req, point); why != "" {
-		return Entry{}, why
+		return record.Entry{}, why
 	}
 	if first != nil && !first.Point.Equal(point) {
 		e.Replaces = first.Describe(a.cfg.Campaign.Factors) + ", signing " + a.cfg.Campaign.Factors.Describe(first.Point)
@@ -119,7 +119,7 @@ func (a *Agent) judgeSignoff(it inboxItem) (Entry, string) {
 
 // secondApproval says why an approval cannot follow the pending first
 // approval (nil when there is none), or "".
-func secondApproval(space campaign.Space, first *Approval, req SignoffRequest, point campaign.Point) string {
+func secondApproval(space campaign.Space, first *record.Approval, req SignoffRequest, point campaign.Point) string {
 	if first == nil {
 		return ""
 	}
@@ -151,9 +151,4 @@ func editedPoint(space campaign.Space, held campaign.Point, edit map[string]floa
 		point[i] = v
 	}
 	return roundPoint(space, point), nil
-}
-
-// Describe says who gave the approval and when.
-func (f *Approval) Describe(space campaign.Space) string {
-	return fmt.Sprintf("%s (%s) at %s", f.By, f.Name, f.Time.UTC().Format(time.RFC3339))
 }

@@ -19,6 +19,7 @@ import (
 	"benchtender/campaign"
 	"benchtender/examples/sim"
 	"benchtender/planner"
+	"benchtender/record"
 )
 
 // rssKB reads this process's resident set size.
@@ -69,8 +70,8 @@ func TestSoak(t *testing.T) {
 	if os.Getenv("BENCHTENDER_SOAK_PLANNER") == "real" {
 		proposer = nil // the campaign's own planner: refits and all
 	}
-	a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 5 * time.Millisecond, Proposer: proposer, Notify: func(e Entry) {
-		if e.Kind == KindIngest {
+	a, err := New(tc.cfg, Options{Logger: zerolog.Nop(), Tick: 5 * time.Millisecond, Proposer: proposer, Notify: func(e record.Entry) {
+		if e.Kind == record.KindIngest {
 			if ingested.Add(1) == int64(runs) {
 				close(done)
 			}

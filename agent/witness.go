@@ -1,6 +1,7 @@
 package agent
 
 import (
+	"benchtender/record"
 	"errors"
 	"fmt"
 	"os"
@@ -33,13 +34,13 @@ func writeWitness(cfg Config, seq int64, hash string, at time.Time) error {
 		return nil
 	}
 	line := fmt.Sprintf("%d %s %s\n", seq, hash, at.UTC().Format(time.RFC3339Nano))
-	return writeFileAtomic(dir, filepath.Base(witnessPath(cfg)), []byte(line), 0o644)
+	return record.WriteFileAtomic(dir, filepath.Base(witnessPath(cfg)), []byte(line), 0o644)
 }
 
 // checkWitness compares the trail with its witness: the trail must hold
 // the witnessed entry with the witnessed hash. No witness file yet (a new
 // campaign, or a witness folder just configured) is not a mismatch.
-func checkWitness(cfg Config, trail []AuditEntry) error {
+func checkWitness(cfg Config, trail []record.AuditEntry) error {
 	path := witnessPath(cfg)
 	if path == "" {
 		return nil
@@ -53,17 +54,17 @@ func checkWitness(cfg Config, trail []AuditEntry) error {
 	}
 	f := strings.Fields(string(data))
 	if len(f) < 2 {
-		return fmt.Errorf("%w: the witness %s holds no head", ErrRecordMismatch, path)
+		return fmt.Errorf("%w: the witness %s holds no head", record.ErrRecordMismatch, path)
 	}
 	seq, err := strconv.Atoi(f[0])
 	if err != nil || seq < 0 {
-		return fmt.Errorf("%w: the witness %s holds no head", ErrRecordMismatch, path)
+		return fmt.Errorf("%w: the witness %s holds no head", record.ErrRecordMismatch, path)
 	}
 	switch {
 	case seq > len(trail):
-		return fmt.Errorf("%w: the witness %s saw the audit trail at entry %d; it now ends at %d: entries were cut", ErrRecordMismatch, path, seq, len(trail))
+		return fmt.Errorf("%w: the witness %s saw the audit trail at entry %d; it now ends at %d: entries were cut", record.ErrRecordMismatch, path, seq, len(trail))
 	case seq > 0 && trail[seq-1].Hash != f[1]:
-		return fmt.Errorf("%w: the witness %s saw another entry %d: the trail was replaced", ErrRecordMismatch, path, seq)
+		return fmt.Errorf("%w: the witness %s saw another entry %d: the trail was replaced", record.ErrRecordMismatch, path, seq)
 	}
 	return nil
 }

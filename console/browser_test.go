@@ -12,6 +12,7 @@ import (
 	"github.com/chromedp/chromedp"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // chromium returns the path of Debian's Chromium, or skips the test with
@@ -127,11 +128,11 @@ func TestBrowserSignsOffAHeldMove(t *testing.T) {
 		t.Fatalf("approve: %v", err)
 	}
 	shot(t, ctx, "page-holds-sent")
-	e := f.waitFor(t, "the approval", func(e agent.Entry) bool { return e.Kind == agent.KindSignoff })
+	e := f.waitFor(t, "the approval", func(e record.Entry) bool { return e.Kind == record.KindSignoff })
 	if e.By != "ada" || e.Name != "Ada L." || e.Reason != "vessel checked, lid clamped" {
 		t.Errorf("signed %+v", e)
 	}
-	f.waitFor(t, "the handoff", func(e agent.Entry) bool { return e.Kind == agent.KindHandoffOK && e.Run == f.held })
+	f.waitFor(t, "the handoff", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == f.held })
 	if _, err := os.Stat(filepath.Join(f.cfg.Instrument.HandoffDir, f.held+".csv")); err != nil {
 		t.Errorf("no handoff file after the approval: %v", err)
 	}
@@ -185,7 +186,7 @@ func TestBrowserAllStopAndResume(t *testing.T) {
 		t.Fatalf("all-stop: %v", err)
 	}
 	shot(t, ctx, "page-all-stop")
-	e := f.waitFor(t, "the all-stop", func(e agent.Entry) bool { return e.Kind == agent.KindAllStop })
+	e := f.waitFor(t, "the all-stop", func(e record.Entry) bool { return e.Kind == record.KindAllStop })
 	if !strings.Contains(e.Reason, "coolant leak under the bench") {
 		t.Errorf("all-stop recorded as %q", e.Reason)
 	}
@@ -201,7 +202,7 @@ func TestBrowserAllStopAndResume(t *testing.T) {
 	); err != nil {
 		t.Fatalf("resume: %v", err)
 	}
-	r := f.waitFor(t, "the resume", func(e agent.Entry) bool { return e.Kind == agent.KindResume })
+	r := f.waitFor(t, "the resume", func(e record.Entry) bool { return e.Kind == record.KindResume })
 	if r.By != "ada" || r.Name != "Ada L." || r.Reason != "leak fixed, floor dry" {
 		t.Errorf("resumed %+v", r)
 	}
@@ -257,7 +258,7 @@ func TestBrowserEditOnApproveAndFirstApproval(t *testing.T) {
 	); err != nil {
 		t.Fatalf("first approval: %v", err)
 	}
-	first := f.waitFor(t, "the first approval", func(e agent.Entry) bool { return e.Kind == agent.KindSignoff })
+	first := f.waitFor(t, "the first approval", func(e record.Entry) bool { return e.Kind == record.KindSignoff })
 	if !first.Partial || first.Point[1] != 2.5 {
 		t.Fatalf("first approval %+v", first)
 	}
@@ -290,7 +291,7 @@ func TestBrowserEditOnApproveAndFirstApproval(t *testing.T) {
 	); err != nil {
 		t.Fatalf("second approval: %v", err)
 	}
-	h := f.waitFor(t, "the handoff", func(e agent.Entry) bool { return e.Kind == agent.KindHandoffOK && e.Run == f.held })
+	h := f.waitFor(t, "the handoff", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == f.held })
 	if h.Point[1] != 2.5 {
 		t.Errorf("handed off %v, want the flow both signed", h.Point)
 	}

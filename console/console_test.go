@@ -9,6 +9,7 @@ import (
 	"testing"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // Every page renders for a running campaign with a held move, with the
@@ -66,11 +67,11 @@ func TestSignoffFromTheConsole(t *testing.T) {
 	if code != http.StatusSeeOther || !strings.HasPrefix(hdr.Get("Location"), "/holds?sent="+f.held) {
 		t.Fatalf("approve: %d to %q", code, hdr.Get("Location"))
 	}
-	e := f.waitFor(t, "the approval applied", func(e agent.Entry) bool { return e.Kind == agent.KindSignoff })
+	e := f.waitFor(t, "the approval applied", func(e record.Entry) bool { return e.Kind == record.KindSignoff })
 	if e.By != "ada" || e.Name != "Ada L." || e.Reason != "checked the vessel" || e.Run != f.held {
 		t.Errorf("sign-off entry %+v", e)
 	}
-	f.waitFor(t, "the handoff", func(e agent.Entry) bool { return e.Kind == agent.KindHandoffOK && e.Run == f.held })
+	f.waitFor(t, "the handoff", func(e record.Entry) bool { return e.Kind == record.KindHandoffOK && e.Run == f.held })
 	if _, err := os.Stat(filepath.Join(f.cfg.Instrument.HandoffDir, f.held+".csv")); err != nil {
 		t.Errorf("no handoff file: %v", err)
 	}
@@ -186,7 +187,7 @@ func TestTokens(t *testing.T) {
 	if code != http.StatusSeeOther {
 		t.Fatalf("reject: %d", code)
 	}
-	e := f.waitFor(t, "the rejection", func(e agent.Entry) bool { return e.Kind == agent.KindSignoff })
+	e := f.waitFor(t, "the rejection", func(e record.Entry) bool { return e.Kind == record.KindSignoff })
 	if e.By != "grace" || e.Name != "Grace H. Murray" {
 		t.Errorf("signed as %s (%s), want the token's person", e.By, e.Name)
 	}
@@ -197,9 +198,9 @@ func TestTokens(t *testing.T) {
 func TestMetrics(t *testing.T) {
 	f := newFixture(t, "", nil)
 	m := NewMetrics(f.cfg)
-	m.Entry(agent.Entry{Kind: agent.KindIngest})
-	m.Entry(agent.Entry{Kind: agent.KindIngest, Revision: 2})
-	m.Entry(agent.Entry{Kind: agent.KindSignoff, Action: agent.ActionApprove})
+	m.Entry(record.Entry{Kind: record.KindIngest})
+	m.Entry(record.Entry{Kind: record.KindIngest, Revision: 2})
+	m.Entry(record.Entry{Kind: record.KindSignoff, Action: record.ActionApprove})
 	m.Planned(250e6)
 	srv, err := New(f.cfg, Options{Metrics: m})
 	if err != nil {

@@ -18,6 +18,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // campaignText is a two-factor campaign whose every move is held for
@@ -91,7 +92,7 @@ file = ""
 type fixture struct {
 	dir, cfgPath string
 	cfg          agent.Config
-	events       chan agent.Entry
+	events       chan record.Entry
 	srv          *Server
 	web          *httptest.Server
 	held         string // the held run
@@ -116,7 +117,7 @@ func newFixture(t *testing.T, console string, files map[string]string) *fixture 
 			t.Fatal(err)
 		}
 	}
-	f := &fixture{dir: dir, cfgPath: filepath.Join(dir, "c.toml"), events: make(chan agent.Entry, 256)}
+	f := &fixture{dir: dir, cfgPath: filepath.Join(dir, "c.toml"), events: make(chan record.Entry, 256)}
 	if err := os.WriteFile(f.cfgPath, []byte(campaignText+console), 0o644); err != nil {
 		t.Fatal(err)
 	}
@@ -126,7 +127,7 @@ func newFixture(t *testing.T, console string, files map[string]string) *fixture 
 	}
 	f.cfg = cfg
 	a, err := agent.New(cfg, agent.Options{Logger: zerolog.New(zerolog.NewTestWriter(t)), ConfigPath: f.cfgPath, Tick: 50 * time.Millisecond,
-		Notify: func(e agent.Entry) { f.events <- e }})
+		Notify: func(e record.Entry) { f.events <- e }})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -142,7 +143,7 @@ func newFixture(t *testing.T, console string, files map[string]string) *fixture 
 			}
 		})
 	})
-	e := f.waitFor(t, "a held proposal", func(e agent.Entry) bool { return e.Kind == agent.KindProposal })
+	e := f.waitFor(t, "a held proposal", func(e record.Entry) bool { return e.Kind == record.KindProposal })
 	if e.Decision == nil || e.Decision.Verdict != "hold" {
 		t.Fatalf("first proposal %+v is not held", e.Decision)
 	}
@@ -157,7 +158,7 @@ func newFixture(t *testing.T, console string, files map[string]string) *fixture 
 	return f
 }
 
-func (f *fixture) waitFor(t *testing.T, what string, ok func(agent.Entry) bool) agent.Entry {
+func (f *fixture) waitFor(t *testing.T, what string, ok func(record.Entry) bool) record.Entry {
 	t.Helper()
 	deadline := time.After(20 * time.Second)
 	for {

@@ -9,6 +9,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus/promhttp"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // Metrics are the campaign's figures for lab IT in the Prometheus text
@@ -58,14 +59,14 @@ func NewMetrics(cfg agent.Config) *Metrics {
 // proposal counts as a hold too when held, an ingest of a later result
 // for a run as a revision too; a sign-off counts by its action, as an
 // approval or a rejection.
-func (m *Metrics) Entry(e agent.Entry) {
+func (m *Metrics) Entry(e record.Entry) {
 	kind := e.Kind
 	switch {
-	case e.Kind == agent.KindProposal && e.Decision != nil && e.Decision.Verdict == "hold":
+	case e.Kind == record.KindProposal && e.Decision != nil && e.Decision.Verdict == "hold":
 		m.entries.WithLabelValues("hold").Inc()
-	case e.Kind == agent.KindSignoff:
+	case e.Kind == record.KindSignoff:
 		kind = "signoff-" + e.Action
-	case e.Kind == agent.KindIngest && e.Revision > 0:
+	case e.Kind == record.KindIngest && e.Revision > 0:
 		m.entries.WithLabelValues("revision").Inc()
 	}
 	m.entries.WithLabelValues(kind).Inc()
@@ -110,12 +111,12 @@ func (c *stateCollector) Describe(ch chan<- *prometheus.Desc) {
 }
 
 func (c *stateCollector) Collect(ch chan<- prometheus.Metric) {
-	es, err := agent.ReadJournal(c.journal)
+	es, err := record.ReadJournal(c.journal)
 	if err != nil {
 		ch <- prometheus.NewInvalidMetric(c.held, err)
 		return
 	}
-	st := agent.Replay(es)
+	st := record.Replay(es)
 	stop := 0.0
 	if st.AllStop != "" {
 		stop = 1

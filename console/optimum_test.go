@@ -7,6 +7,7 @@ import (
 	"benchtender/agent"
 	"benchtender/campaign"
 	"benchtender/planner"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -56,8 +57,8 @@ func TestLocateReportsTwoModes(t *testing.T) {
 // file gave, with units, besides the response.
 func TestRunRowCarriesEveryValue(t *testing.T) {
 	resp := campaign.Response{Name: "yield", Unit: "%"}
-	r := &agent.Run{ID: "R0001", Status: agent.StatusDone, Value: 62, Point: campaign.Point{41.5},
-		Values: map[string]agent.Reading{"yield": {Value: 62, Unit: "%"}, "purity": {Value: 97.9, Unit: "%"}, "viscosity": {Value: 0.0012, Unit: "Pa·s"}}}
+	r := &record.Run{ID: "R0001", Status: record.StatusDone, Value: 62, Point: campaign.Point{41.5},
+		Values: map[string]record.Reading{"yield": {Value: 62, Unit: "%"}, "purity": {Value: 97.9, Unit: "%"}, "viscosity": {Value: 0.0012, Unit: "Pa·s"}}}
 	row := runRow(campaign.Space{{Name: "temp", Min: 20, Max: 80}}, resp, r)
 	if got := strings.Join(row.Others, "; "); got != "purity 97.9 %; viscosity 0.0012 Pa·s" {
 		t.Errorf("other values %q", got)

@@ -34,6 +34,7 @@ import (
 	"github.com/rs/zerolog"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 //go:embed templates/*.html static/*
@@ -342,9 +343,9 @@ func (s *Server) render(w http.ResponseWriter, r *http.Request, name string, sta
 
 func orWord(a string) string {
 	switch a {
-	case agent.ActionApprove:
+	case record.ActionApprove:
 		return "approval"
-	case agent.ActionReject:
+	case record.ActionReject:
 		return "rejection"
 	}
 	return "sign-off"
@@ -389,7 +390,7 @@ func (s *Server) signoff(w http.ResponseWriter, r *http.Request) {
 		s.log.Warn().Str("run", run).Str("action", action).Str("why", why).Msg("console sign-off refused")
 		s.render(w, r, "holds", http.StatusUnprocessableEntity, why, form)
 	}
-	if action != agent.ActionApprove && action != agent.ActionReject {
+	if action != record.ActionApprove && action != record.ActionReject {
 		refuse("choose approve or reject")
 		return
 	}
@@ -405,7 +406,7 @@ func (s *Server) signoff(w http.ResponseWriter, r *http.Request) {
 		// form says.
 		req.By, req.Name = u.ID, u.Name
 	}
-	if action == agent.ActionApprove {
+	if action == record.ActionApprove {
 		// The form sends every factor's value; the ones that differ
 		// from the held move are the edit.
 		req.Edit = map[string]float64{}

@@ -17,6 +17,7 @@ import (
 	"benchtender/campaign"
 	"benchtender/planner"
 	"benchtender/plots"
+	"benchtender/record"
 )
 
 // View is everything the console's pages and the report show, read from
@@ -58,7 +59,7 @@ type View struct {
 	Figures     []plots.Figure
 	// PairX, PairY index the factors of the 2-D optimum plot (-1: none).
 	PairX, PairY int
-	Audit        []agent.AuditEntry // newest first
+	Audit        []record.AuditEntry // newest first
 	AuditTotal   int
 	// The record, for a report that stands in a lab notebook: the build
 	// that made it, the time span of the journal, every signature (from
@@ -66,8 +67,8 @@ type View struct {
 	// config edit, every all-stop and resume.
 	Software     string
 	From, To     time.Time
-	Signatures   []agent.AuditEntry
-	LimitChanges []agent.AuditEntry
+	Signatures   []record.AuditEntry
+	LimitChanges []record.AuditEntry
 	Stops        []StopRow
 	ConfigFile   string
 	ConfigSHA256 string
@@ -217,11 +218,11 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		opt.Now = time.Now
 	}
 	sd := cfg.Campaign.StateDir
-	entries, err := agent.ReadJournal(filepath.Join(sd, "journal.log"))
+	entries, err := record.ReadJournal(filepath.Join(sd, "journal.log"))
 	if err != nil && !os.IsNotExist(err) {
 		return nil, fmt.Errorf("console: %w", err)
 	}
-	st := agent.Replay(entries)
+	st := record.Replay(entries)
 	space := cfg.Campaign.Factors
 	v := &View{
 		Campaign: cfg.Campaign.Name, Generated: opt.Now().UTC(), Factors: space, Response: cfg.Campaign.Response,
@@ -234,7 +235,7 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		counts[r.Status]++
 		v.Runs = append(v.Runs, runRow(space, cfg.Campaign.Response, r))
 	}
-	for _, s := range []string{agent.StatusDone, agent.StatusFailed, agent.StatusHanded, agent.StatusReady, agent.StatusHeld, agent.StatusRejected, agent.StatusRefused, agent.StatusExpired} {
+	for _, s := range []string{record.StatusDone, record.StatusFailed, record.StatusHanded, record.StatusReady, record.StatusHeld, record.StatusRejected, record.StatusRefused, record.StatusExpired} {
 		if counts[s] > 0 {
 			v.Counts = append(v.Counts, Count{s, counts[s]})
 		}
@@ -270,9 +271,9 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 	}
 	for _, e := range entries {
 		switch e.Kind {
-		case agent.KindAllStop:
+		case record.KindAllStop:
 			v.Stops = append(v.Stops, StopRow{Time: e.Time, What: "all-stop", Who: e.By, Reason: e.Reason})
-		case agent.KindResume:
+		case record.KindResume:
 			v.Stops = append(v.Stops, StopRow{Time: e.Time, What: "resumed", Who: e.By + " (" + e.Name + ")", Reason: e.Reason})
 		}
 	}
@@ -290,7 +291,7 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 		v.Queued = append(v.Queued, r.ID)
 	}
 	for _, e := range entries {
-		if e.Kind == agent.KindQuarantine {
+		if e.Kind == record.KindQuarantine {
 			v.Quarantined = append(v.Quarantined, Quarantined{Time: e.Time, File: e.File, Reason: e.Reason, Copy: e.Copy})
 		}
 	}
@@ -311,7 +312,7 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 	} else {
 		v.RecordCheck = "the keyed chain verifies and the journal agrees with it"
 	}
-	if trail, err := agent.ReadAudit(filepath.Join(sd, "audit.log")); err == nil {
+	if trail, err := record.ReadAudit(filepath.Join(sd, "audit.log")); err == nil {
 		v.AuditTotal = len(trail)
 		if n := len(trail); n > 0 {
 			v.AuditHead = fmt.Sprintf("entry %d, hash %s", trail[n-1].Seq, trail[n-1].Hash)
@@ -350,15 +351,15 @@ func values(space campaign.Space, p campaign.Point) []Value {
 	return out
 }
 
-func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
+func runRow(space campaign.Space, resp campaign.Response, r *record.Run) RunRow {
 	row := RunRow{ID: r.ID, Status: r.Status, Method: r.Method, Proposed: r.Proposed, SignedBy: r.SignedBy, Approvers: r.Approvers}
 	if r.Point != nil {
 		row.Setpoint = values(space, r.Point)
 	}
 	switch r.Status {
-	case agent.StatusDone:
+	case record.StatusDone:
 		row.Result = strings.TrimSpace(fmt.Sprintf("%.4g %s", r.Value, resp.Unit))
-	case agent.StatusFailed:
+	case record.StatusFailed:
 		row.Result = "no value: " + r.Failed
 	}
 	for _, f := range r.Files {
@@ -373,7 +374,7 @@ func runRow(space campaign.Space, resp campaign.Response, r *agent.Run) RunRow {
 	return row
 }
 
-func stopping(cfg agent.Config, st *agent.State) (string, string) {
+func stopping(cfg agent.Config, st *record.State) (string, string) {
 	s := cfg.Planner.Stop
 	var rule []string
 	rule = append(rule, fmt.Sprintf("budget of %d runs", cfg.Campaign.MaxRuns))
@@ -394,7 +395,7 @@ func stopping(cfg agent.Config, st *agent.State) (string, string) {
 	}
 	used := 0
 	for _, r := range st.Runs {
-		if r.Status != agent.StatusRejected && r.Status != agent.StatusRefused && r.Status != agent.StatusExpired && !r.External {
+		if r.Status != record.StatusRejected && r.Status != record.StatusRefused && r.Status != record.StatusExpired && !r.External {
 			used++
 		}
 	}
@@ -408,7 +409,7 @@ func stopping(cfg agent.Config, st *agent.State) (string, string) {
 	return state, strings.Join(rule, "; ")
 }
 
-func instrument(ic agent.InstrumentConfig, only bool, notices []string, st *agent.State, entries []agent.Entry) Instrument {
+func instrument(ic agent.InstrumentConfig, only bool, notices []string, st *record.State, entries []record.Entry) Instrument {
 	in := Instrument{Name: ic.Name, ExportDir: ic.Watch.Dir, Pattern: ic.Watch.Pattern, HandoffDir: ic.HandoffDir}
 	if _, err := os.ReadDir(ic.Watch.Dir); err != nil {
 		in.ExportProblem = err.Error()
@@ -424,9 +425,9 @@ func instrument(ic agent.InstrumentConfig, only bool, notices []string, st *agen
 	}
 	for _, e := range entries {
 		switch {
-		case e.Kind == agent.KindIngest && mine(e.File):
+		case e.Kind == record.KindIngest && mine(e.File):
 			in.LastResult, in.LastFile = e.Time, filepath.Base(e.File)
-		case e.Kind == agent.KindHandoffOK && (only || filepath.Dir(e.File) == filepath.Clean(ic.HandoffDir)):
+		case e.Kind == record.KindHandoffOK && (only || filepath.Dir(e.File) == filepath.Clean(ic.HandoffDir)):
 			in.LastHandoff = e.Time
 		}
 	}
@@ -447,7 +448,7 @@ func instrument(ic agent.InstrumentConfig, only bool, notices []string, st *agen
 
 // model fits the surrogate, finds where the optimum probably is and
 // draws the figures.
-func (v *View) model(ctx context.Context, cfg agent.Config, st *agent.State, opt BuildOptions) error {
+func (v *View) model(ctx context.Context, cfg agent.Config, st *record.State, opt BuildOptions) error {
 	trials := st.Trials()
 	runs := st.TrialRuns()
 	resp := cfg.Campaign.Response

@@ -25,6 +25,7 @@ import (
 
 	"benchtender/agent"
 	"benchtender/campaign"
+	"benchtender/record"
 )
 
 // Document is the campaign's runs as data.
@@ -89,9 +90,9 @@ type Signoff struct {
 }
 
 // Build reads the runs out of the journal's entries.
-func Build(cfg agent.Config, entries []agent.Entry, now time.Time, software string) Document {
+func Build(cfg agent.Config, entries []record.Entry, now time.Time, software string) Document {
 	space := cfg.Campaign.Factors
-	st := agent.Replay(entries)
+	st := record.Replay(entries)
 	doc := Document{Campaign: cfg.Campaign.Name, Exported: now.UTC(), Software: software}
 	for _, f := range space {
 		doc.Factors = append(doc.Factors, Column{f.Name, f.Unit})
@@ -108,9 +109,9 @@ func Build(cfg agent.Config, entries []agent.Entry, now time.Time, software stri
 		}
 		row.Setpoint = setpoint(space, r.Point)
 		switch r.Status {
-		case agent.StatusFailed:
+		case record.StatusFailed:
 			row.Reason = r.Failed
-		case agent.StatusHeld, agent.StatusRefused:
+		case record.StatusHeld, record.StatusRefused:
 			row.Reason = r.Decision.Summary()
 		}
 		runs = append(runs, row)
@@ -122,7 +123,7 @@ func Build(cfg agent.Config, entries []agent.Entry, now time.Time, software stri
 			continue
 		}
 		switch e.Kind {
-		case agent.KindIngest:
+		case record.KindIngest:
 			row.Files = append(row.Files, File{Path: e.File, SHA256: e.SHA256, Revision: len(row.Files) + 1, Ingested: e.Time.UTC()})
 			row.Values = map[string]float64{}
 			if e.Failed == "" {
@@ -135,19 +136,19 @@ func Build(cfg agent.Config, entries []agent.Entry, now time.Time, software stri
 					units[name] = v.Unit
 				}
 			}
-		case agent.KindHandoffOK:
+		case record.KindHandoffOK:
 			t := e.Time.UTC()
 			row.HandedOff, row.Handoff = &t, e.File
-		case agent.KindSignoff:
+		case record.KindSignoff:
 			s := Signoff{By: e.By, Name: e.Name, Reason: e.Reason, Time: e.Time.UTC(), Meaning: e.SignoffMeaning()}
 			if len(e.Point) > 0 {
 				s.Values = setpoint(space, e.Point)
 			}
 			row.Signoffs = append(row.Signoffs, s)
-			if e.Action == agent.ActionReject {
+			if e.Action == record.ActionReject {
 				row.Reason = "rejected by " + e.By + ": " + e.Reason
 			}
-		case agent.KindExpire:
+		case record.KindExpire:
 			row.Reason = e.Reason
 		}
 	}

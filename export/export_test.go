@@ -14,6 +14,7 @@ import (
 
 	"benchtender/agent"
 	"benchtender/campaign"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -21,7 +22,7 @@ import (
 // its second result file, a failed run, a run approved by two people with
 // edited values, a rejected one. The texts carry what breaks naive CSV:
 // commas, quotes, a line break, a leading '=', non-ASCII units.
-func journal(t *testing.T) (agent.Config, []agent.Entry) {
+func journal(t *testing.T) (agent.Config, []record.Entry) {
 	t.Helper()
 	cfg := agent.DefaultConfig()
 	cfg.Campaign.Name = "export_test"
@@ -34,25 +35,25 @@ func journal(t *testing.T) (agent.Config, []agent.Entry) {
 	at := func(m int) time.Time { return t0.Add(time.Duration(m) * time.Minute) }
 	pass := &safety.Decision{Verdict: safety.Pass}
 	held := &safety.Decision{Verdict: safety.Hold, Reasons: []safety.Reason{{Message: "temp 78 °C is above review_max 70 °C"}}}
-	return cfg, []agent.Entry{
-		{Seq: 1, Time: at(0), Kind: agent.KindProposal, Run: "R0001", Point: campaign.Point{41.5, 1}, Method: "initial design", Decision: pass},
-		{Seq: 2, Time: at(1), Kind: agent.KindHandoff, Run: "R0001", File: "handoff/R0001.csv", Point: campaign.Point{41.5, 1}},
-		{Seq: 2, Time: at(1), Kind: agent.KindHandoffOK, Run: "R0001", File: "handoff/R0001.csv"},
-		{Seq: 3, Time: at(30), Kind: agent.KindIngest, Run: "R0001", File: `exports/R0001, "first".csv`, SHA256: "aa11", Value: 61.2,
-			Values: map[string]agent.Reading{"yield": {Value: 61.2, Unit: "%"}, "purity": {Value: 97.5, Unit: "%"}, "viscosity": {Value: 1.2e-3, Unit: "Pa·s"}}},
-		{Seq: 4, Time: at(40), Kind: agent.KindIngest, Run: "R0001", File: "exports/R0001_rerun.csv", SHA256: "bb22", Value: 62.0, Revision: 2,
-			Values: map[string]agent.Reading{"yield": {Value: 62.0, Unit: "%"}, "purity": {Value: 97.9, Unit: "%"}}},
-		{Seq: 5, Time: at(41), Kind: agent.KindProposal, Run: "R0002", Point: campaign.Point{30, 0}, Method: "expected improvement", Decision: pass},
-		{Seq: 6, Time: at(42), Kind: agent.KindHandoff, Run: "R0002", File: "handoff/R0002.csv", Point: campaign.Point{30, 0}},
-		{Seq: 6, Time: at(42), Kind: agent.KindHandoffOK, Run: "R0002", File: "handoff/R0002.csv"},
-		{Seq: 7, Time: at(70), Kind: agent.KindIngest, Run: "R0002", File: "exports/R0002.csv", SHA256: "cc33", Failed: "=SUM(A1) flagged\nby the instrument"},
-		{Seq: 8, Time: at(71), Kind: agent.KindProposal, Run: "R0003", Point: campaign.Point{78, 1}, Method: "expected improvement", Decision: held},
-		{Seq: 9, Time: at(80), Kind: agent.KindSignoff, Run: "R0003", Action: agent.ActionApprove, Partial: true, By: "ada", Name: "Ada Tech", Reason: "cooler, please", Point: campaign.Point{72, 1}},
-		{Seq: 10, Time: at(85), Kind: agent.KindSignoff, Run: "R0003", Action: agent.ActionApprove, By: "bo", Name: "Bo Kim", Reason: "agree", Point: campaign.Point{72, 1}},
-		{Seq: 11, Time: at(86), Kind: agent.KindHandoff, Run: "R0003", File: "handoff/R0003.csv", Point: campaign.Point{72, 1}},
-		{Seq: 11, Time: at(86), Kind: agent.KindHandoffOK, Run: "R0003", File: "handoff/R0003.csv"},
-		{Seq: 12, Time: at(87), Kind: agent.KindProposal, Run: "R0004", Point: campaign.Point{79, 0}, Method: "expected improvement", Decision: held},
-		{Seq: 13, Time: at(90), Kind: agent.KindSignoff, Run: "R0004", Action: agent.ActionReject, By: "ada", Name: "Ada Tech", Reason: `too hot, "no"`},
+	return cfg, []record.Entry{
+		{Seq: 1, Time: at(0), Kind: record.KindProposal, Run: "R0001", Point: campaign.Point{41.5, 1}, Method: "initial design", Decision: pass},
+		{Seq: 2, Time: at(1), Kind: record.KindHandoff, Run: "R0001", File: "handoff/R0001.csv", Point: campaign.Point{41.5, 1}},
+		{Seq: 2, Time: at(1), Kind: record.KindHandoffOK, Run: "R0001", File: "handoff/R0001.csv"},
+		{Seq: 3, Time: at(30), Kind: record.KindIngest, Run: "R0001", File: `exports/R0001, "first".csv`, SHA256: "aa11", Value: 61.2,
+			Values: map[string]record.Reading{"yield": {Value: 61.2, Unit: "%"}, "purity": {Value: 97.5, Unit: "%"}, "viscosity": {Value: 1.2e-3, Unit: "Pa·s"}}},
+		{Seq: 4, Time: at(40), Kind: record.KindIngest, Run: "R0001", File: "exports/R0001_rerun.csv", SHA256: "bb22", Value: 62.0, Revision: 2,
+			Values: map[string]record.Reading{"yield": {Value: 62.0, Unit: "%"}, "purity": {Value: 97.9, Unit: "%"}}},
+		{Seq: 5, Time: at(41), Kind: record.KindProposal, Run: "R0002", Point: campaign.Point{30, 0}, Method: "expected improvement", Decision: pass},
+		{Seq: 6, Time: at(42), Kind: record.KindHandoff, Run: "R0002", File: "handoff/R0002.csv", Point: campaign.Point{30, 0}},
+		{Seq: 6, Time: at(42), Kind: record.KindHandoffOK, Run: "R0002", File: "handoff/R0002.csv"},
+		{Seq: 7, Time: at(70), Kind: record.KindIngest, Run: "R0002", File: "exports/R0002.csv", SHA256: "cc33", Failed: "=SUM(A1) flagged\nby the instrument"},
+		{Seq: 8, Time: at(71), Kind: record.KindProposal, Run: "R0003", Point: campaign.Point{78, 1}, Method: "expected improvement", Decision: held},
+		{Seq: 9, Time: at(80), Kind: record.KindSignoff, Run: "R0003", Action: record.ActionApprove, Partial: true, By: "ada", Name: "Ada Tech", Reason: "cooler, please", Point: campaign.Point{72, 1}},
+		{Seq: 10, Time: at(85), Kind: record.KindSignoff, Run: "R0003", Action: record.ActionApprove, By: "bo", Name: "Bo Kim", Reason: "agree", Point: campaign.Point{72, 1}},
+		{Seq: 11, Time: at(86), Kind: record.KindHandoff, Run: "R0003", File: "handoff/R0003.csv", Point: campaign.Point{72, 1}},
+		{Seq: 11, Time: at(86), Kind: record.KindHandoffOK, Run: "R0003", File: "handoff/R0003.csv"},
+		{Seq: 12, Time: at(87), Kind: record.KindProposal, Run: "R0004", Point: campaign.Point{79, 0}, Method: "expected improvement", Decision: held},
+		{Seq: 13, Time: at(90), Kind: record.KindSignoff, Run: "R0004", Action: record.ActionReject, By: "ada", Name: "Ada Tech", Reason: `too hot, "no"`},
 	}
 }
 

@@ -15,6 +15,7 @@ import (
 	"benchtender/campaign"
 	"benchtender/examples"
 	"benchtender/examples/sim"
+	"benchtender/record"
 	"benchtender/safety"
 )
 
@@ -67,8 +68,8 @@ func cmdDemo(ctx context.Context, args []string, stdout io.Writer) error {
 
 	ctx, cancel := context.WithTimeout(ctx, 5*time.Minute)
 	defer cancel()
-	events := make(chan agent.Entry, 4096)
-	a, err := agent.New(cfg, agent.Options{Logger: log, Tick: 100 * time.Millisecond, Notify: func(e agent.Entry) {
+	events := make(chan record.Entry, 4096)
+	a, err := agent.New(cfg, agent.Options{Logger: log, Tick: 100 * time.Millisecond, Notify: func(e record.Entry) {
 		select {
 		case events <- e:
 		default: // the demo's printing must never stall the agent
@@ -97,14 +98,14 @@ loop:
 	for {
 		select {
 		case e := <-events:
-			if e.Kind == agent.KindProposal && e.Decision != nil && e.Decision.Verdict == safety.Hold {
+			if e.Kind == record.KindProposal && e.Decision != nil && e.Decision.Verdict == safety.Hold {
 				p.held(e)
 				go signOff(ctx, cfg, e.Run, stdout)
 			}
-			if e.Kind == agent.KindSignoff {
+			if e.Kind == record.KindSignoff {
 				fmt.Fprintf(stdout, "         %s %s by %s\n", e.Run, e.Action+"d", e.Name)
 			}
-			if e.Kind == agent.KindIngest || e.Kind == agent.KindQuarantine {
+			if e.Kind == record.KindIngest || e.Kind == record.KindQuarantine {
 				p.result(e)
 				if p.done >= *runs {
 					break loop
@@ -141,7 +142,7 @@ func signOff(ctx context.Context, cfg agent.Config, run string, stdout io.Writer
 		return
 	case <-time.After(300 * time.Millisecond):
 	}
-	_, err := agent.RequestSignoff(cfg, agent.SignoffRequest{Run: run, Action: agent.ActionApprove, By: "demo", Name: demoSigner,
+	_, err := agent.RequestSignoff(cfg, agent.SignoffRequest{Run: run, Action: record.ActionApprove, By: "demo", Name: demoSigner,
 		Reason: "demo: approved automatically to show the sign-off path"})
 	if err != nil {
 		fmt.Fprintf(stdout, "         sign-off of %s failed: %v\n", run, err)
@@ -156,10 +157,10 @@ type demoPrinter struct {
 	best     float64
 	bestRun  string
 	bestAt   campaign.Point
-	proposed map[string]agent.Entry
+	proposed map[string]record.Entry
 }
 
-func (p *demoPrinter) held(e agent.Entry) {
+func (p *demoPrinter) held(e record.Entry) {
 	var why []string
 	for _, r := range e.Decision.Reasons {
 		why = append(why, r.Message)
@@ -167,9 +168,9 @@ func (p *demoPrinter) held(e agent.Entry) {
 	fmt.Fprintf(p.out, "         %s held for sign-off: %s\n", e.Run, strings.Join(why, "; "))
 }
 
-func (p *demoPrinter) result(e agent.Entry) {
+func (p *demoPrinter) result(e record.Entry) {
 	p.done++
-	if e.Kind == agent.KindQuarantine {
+	if e.Kind == record.KindQuarantine {
 		fmt.Fprintf(p.out, "run %2d/%d  quarantined %s: %s\n", p.done, p.total, filepath.Base(e.File), e.Reason)
 		return
 	}

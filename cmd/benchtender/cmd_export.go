@@ -8,8 +8,8 @@ import (
 	"strings"
 	"time"
 
-	"benchtender/agent"
 	"benchtender/export"
+	"benchtender/record"
 )
 
 // cmdExport writes the campaign's runs as data: RFC 4180 CSV, or JSON.
@@ -30,7 +30,7 @@ func cmdExport(args []string, stdout io.Writer) error {
 	if err != nil {
 		return err
 	}
-	entries, err := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+	entries, err := record.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
 	if err != nil {
 		return fmt.Errorf("export: %w", err)
 	}

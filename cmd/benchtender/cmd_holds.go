@@ -10,6 +10,7 @@ import (
 
 	"benchtender/agent"
 	"benchtender/campaign"
+	"benchtender/record"
 )
 
 // cmdHolds lists the moves waiting for sign-off.
@@ -104,9 +105,9 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 	req := agent.SignoffRequest{By: *by, Name: *name, Reason: *reason}
 	switch action {
 	case "approve":
-		req.Action, req.Run = agent.ActionApprove, pos[0]
+		req.Action, req.Run = record.ActionApprove, pos[0]
 	case "reject":
-		req.Action, req.Run = agent.ActionReject, pos[0]
+		req.Action, req.Run = record.ActionReject, pos[0]
 	default:
 		req.Action = agent.ActionResume
 	}
@@ -174,7 +175,7 @@ func orDefault(a, b string) string {
 // campaignFromArgs handles the arguments of a command that only looks at a
 // campaign ([CONFIG] or --config CONFIG): it loads the configuration and
 // replays the journal.
-func campaignFromArgs(name string, args []string) (agent.Config, string, *agent.State, error) {
+func campaignFromArgs(name string, args []string) (agent.Config, string, *record.State, error) {
 	fs := flag.NewFlagSet(name, flag.ContinueOnError)
 	config := fs.String("config", "", "configuration file")
 	pos, err := parseFlags(fs, args)
@@ -193,12 +194,12 @@ func campaignFromArgs(name string, args []string) (agent.Config, string, *agent.
 	return cfg, path, st, err
 }
 
-func readState(cfg agent.Config) (*agent.State, error) {
-	entries, err := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+func readState(cfg agent.Config) (*record.State, error) {
+	entries, err := record.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
 	if err != nil {
 		return nil, err
 	}
-	return agent.Replay(entries), nil
+	return record.Replay(entries), nil
 }
 
 // parseEdit reads "factor=value,factor=value"; a categorical factor's

@@ -13,6 +13,7 @@ import (
 	"benchtender/agent"
 	"benchtender/console"
 	"benchtender/planner"
+	"benchtender/record"
 )
 
 // cmdStatus summarises the campaign from its journal.
@@ -26,7 +27,7 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 		counts[r.Status]++
 	}
 	fmt.Fprintf(stdout, "campaign %s: %d proposals, %d handoffs, budget %d runs\n", cfg.Campaign.Name, st.Proposals, st.Handoffs, cfg.Campaign.MaxRuns)
-	for _, s := range []string{agent.StatusDone, agent.StatusFailed, agent.StatusHanded, agent.StatusReady, agent.StatusHeld, agent.StatusRejected, agent.StatusRefused} {
+	for _, s := range []string{record.StatusDone, record.StatusFailed, record.StatusHanded, record.StatusReady, record.StatusHeld, record.StatusRejected, record.StatusRefused} {
 		if counts[s] > 0 {
 			fmt.Fprintf(stdout, "  %-10s %d\n", s, counts[s])
 		}
@@ -55,7 +56,7 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	}
 	if st.Stopped != "" {
 		fmt.Fprintf(stdout, "proposals stopped: %s\n", st.Stopped)
-	} else if st.Proposals-countStatus(st, agent.StatusRejected, agent.StatusRefused) >= cfg.Campaign.MaxRuns {
+	} else if st.Proposals-countStatus(st, record.StatusRejected, record.StatusRefused) >= cfg.Campaign.MaxRuns {
 		fmt.Fprintf(stdout, "proposals stopped: the budget of %d runs is spent\n", cfg.Campaign.MaxRuns)
 	} else if st.Stopping != "" {
 		fmt.Fprintf(stdout, "stopping rule at the latest proposal: %s\n", st.Stopping)
@@ -71,7 +72,7 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 // printModel fits the surrogate to the completed runs and says how well
 // it fits: hyperparameters in the factors' units and the leave-one-out
 // check (Rasmussen and Williams 2006, section 5.4.2).
-func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *agent.State) {
+func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *record.State) {
 	runs := st.TrialRuns()
 	pl := planner.New(cfg.Campaign, cfg.Planner)
 	d, fitted, err := pl.Diagnose(ctx, st.Trials())
@@ -119,7 +120,7 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *age
 	}
 }
 
-func countStatus(st *agent.State, sts ...string) int {
+func countStatus(st *record.State, sts ...string) int {
 	n := 0
 	for _, r := range st.Runs {
 		for _, s := range sts {
@@ -131,7 +132,7 @@ func countStatus(st *agent.State, sts ...string) int {
 	return n
 }
 
-func ids(runs []*agent.Run) []string {
+func ids(runs []*record.Run) []string {
 	out := make([]string, len(runs))
 	for i, r := range runs {
 		out[i] = r.ID

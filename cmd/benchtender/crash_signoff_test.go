@@ -13,6 +13,7 @@ import (
 	"time"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // The crash test with sign-offs (issue 19): most moves of the demo's
@@ -54,8 +55,8 @@ func TestCrashDuringSignoffs(t *testing.T) {
 	// between is simply given again on a later round.
 	requests := 0
 	approveHeld := func() {
-		es, _ := agent.ReadJournal(journal)
-		for _, r := range agent.Replay(es).Held() {
+		es, _ := record.ReadJournal(journal)
+		for _, r := range record.Replay(es).Held() {
 			out, code := runBin(t, bin, "approve", r.ID, "--by", "tech", "--name", "Tess Tech", "--reason", "crash test", "--config", cfgPath)
 			if code == 0 {
 				requests++
@@ -84,8 +85,8 @@ func TestCrashDuringSignoffs(t *testing.T) {
 	deadline := time.Now().Add(120 * time.Second)
 	for time.Now().Before(deadline) {
 		approveHeld()
-		es, _ := agent.ReadJournal(journal)
-		st := agent.Replay(es)
+		es, _ := record.ReadJournal(journal)
+		st := record.Replay(es)
 		if len(st.Trials())+len(st.FailedPoints()) >= runs && len(st.InFlight()) == 0 && len(st.Held()) == 0 {
 			break
 		}
@@ -96,15 +97,15 @@ func TestCrashDuringSignoffs(t *testing.T) {
 	cancel()
 	<-simDone
 
-	es, err := agent.ReadJournal(journal)
+	es, err := record.ReadJournal(journal)
 	if err != nil {
 		t.Fatal(err)
 	}
-	st := agent.Replay(es)
+	st := record.Replay(es)
 	applied := map[string]int{}
 	approvals := 0
 	for _, e := range es {
-		if e.Kind == agent.KindSignoff {
+		if e.Kind == record.KindSignoff {
 			applied[e.Request]++
 			approvals++
 		}

@@ -17,6 +17,7 @@ import (
 	"benchtender/agent"
 	"benchtender/examples"
 	"benchtender/examples/sim"
+	"benchtender/record"
 )
 
 // The crash test: the real binary runs the demo's campaign against its
@@ -51,8 +52,8 @@ func TestCrashAndRestart(t *testing.T) {
 	c := start()
 	deadline := time.Now().Add(90 * time.Second)
 	for time.Now().Before(deadline) {
-		es, _ := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
-		st := agent.Replay(es)
+		es, _ := record.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+		st := record.Replay(es)
 		if len(st.Trials())+len(st.FailedPoints()) >= runs && len(st.InFlight()) == 0 {
 			break
 		}
@@ -63,19 +64,19 @@ func TestCrashAndRestart(t *testing.T) {
 	cancel()
 	<-simDone
 
-	es, err := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+	es, err := record.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	st := agent.Replay(es)
+	st := record.Replay(es)
 	noTempFiles(t, cfg.Campaign.StateDir)
 	// Every result file ingested exactly once.
 	ingests := map[string]int{}
 	for _, e := range es {
 		switch e.Kind {
-		case agent.KindIngest:
+		case record.KindIngest:
 			ingests[filepath.Base(e.File)]++
-		case agent.KindQuarantine:
+		case record.KindQuarantine:
 			t.Errorf("quarantined %s: %s", e.File, e.Reason)
 		}
 	}
@@ -134,14 +135,14 @@ func noTempFiles(t *testing.T, stateDir string) {
 // instrument saw it (its taken.log) and as the journal es says, and that
 // every setpoint taken has one live handoff in the journal. It returns the
 // number of setpoints taken.
-func handedOffOnce(t *testing.T, cfg agent.Config, es []agent.Entry) int {
+func handedOffOnce(t *testing.T, cfg agent.Config, es []record.Entry) int {
 	t.Helper()
 	intents := map[string]int{}
 	for _, e := range es {
 		switch e.Kind {
-		case agent.KindHandoff:
+		case record.KindHandoff:
 			intents[e.Run]++
-		case agent.KindHandoffNo:
+		case record.KindHandoffNo:
 			intents[e.Run]--
 		}
 	}
@@ -171,7 +172,7 @@ func handedOffOnce(t *testing.T, cfg agent.Config, es []agent.Entry) int {
 
 // dumpCampaign logs the journal's entries and the agent log's last lines,
 // so a failure on a CI machine can be read without the temp folder.
-func dumpCampaign(t *testing.T, cfg agent.Config, es []agent.Entry) {
+func dumpCampaign(t *testing.T, cfg agent.Config, es []record.Entry) {
 	t.Helper()
 	for _, e := range es {
 		t.Logf("journal: %s run=%s file=%s reason=%s", e.Kind, e.Run, filepath.Base(e.File), e.Reason)

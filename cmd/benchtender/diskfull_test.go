@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // Disk full: the state folder is a 2 MB tmpfs mounted inside a user and
@@ -84,8 +85,8 @@ cp -r "$STATE" "$OUT/state"
 	if endFull > atFull+1 { // one handoff may have been in the instrument's hands as the disk filled
 		t.Errorf("the instrument took %d setpoints while the disk was full", endFull-atFull)
 	}
-	es, _ := agent.ReadJournal(filepath.Join(out, "state", "journal.log"))
-	before, _ := agent.ReadJournal(filepath.Join(out, "journal-full.log"))
+	es, _ := record.ReadJournal(filepath.Join(out, "state", "journal.log"))
+	before, _ := record.ReadJournal(filepath.Join(out, "journal-full.log"))
 	if len(es) <= len(before) {
 		t.Errorf("no progress after the disk was emptied: %d entries then, %d at the end", len(before), len(es))
 	}
@@ -93,7 +94,7 @@ cp -r "$STATE" "$OUT/state"
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := agent.VerifyAudit(filepath.Join(out, "state", "audit.log"), key); err != nil {
+	if _, err := record.VerifyAudit(filepath.Join(out, "state", "audit.log"), key); err != nil {
 		t.Errorf("audit trail: %v", err)
 	}
 	trail, _ := os.ReadFile(filepath.Join(out, "state", "audit.log"))

@@ -12,6 +12,7 @@ import (
 	"time"
 
 	"benchtender/agent"
+	"benchtender/record"
 )
 
 // Two campaigns, each with its own folders and simulated instrument, run
@@ -45,8 +46,8 @@ func TestTwoCampaignsInOneProcess(t *testing.T) {
 		t.Fatal(err)
 	}
 	done := func(cfg agent.Config) int {
-		es, _ := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
-		return len(agent.Replay(es).Trials())
+		es, _ := record.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+		return len(record.Replay(es).Trials())
 	}
 	waitUntil(t, 60*time.Second, "both campaigns done", func() bool { return done(cfgs[0]) >= runs && done(cfgs[1]) >= runs })
 	daemon.Process.Signal(syscall.SIGTERM)

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"benchtender/record"
 	"context"
 	"os"
 	"os/exec"
@@ -8,8 +9,6 @@ import (
 	"strconv"
 	"strings"
 	"testing"
-
-	"benchtender/agent"
 )
 
 // The export folder read-only, as a share exported read-only would be: it
@@ -48,11 +47,11 @@ wait $pid
 		logs, _ := os.ReadFile(logPath)
 		t.Fatalf("namespace script: %v\n%s\n%s", err, b, tail(string(logs), 3000))
 	}
-	es, err := agent.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
+	es, err := record.ReadJournal(filepath.Join(cfg.Campaign.StateDir, "journal.log"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if n := len(agent.Replay(es).Trials()); n != runs {
+	if n := len(record.Replay(es).Trials()); n != runs {
 		logs, _ := os.ReadFile(logPath)
 		t.Fatalf("%d of %d runs done with a read-only export folder\n%s", n, runs, tail(string(logs), 3000))
 	}

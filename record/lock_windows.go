@@ -1,6 +1,6 @@
 //go:build windows
 
-package agent
+package record
 
 import (
 	"fmt"
@@ -10,9 +10,9 @@ import (
 	"golang.org/x/sys/windows"
 )
 
-// lockState takes the state folder's exclusive lock (LockFileEx), so that
+// LockState takes the state folder's exclusive lock (LockFileEx), so that
 // a second agent on the same folder refuses to start.
-func lockState(dir string) (func(), error) {
+func LockState(dir string) (func(), error) {
 	path := filepath.Join(dir, "lock")
 	f, err := os.OpenFile(path, os.O_CREATE|os.O_RDWR, 0o644)
 	if err != nil {

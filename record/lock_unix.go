@@ -1,6 +1,6 @@
 //go:build !windows
 
-package agent
+package record
 
 import (
 	"errors"
@@ -12,10 +12,10 @@ import (
 	"golang.org/x/sys/unix"
 )
 
-// lockState takes the state folder's exclusive lock, so that a second
+// LockState takes the state folder's exclusive lock, so that a second
 // agent on the same folder refuses to start. The kernel drops the lock
 // when the process dies, so a crash never leaves a stale lock.
-func lockState(dir string) (func(), error) {
+func LockState(dir string) (func(), error) {
 	path := filepath.Join(dir, "lock")
 	f, err := os.OpenFile(path, os.O_CREATE|os.O_RDWR, 0o644)
 	if err != nil {

@@ -1,4 +1,4 @@
-package agent
+package record
 
 import (
 	"bufio"
@@ -117,6 +117,18 @@ type Entry struct {
 	Instrument string `json:"instrument,omitempty"`
 }
 
+// SignoffMeaning is what a sign-off entry's signature means (21 CFR Part
+// 11 §11.50(a)(3)): the audit trail and the export both say it this way.
+func (e Entry) SignoffMeaning() string {
+	switch {
+	case e.Action == ActionApprove && e.Partial:
+		return "first of two approvals"
+	case e.Action == ActionApprove:
+		return "approval"
+	}
+	return "rejection"
+}
+
 // castagnoli is the CRC-32C table (RFC 3720, appendix B.4).
 var castagnoli = crc32.MakeTable(crc32.Castagnoli)
 
@@ -131,8 +143,8 @@ var (
 // cannot be trusted and nothing may start on it.
 var ErrCorrupt = errors.New("journal is corrupt")
 
-// encodeEntry renders one line: "<length> <crc32c as 8 hex digits> <json>\n".
-func encodeEntry(e Entry) ([]byte, error) {
+// EncodeEntry renders one line: "<length> <crc32c as 8 hex digits> <json>\n".
+func EncodeEntry(e Entry) ([]byte, error) {
 	body, err := json.Marshal(e)
 	if err != nil {
 		return nil, err
@@ -359,7 +371,7 @@ func (j *Journal) Append(e Entry) (Entry, error) {
 		return e, errors.New("journal: append after a failed write or close")
 	}
 	e.Seq = j.seq + 1
-	line, err := encodeEntry(e)
+	line, err := EncodeEntry(e)
 	if err != nil {
 		return e, fmt.Errorf("journal: encode: %w", err)
 	}
@@ -375,6 +387,13 @@ func (j *Journal) Append(e Entry) (Entry, error) {
 	return e, nil
 }
 
+// Usable says whether the journal can still be appended to: false after
+// a failed write or Close.
+func (j *Journal) Usable() bool { return j != nil && j.f != nil }
+
+// Seq is the sequence number of the last entry.
+func (j *Journal) Seq() int64 { return j.seq }
+
 func (j *Journal) fail() {
 	j.f.Close()
 	j.f = nil
@@ -389,5 +408,3 @@ func (j *Journal) Close() error {
 	j.f = nil
 	return err
 }
-
-func jsonMarshal(v any) ([]byte, error) { return json.Marshal(v) }

@@ -1,6 +1,6 @@
 //go:build windows
 
-package agent
+package record
 
 // syncDir is a no-op on Windows, where folders cannot be opened for fsync;
 // NTFS makes the rename itself durable through its own log.

@@ -1,6 +1,6 @@
 //go:build linux
 
-package agent
+package record
 
 import (
 	"fmt"
@@ -22,9 +22,9 @@ var networkFS = map[int64]string{
 	0x0BD00BD0: "Lustre",
 }
 
-// checkLocalFS refuses a state folder on a network file system: locks and
+// CheckLocalFS refuses a state folder on a network file system: locks and
 // fsync there do not give the guarantees the journal needs.
-func checkLocalFS(dir string) error {
+func CheckLocalFS(dir string) error {
 	var st unix.Statfs_t
 	if err := unix.Statfs(dir, &st); err != nil {
 		return fmt.Errorf("statfs %s: %w", dir, err)

@@ -1,4 +1,4 @@
-package agent
+package record
 
 import (
 	"errors"
@@ -9,16 +9,16 @@ import (
 	"strings"
 )
 
-// tempPrefix starts the name of every file the agent is still writing. It
+// TempPrefix starts the name of every file the agent is still writing. It
 // begins with a dot and the name ends in ".tmp", so instrument software
 // that lists *.csv or skips hidden files never sees a half-written file.
-const tempPrefix = ".benchtender-"
+const TempPrefix = ".benchtender-"
 
-// writeFileAtomic writes data to dir/name so that a reader sees either no
+// WriteFileAtomic writes data to dir/name so that a reader sees either no
 // file or the whole file: write a temp file in the same folder, fsync it,
 // rename it into place, fsync the folder.
-func writeFileAtomic(dir, name string, data []byte, perm os.FileMode) error {
-	return atomicWriter{}.write(dir, name, data, perm)
+func WriteFileAtomic(dir, name string, data []byte, perm os.FileMode) error {
+	return Writer{}.Write(dir, name, data, perm)
 }
 
 // Staged is a file written and synced under a temp name beside its
@@ -37,29 +37,30 @@ type Staged interface {
 // under its name, but the rename may not survive a power cut.
 var ErrInPlace = errors.New("file in place, folder not synced")
 
-// atomicWriter is writeFileAtomic with its fsync replaceable, so that
+// Writer is WriteFileAtomic with its fsync replaceable, so that
 // tests can make the disk fail where real disks fail.
-type atomicWriter struct {
-	sync func(*os.File) error // (*os.File).Sync when nil
+type Writer struct {
+	Sync func(*os.File) error // (*os.File).Sync when nil
 }
 
-func (w atomicWriter) write(dir, name string, data []byte, perm os.FileMode) error {
-	st, err := w.stage(dir, name, data, perm)
+// Write writes data to dir/name atomically (see WriteFileAtomic).
+func (w Writer) Write(dir, name string, data []byte, perm os.FileMode) error {
+	st, err := w.Stage(dir, name, data, perm)
 	if err != nil {
 		return err
 	}
 	return st.Commit()
 }
 
-// stage writes data to a temp file in dir and fsyncs it. A handoff is
+// Stage writes data to a temp file in dir and fsyncs it. A handoff is
 // staged before its intent is journalled, so that after a crash a missing
 // temp file and a missing target together mean the instrument took it.
-func (w atomicWriter) stage(dir, name string, data []byte, perm os.FileMode) (Staged, error) {
-	sync := w.sync
+func (w Writer) Stage(dir, name string, data []byte, perm os.FileMode) (Staged, error) {
+	sync := w.Sync
 	if sync == nil {
 		sync = (*os.File).Sync
 	}
-	f, err := os.CreateTemp(dir, tempPrefix+name+".*.tmp")
+	f, err := os.CreateTemp(dir, TempPrefix+name+".*.tmp")
 	if err != nil {
 		return nil, fmt.Errorf("write %s: %w", filepath.Join(dir, name), err)
 	}
@@ -103,25 +104,25 @@ func (s stagedFile) Commit() error {
 
 func (s stagedFile) Abort() { os.Remove(s.tmp) }
 
-// sweptFile is a temp file removed by sweepTemp, with its first bytes.
-type sweptFile struct{ name, head string }
+// SweptFile is a temp file removed by SweepTemp, with its first bytes.
+type SweptFile struct{ Name, Head string }
 
-// sweepTemp removes temp files left in dir by an earlier run that died
+// SweepTemp removes temp files left in dir by an earlier run that died
 // while writing, and returns their names and first 4 KiB.
-func sweepTemp(dir string) ([]sweptFile, error) {
+func SweepTemp(dir string) ([]SweptFile, error) {
 	entries, err := os.ReadDir(dir)
 	if err != nil {
 		return nil, err
 	}
-	var removed []sweptFile
+	var removed []SweptFile
 	for _, e := range entries {
-		if e.Type().IsRegular() && strings.HasPrefix(e.Name(), tempPrefix) && strings.HasSuffix(e.Name(), ".tmp") {
+		if e.Type().IsRegular() && strings.HasPrefix(e.Name(), TempPrefix) && strings.HasSuffix(e.Name(), ".tmp") {
 			path := filepath.Join(dir, e.Name())
 			head := readHead(path, 4096)
 			if err := os.Remove(path); err != nil {
 				return removed, err
 			}
-			removed = append(removed, sweptFile{name: e.Name(), head: head})
+			removed = append(removed, SweptFile{Name: e.Name(), Head: head})
 		}
 	}
 	return removed, nil
@@ -140,10 +141,10 @@ func readHead(path string, n int) string {
 	return string(b[:k])
 }
 
-// tempTarget returns the file name a temp file was for:
+// TempTarget returns the file name a temp file was for:
 // ".benchtender-R0001.csv.123.tmp" -> "R0001.csv".
-func tempTarget(temp string) string {
-	t := strings.TrimSuffix(strings.TrimPrefix(temp, tempPrefix), ".tmp")
+func TempTarget(temp string) string {
+	t := strings.TrimSuffix(strings.TrimPrefix(temp, TempPrefix), ".tmp")
 	if i := strings.LastIndexByte(t, '.'); i >= 0 {
 		t = t[:i]
 	}

@@ -1,4 +1,4 @@
-package agent
+package record
 
 import (
 	"bufio"
@@ -23,7 +23,7 @@ import (
 // Part 11 §11.10(e) asks of an audit trail: secure, computer-generated,
 // time-stamped, never obscuring earlier entries). Entries cut from the
 // end are found by the journal, whose every entry carries the trail's
-// head (crossCheck). A correction is a new entry whose Corrects names the
+// head (CrossCheck). A correction is a new entry whose Corrects names the
 // entry it corrects; nothing is edited or deleted.
 type AuditEntry struct {
 	Seq int64 `json:"seq"`
@@ -42,9 +42,6 @@ type AuditEntry struct {
 	Prev     string          `json:"prev"`
 	Hash     string          `json:"hash"`
 }
-
-// The agent's own identity in the trail.
-const actorAgent = "benchtender"
 
 // chainHash is HMAC-SHA256 under key of (prev hash || JSON of the entry
 // without its hash).
@@ -111,24 +108,25 @@ func VerifyAudit(path string, key []byte) (int, error) {
 	return n, nil
 }
 
-// auditLog appends chained entries, fsynced one by one.
-type auditLog struct {
+// Audit is the trail open for appending: chained entries, fsynced one by
+// one.
+type Audit struct {
 	f    *os.File
 	key  []byte
 	seq  int64
 	prev string
 }
 
-// head is the trail's last entry, as "seq:hash" ("0:" when empty): what
+// Head is the trail's last entry, as "seq:hash" ("0:" when empty): what
 // every journal entry carries, so that cutting either file is found.
-func (a *auditLog) head() string { return fmt.Sprintf("%d:%s", a.seq, a.prev) }
+func (a *Audit) Head() string { return fmt.Sprintf("%d:%s", a.seq, a.prev) }
 
-func auditPath(stateDir string) string { return filepath.Join(stateDir, "audit.log") }
+func AuditPath(stateDir string) string { return filepath.Join(stateDir, "audit.log") }
 
-// openAudit verifies the trail and opens it for appending. A torn last
+// OpenAudit verifies the trail and opens it for appending. A torn last
 // entry (a crash while writing) is cut off and reported by torn; any other
 // damage is an error and nothing is changed.
-func openAudit(path string, key []byte) (a *auditLog, torn bool, err error) {
+func OpenAudit(path string, key []byte) (a *Audit, torn bool, err error) {
 	n, err := VerifyAudit(path, key)
 	if errors.Is(err, ErrAuditTorn) {
 		good, serr := auditPrefixLen(path, n)
@@ -164,9 +162,9 @@ func auditPrefixLen(path string, n int) (int64, error) {
 	return off, nil
 }
 
-func openAuditAt(path string, n int) (*auditLog, error) {
+func openAuditAt(path string, n int) (*Audit, error) {
 	var err error
-	a := &auditLog{seq: int64(n)}
+	a := &Audit{seq: int64(n)}
 	if n > 0 {
 		last, err := lastAudit(path)
 		if err != nil {
@@ -198,7 +196,7 @@ func lastAudit(path string) (AuditEntry, error) {
 	return e, err
 }
 
-func (a *auditLog) append(e AuditEntry, now time.Time) (AuditEntry, error) {
+func (a *Audit) Append(e AuditEntry, now time.Time) (AuditEntry, error) {
 	if a.f == nil {
 		return e, errors.New("audit: append after a failed write")
 	}
@@ -224,7 +222,12 @@ func (a *auditLog) append(e AuditEntry, now time.Time) (AuditEntry, error) {
 	return e, nil
 }
 
-func (a *auditLog) close() error {
+// Usable says whether the trail can still be appended to: false after a
+// failed write.
+func (a *Audit) Usable() bool { return a != nil && a.f != nil }
+
+// Close closes the trail.
+func (a *Audit) Close() error {
 	if a == nil || a.f == nil {
 		return nil
 	}

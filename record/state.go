@@ -1,6 +1,7 @@
-package agent
+package record
 
 import (
+	"fmt"
 	"slices"
 	"time"
 
@@ -72,6 +73,11 @@ type Approval struct {
 	Replaces string
 }
 
+// Describe says who gave the approval and when.
+func (f *Approval) Describe(space campaign.Space) string {
+	return fmt.Sprintf("%s (%s) at %s", f.By, f.Name, f.Time.UTC().Format(time.RFC3339))
+}
+
 // State is the campaign as replayed from its journal.
 type State struct {
 	Runs   map[string]*Run
@@ -115,7 +121,7 @@ func newState() *State {
 func Replay(entries []Entry) *State {
 	s := newState()
 	for _, e := range entries {
-		s.apply(e)
+		s.Apply(e)
 	}
 	return s
 }
@@ -130,8 +136,8 @@ func (s *State) run(id string) *Run {
 	return r
 }
 
-// apply folds one entry into the state.
-func (s *State) apply(e Entry) {
+// Apply folds one entry into the state.
+func (s *State) Apply(e Entry) {
 	switch e.Kind {
 	case KindProposal:
 		s.Proposals++
@@ -311,10 +317,10 @@ func (s *State) Avoid() []campaign.Point {
 	return s.points(StatusRejected, StatusRefused, StatusExpired)
 }
 
-// lastOn is the setpoint last handed off to the named instrument; with a
+// LastHandoffOn is the setpoint last handed off to the named instrument; with a
 // single instrument, the last handed off at all (journals from before
 // instruments were named).
-func (s *State) lastOn(name string, single bool) campaign.Point {
+func (s *State) LastHandoffOn(name string, single bool) campaign.Point {
 	if single {
 		return s.LastHandoff
 	}
