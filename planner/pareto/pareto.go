@@ -1,0 +1,211 @@
+// Package pareto holds the arithmetic of trade-offs between several
+// responses: which results dominate which, the non-dominated fronts, and
+// the hypervolume a set of results dominates up to a reference point.
+//
+// Every response is to be made small here: a caller negates a response to
+// be made large before it asks. A point is a slice of one value per
+// response; all points of one call have the same length.
+package pareto
+
+import (
+	"math"
+	"slices"
+)
+
+// Dominates reports whether a dominates b: no worse in every response and
+// better in at least one.
+func Dominates(a, b []float64) bool {
+	better := false
+	for i := range a {
+		switch {
+		case a[i] > b[i]:
+			return false
+		case a[i] < b[i]:
+			better = true
+		}
+	}
+	return better
+}
+
+// Front returns the indices, in ascending order, of the points no other
+// point dominates. Equal points are all on the front.
+func Front(points [][]float64) []int {
+	var out []int
+	for i, p := range points {
+		dominated := false
+		for j, q := range points {
+			if j != i && Dominates(q, p) {
+				dominated = true
+				break
+			}
+		}
+		if !dominated {
+			out = append(out, i)
+		}
+	}
+	return out
+}
+
+// Sort splits the points into successive non-dominated fronts, each a list
+// of indices in ascending order: the first is Front(points), the second
+// the front of what is left, and so on (the fast non-dominated sort of
+// Deb, Pratap, Agarwal and Meyarivan 2002, "A fast and elitist
+// multiobjective genetic algorithm: NSGA-II", IEEE Trans. Evol. Comput.
+// 6(2), section III-A).
+func Sort(points [][]float64) [][]int {
+	n := len(points)
+	beats := make([][]int, n) // the points i dominates
+	count := make([]int, n)   // how many points dominate i
+	for i := 0; i < n; i++ {
+		for j := i + 1; j < n; j++ {
+			switch {
+			case Dominates(points[i], points[j]):
+				beats[i] = append(beats[i], j)
+				count[j]++
+			case Dominates(points[j], points[i]):
+				beats[j] = append(beats[j], i)
+				count[i]++
+			}
+		}
+	}
+	var fronts [][]int
+	var cur []int
+	for i := range n {
+		if count[i] == 0 {
+			cur = append(cur, i)
+		}
+	}
+	for len(cur) > 0 {
+		fronts = append(fronts, cur)
+		var next []int
+		for _, i := range cur {
+			for _, j := range beats[i] {
+				if count[j]--; count[j] == 0 {
+					next = append(next, j)
+				}
+			}
+		}
+		slices.Sort(next)
+		cur = next
+	}
+	return fronts
+}
+
+// Hypervolume is the volume of the region that the points dominate and
+// that is bounded by ref: the union of the boxes from each point to ref
+// (Zitzler and Thiele 1998, the "size of the space covered"). Points not
+// strictly better than ref in every response add nothing. It is exact: a
+// sweep in two responses, and in more, slices along the last response,
+// each slice a hypervolume in one response fewer (the slicing of While,
+// Hingston, Barone and Huband 2006, "A faster algorithm for calculating
+// hypervolume", IEEE Trans. Evol. Comput. 10(1)); cheap for the few
+// responses and few hundred points of a campaign.
+func Hypervolume(points [][]float64, ref []float64) float64 {
+	var in [][]float64
+	for _, p := range points {
+		if strictlyBelow(p, ref) {
+			in = append(in, p)
+		}
+	}
+	return volume(in, ref)
+}
+
+// Improvement is the hypervolume that p adds to the points:
+// Hypervolume(points ∪ {p}) − Hypervolume(points), computed as the box
+// from p to ref less the part of it the points already dominate.
+func Improvement(points [][]float64, p, ref []float64) float64 {
+	if !strictlyBelow(p, ref) {
+		return 0
+	}
+	box := 1.0
+	for i := range p {
+		box *= ref[i] - p[i]
+	}
+	var clipped [][]float64
+	for _, q := range points {
+		c := make([]float64, len(q))
+		for i := range q {
+			c[i] = math.Max(q[i], p[i])
+		}
+		if strictlyBelow(c, ref) {
+			clipped = append(clipped, c)
+		}
+	}
+	return math.Max(0, box-volume(clipped, ref))
+}
+
+func strictlyBelow(p, ref []float64) bool {
+	for i := range p {
+		if !(p[i] < ref[i]) {
+			return false
+		}
+	}
+	return true
+}
+
+// volume is the hypervolume of points that are all strictly below ref.
+func volume(points [][]float64, ref []float64) float64 {
+	if len(points) == 0 {
+		return 0
+	}
+	d := len(ref)
+	switch d {
+	case 1:
+		lo := ref[0]
+		for _, p := range points {
+			lo = math.Min(lo, p[0])
+		}
+		return ref[0] - lo
+	case 2:
+		return sweep2(points, ref)
+	}
+	// Slices along the last response: between the k-th and (k+1)-th
+	// smallest value of it, the region is the (d−1)-dimensional
+	// hypervolume of the first k+1 points.
+	ps := slices.Clone(points)
+	slices.SortFunc(ps, func(a, b []float64) int { return cmpFloat(a[d-1], b[d-1]) })
+	sub := make([][]float64, 0, len(ps))
+	total := 0.0
+	for k, p := range ps {
+		sub = append(sub, p[:d-1])
+		top := ref[d-1]
+		if k+1 < len(ps) {
+			top = ps[k+1][d-1]
+		}
+		if h := top - p[d-1]; h > 0 {
+			total += h * volume(sub, ref[:d-1])
+		}
+	}
+	return total
+}
+
+// sweep2 is the hypervolume in two responses: sorted by the first, each
+// point adds the strip between its second value and the lowest second
+// value seen so far.
+func sweep2(points [][]float64, ref []float64) float64 {
+	ps := slices.Clone(points)
+	slices.SortFunc(ps, func(a, b []float64) int {
+		if c := cmpFloat(a[0], b[0]); c != 0 {
+			return c
+		}
+		return cmpFloat(a[1], b[1])
+	})
+	area, low := 0.0, ref[1]
+	for _, p := range ps {
+		if p[1] < low {
+			area += (ref[0] - p[0]) * (low - p[1])
+			low = p[1]
+		}
+	}
+	return area
+}
+
+func cmpFloat(a, b float64) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
+}
