@@ -76,6 +76,18 @@ type Config struct {
 	// distribution.
 	Samples int        `toml:"samples"`
 	Stop    StopConfig `toml:"stop"`
+	// Front is how campaigns with several responses are planned.
+	Front FrontConfig `toml:"front"`
+}
+
+// FrontConfig is the [planner.front] section, for campaigns that trade
+// several responses off (front.go).
+type FrontConfig struct {
+	// Acquisition is FrontHypervolume (default) or FrontScalarised.
+	Acquisition string `toml:"acquisition"`
+	// Warp turns the output warping on for each response's model;
+	// default off (see NewFront).
+	Warp bool `toml:"warp"`
 }
 
 // StopConfig is the [planner.stop] section: proposals stop when the 90%
@@ -98,7 +110,8 @@ type StopConfig struct {
 // Default returns the defaults.
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1, HoldFitFrom: 100,
-		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64}
+		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64,
+		Front: FrontConfig{Acquisition: FrontHypervolume}}
 }
 
 // Validate reports every problem, keyed relative to the section.
@@ -108,6 +121,11 @@ func (c Config) Validate() campaign.Problems {
 	case AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, AcqPortfolio:
 	default:
 		ps.Add("acquisition", "must be %s, %s, %s, %s or %s, got %q", AcqPortfolio, AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, c.Acquisition)
+	}
+	switch c.Front.Acquisition {
+	case FrontHypervolume, FrontScalarised:
+	default:
+		ps.Add("front.acquisition", "must be %s or %s, got %q", FrontHypervolume, FrontScalarised, c.Front.Acquisition)
 	}
 	if c.ThompsonEvery < 0 {
 		ps.Add("thompson_every", "must be 0 (never) or a whole number of runs, got %d", c.ThompsonEvery)

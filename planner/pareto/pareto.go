@@ -209,3 +209,56 @@ func cmpFloat(a, b float64) int {
 	}
 	return 0
 }
+
+// Staircase is a set of points in two responses made ready for many
+// Improvement questions: only the points that are on its front and
+// strictly below ref, sorted by the first response.
+type Staircase struct {
+	steps [][2]float64
+	ref   [2]float64
+}
+
+// NewStaircase prepares points (each of two values) for Improvement.
+func NewStaircase(points [][]float64, ref [2]float64) *Staircase {
+	var in [][]float64
+	for _, p := range points {
+		if p[0] < ref[0] && p[1] < ref[1] {
+			in = append(in, p)
+		}
+	}
+	slices.SortFunc(in, func(a, b []float64) int {
+		if c := cmpFloat(a[0], b[0]); c != 0 {
+			return c
+		}
+		return cmpFloat(a[1], b[1])
+	})
+	s := &Staircase{ref: ref}
+	low := ref[1]
+	for _, p := range in {
+		if p[1] < low {
+			s.steps = append(s.steps, [2]float64{p[0], p[1]})
+			low = p[1]
+		}
+	}
+	return s
+}
+
+// Improvement is the hypervolume the point (a, b) adds, as the function
+// Improvement gives, in time linear in the steps and without allocating.
+func (s *Staircase) Improvement(a, b float64) float64 {
+	r0, r1 := s.ref[0], s.ref[1]
+	if !(a < r0 && b < r1) {
+		return 0
+	}
+	// The box from (a, b) to ref, less the steps clipped to it: clipped,
+	// the steps stay sorted (first non-decreasing, second non-increasing).
+	covered, low := 0.0, r1
+	for _, st := range s.steps {
+		x, y := math.Max(st[0], a), math.Max(st[1], b)
+		if y < low {
+			covered += (r0 - x) * (low - y)
+			low = y
+		}
+	}
+	return math.Max(0, (r0-a)*(r1-b)-covered)
+}

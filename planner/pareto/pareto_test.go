@@ -121,6 +121,11 @@ func TestHypervolumeAgainstInclusionExclusion(t *testing.T) {
 		if got, want := Improvement(rest, p, ref), Hypervolume(pts, ref)-Hypervolume(rest, ref); math.Abs(got-want) > 1e-9 {
 			t.Fatalf("improvement of %v over %v: %v, want %v", p, rest, got, want)
 		}
+		if d == 2 {
+			if got, want := NewStaircase(rest, [2]float64{1, 1}).Improvement(p[0], p[1]), Improvement(rest, p, ref); math.Abs(got-want) > 1e-12 {
+				t.Fatalf("staircase improvement of %v over %v: %v, want %v", p, rest, got, want)
+			}
+		}
 	}
 }
 

@@ -1,0 +1,254 @@
+// Command frontbench measures how much of the true Pareto front a campaign
+// with two responses finds: closed-loop campaigns on the published
+// two-response problems of planner/testfn.Pairs, one per problem, method
+// and seed, each reporting the hypervolume its runs dominate up to the
+// problem's reference point, as a share of the true front's, after a
+// budget of runs (initial design counted). Random search and a Latin
+// hypercube of the budget's size are the baselines, over the same seeds.
+//
+//	go run ./scripts/frontbench                          # 30 seeds, 40 runs
+//	go run ./scripts/frontbench -only ZDT1 -seeds 5 -methods hypervolume
+//	go run ./scripts/frontbench -csv front.csv
+//
+// Campaigns run in parallel (-parallel, every core by default) with a
+// progress line per campaign on stderr; the table (Markdown) goes to
+// stdout, and with -csv every campaign's share to a file.
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"math/rand/v2"
+	"os"
+	"runtime"
+	"sort"
+	"strings"
+	"sync"
+	"time"
+
+	"benchtender/campaign"
+	"benchtender/planner"
+	"benchtender/planner/pareto"
+	"benchtender/planner/testfn"
+)
+
+func main() {
+	if err := run(os.Args[1:], os.Stdout, os.Stderr); err != nil {
+		fmt.Fprintln(os.Stderr, "frontbench:", err)
+		os.Exit(1)
+	}
+}
+
+// Baselines beside the planner's methods.
+const (
+	methodRandom = "random"
+	methodLatin  = "latin hypercube"
+)
+
+type job struct {
+	pair   testfn.Pair
+	method string
+	seed   uint64
+}
+
+type outcome struct {
+	share float64
+	took  time.Duration
+}
+
+func run(args []string, stdout, stderr io.Writer) error {
+	fs := flag.NewFlagSet("frontbench", flag.ContinueOnError)
+	seeds := fs.Int("seeds", 30, "campaigns per problem and method (seeds first-seed ... first-seed+seeds-1)")
+	first := fs.Uint64("first-seed", 1, "first seed")
+	budget := fs.Int("runs", 40, "runs per campaign, the initial design included")
+	only := fs.String("only", "", "comma-separated problem names (default: every problem)")
+	methods := fs.String("methods", strings.Join([]string{planner.FrontHypervolume, planner.FrontScalarised, methodLatin, methodRandom}, ","), "comma-separated methods")
+	parallel := fs.Int("parallel", runtime.GOMAXPROCS(0), "campaigns run at once")
+	csvPath := fs.String("csv", "", "write every campaign's share to this CSV file")
+	def := planner.Default()
+	warp := fs.Bool("warp", def.Front.Warp, "the output warping of each response's model")
+	kernel := fs.String("kernel", def.Kernel, "kernel of the Gaussian processes")
+	if err := fs.Parse(args); err != nil {
+		return err
+	}
+	cfg := def
+	cfg.Front.Warp, cfg.Kernel = *warp, *kernel
+	var pairs []testfn.Pair
+	for _, p := range testfn.Pairs() {
+		if *only == "" || slicesContains(strings.Split(*only, ","), pairName(p)) || slicesContains(strings.Split(*only, ","), p.Name) {
+			pairs = append(pairs, p)
+		}
+	}
+	if len(pairs) == 0 {
+		return fmt.Errorf("no problem named %q", *only)
+	}
+	ms := strings.Split(*methods, ",")
+	var jobs []job
+	for _, p := range pairs {
+		for _, m := range ms {
+			for s := 0; s < *seeds; s++ {
+				jobs = append(jobs, job{p, m, *first + uint64(s)})
+			}
+		}
+	}
+	out := make([]outcome, len(jobs))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	var mu sync.Mutex
+	done := 0
+	start := time.Now()
+	var firstErr error
+	for w := 0; w < max(1, *parallel); w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				t0 := time.Now()
+				share, err := campaignShare(jobs[i], *budget, cfg)
+				mu.Lock()
+				done++
+				if err != nil && firstErr == nil {
+					firstErr = fmt.Errorf("%s, %s, seed %d: %w", pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, err)
+				}
+				out[i] = outcome{share: share, took: time.Since(t0)}
+				fmt.Fprintf(stderr, "\r%d/%d campaigns, %s elapsed (%s, %s, seed %d: %.3f)    ", done, len(jobs), time.Since(start).Round(time.Second), pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, share)
+				mu.Unlock()
+			}
+		}()
+	}
+	for i := range jobs {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
+	fmt.Fprintln(stderr)
+	if firstErr != nil {
+		return firstErr
+	}
+	if *csvPath != "" {
+		f, err := os.Create(*csvPath)
+		if err != nil {
+			return err
+		}
+		fmt.Fprintln(f, "problem,method,seed,runs,share,seconds")
+		for i, j := range jobs {
+			fmt.Fprintf(f, "%s,%s,%d,%d,%.5f,%.2f\n", pairName(j.pair), j.method, j.seed, *budget, out[i].share, out[i].took.Seconds())
+		}
+		if err := f.Close(); err != nil {
+			return err
+		}
+	}
+	fmt.Fprintf(stdout, "Share of the true front's hypervolume after %d runs, %d seeds (%d to %d):\n\n", *budget, *seeds, *first, *first+uint64(*seeds)-1)
+	fmt.Fprintln(stdout, "| problem | factors | method | median | 10th percentile | mean | ≥ 95% | median ÷ Latin hypercube's | s per campaign |")
+	fmt.Fprintln(stdout, "| --- | --- | --- | --- | --- | --- | --- | --- | --- |")
+	for _, p := range pairs {
+		medians := map[string]float64{}
+		rows := map[string][]float64{}
+		took := map[string]time.Duration{}
+		for i, j := range jobs {
+			if pairName(j.pair) == pairName(p) {
+				rows[j.method] = append(rows[j.method], out[i].share)
+				took[j.method] += out[i].took
+			}
+		}
+		for m, v := range rows {
+			medians[m] = quantile(v, 0.5)
+		}
+		for _, m := range ms {
+			v := rows[m]
+			mean, hit := 0.0, 0
+			for _, s := range v {
+				mean += s
+				if s >= 0.95 {
+					hit++
+				}
+			}
+			mean /= float64(len(v))
+			ratio := "–"
+			if lh, ok := medians[methodLatin]; ok && lh > 0 {
+				ratio = fmt.Sprintf("%.2f", medians[m]/lh)
+			}
+			fmt.Fprintf(stdout, "| %s | %d | %s | %.3f | %.3f | %.3f | %d/%d | %s | %.1f |\n", pairName(p), p.Space.Dim(), m, medians[m], quantile(v, 0.1), mean, hit, len(v), ratio, took[m].Seconds()/float64(len(v)))
+		}
+	}
+	return nil
+}
+
+func pairName(p testfn.Pair) string { return fmt.Sprintf("%s %d", p.Name, p.Space.Dim()) }
+
+func slicesContains(xs []string, s string) bool {
+	for _, x := range xs {
+		if strings.TrimSpace(x) == s {
+			return true
+		}
+	}
+	return false
+}
+
+// quantile is the q-quantile by linear interpolation between order
+// statistics (Hyndman and Fan 1996, definition 7).
+func quantile(v []float64, q float64) float64 {
+	s := append([]float64(nil), v...)
+	sort.Float64s(s)
+	if len(s) == 0 {
+		return math.NaN()
+	}
+	h := q * float64(len(s)-1)
+	lo := int(math.Floor(h))
+	if lo+1 >= len(s) {
+		return s[lo]
+	}
+	return s[lo] + (h-float64(lo))*(s[lo+1]-s[lo])
+}
+
+// campaignShare runs one campaign and returns the hypervolume its runs
+// dominate as a share of the true front's.
+func campaignShare(j job, budget int, cfg planner.Config) (float64, error) {
+	p := j.pair
+	d := p.Space.Dim()
+	var points []campaign.Point
+	var values [][]float64
+	observe := func(pt campaign.Point) {
+		v := p.F(pt)
+		points = append(points, pt)
+		values = append(values, []float64{v[0], v[1]})
+	}
+	switch j.method {
+	case methodRandom:
+		rng := rand.New(rand.NewPCG(j.seed, 0xbe7c))
+		for range budget {
+			pt := make(campaign.Point, d)
+			for k := range pt {
+				f := p.Space[k]
+				pt[k] = f.Min + rng.Float64()*(f.Max-f.Min)
+			}
+			observe(pt)
+		}
+	case methodLatin:
+		rng := rand.New(rand.NewPCG(j.seed, 0x1a71))
+		for _, u := range planner.LatinHypercube(budget, d, rng) {
+			observe(p.Space.FromUnit(nil, u))
+		}
+	default:
+		cc := campaign.Config{Name: "bench", StateDir: "x", Seed: j.seed, MaxRuns: budget, Factors: p.Space,
+			Response: campaign.Response{Name: "f1", Goal: campaign.Minimise}}
+		responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise}}
+		cfg.Front.Acquisition = j.method
+		fp := planner.NewFront(cc, responses, []float64{p.Ref[0], p.Ref[1]}, cfg)
+		for i := range budget {
+			req := planner.FrontRequest{RunID: fmt.Sprintf("R%04d", i+1), Index: i}
+			for k, pt := range points {
+				req.Trials = append(req.Trials, planner.FrontTrial{Point: pt, Values: values[k]})
+			}
+			res, err := fp.Propose(context.Background(), req)
+			if err != nil {
+				return 0, fmt.Errorf("run %d: %w", i+1, err)
+			}
+			observe(res.Proposal.Point)
+		}
+	}
+	return pareto.Hypervolume(values, p.Ref[:]) / p.FrontHV, nil
+}
