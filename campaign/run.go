@@ -79,4 +79,7 @@ func (o Observation) Validate() error {
 type Trial struct {
 	Point Point
 	Value float64
+	// Values, in a campaign with several responses, holds one value per
+	// response, in the order of Config.Responses.
+	Values []float64
 }

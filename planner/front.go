@@ -46,43 +46,24 @@ const (
 // expected hypervolume improvement at a point.
 const hviDraws = 32
 
-// FrontTrial is a completed run of a campaign with several responses: its
-// setpoint and one value per response, in the responses' units.
-type FrontTrial struct {
-	Point  campaign.Point
-	Values []float64
-}
-
-// FrontRequest is what the front planner is told about the campaign; its
-// fields mean what Request's do.
-type FrontRequest struct {
-	RunID   string
-	Index   int
-	Trials  []FrontTrial
-	Pending []campaign.Point
-	Failed  []campaign.Point
-	Avoid   []campaign.Point
-	Region  [][2]float64
-	Allowed func(campaign.Point) bool
-}
-
-// FrontResult is a proposal and the front as the runs show it.
-type FrontResult struct {
-	Proposal campaign.Proposal
-	// Models are the surrogates, one per response (nil during the
-	// initial design and for the scalarisation).
-	Models []*gp.Model
-	// Front holds the indices of the trials on the Pareto front.
-	Front []int
+// FrontSummary is the Pareto front as a campaign's runs show it, beside a
+// proposal of a campaign with several responses (Result.Front).
+type FrontSummary struct {
+	// Members holds the indices of the trials on the front.
+	Members []int
 	// Hypervolume is what the trials dominate up to the reference point,
 	// in the responses' modelled units (a response to be made large
 	// negated, a logged one logged).
 	Hypervolume float64
 	// Reference is the reference point in the same units.
 	Reference []float64
-	// Improvement is the expected hypervolume improvement of the proposal
-	// (NaN when the scalarisation chose it).
+	// Improvement is the proposal's expected hypervolume improvement, in
+	// the same units (NaN when a scalarisation chose it or during the
+	// initial design).
 	Improvement float64
+	// Models are the surrogates, one per response (nil during the initial
+	// design and with the scalarisation).
+	Models []*gp.Model
 }
 
 // FrontPlanner proposes setpoints for a campaign that trades several
@@ -136,8 +117,9 @@ func NewFront(cc campaign.Config, responses []campaign.Response, worst []float64
 	return fp
 }
 
-// losses returns the trials' values as modelled losses, one row per trial.
-func (fp *FrontPlanner) losses(trials []FrontTrial) ([][]float64, error) {
+// losses returns the trials' values (Trial.Values, one per response) as
+// modelled losses, one row per trial.
+func (fp *FrontPlanner) losses(trials []campaign.Trial) ([][]float64, error) {
 	out := make([][]float64, len(trials))
 	for i, t := range trials {
 		if len(t.Values) != len(fp.responses) {
@@ -176,36 +158,43 @@ func (fp *FrontPlanner) reference(losses [][]float64) []float64 {
 	return ref
 }
 
-// Propose returns the next proposal.
-func (fp *FrontPlanner) Propose(ctx context.Context, req FrontRequest) (FrontResult, error) {
+// Propose returns the next proposal and the front so far (Result.Front).
+// Each trial carries one value per response in Values; Warm, Previous
+// and Aside are not used.
+func (fp *FrontPlanner) Propose(ctx context.Context, req Request) (Result, error) {
 	if err := ctx.Err(); err != nil {
-		return FrontResult{}, err
+		return Result{}, err
 	}
 	losses, err := fp.losses(req.Trials)
 	if err != nil {
-		return FrontResult{}, err
+		return Result{}, err
 	}
-	res := FrontResult{Improvement: math.NaN()}
+	fs := &FrontSummary{Improvement: math.NaN()}
 	if len(losses) > 0 {
-		res.Reference = fp.reference(losses)
-		res.Front = pareto.Front(losses)
-		res.Hypervolume = pareto.Hypervolume(losses, res.Reference)
+		fs.Reference = fp.reference(losses)
+		fs.Members = pareto.Front(losses)
+		fs.Hypervolume = pareto.Hypervolume(losses, fs.Reference)
 	}
+	var res Result
 	p := fp.per[0]
-	if req.Index < p.nInit || len(req.Trials) < minFit {
-		r, err := p.Propose(ctx, fp.single(req, nil))
-		res.Proposal = r.Proposal
-		return res, err
+	switch {
+	case req.Index < p.nInit || len(req.Trials) < minFit:
+		res, err = p.Propose(ctx, fp.single(req, nil))
+	case fp.method == FrontScalarised:
+		res, err = fp.scalarised(ctx, req, losses, fs.Reference)
+	default:
+		res, err = fp.hypervolume(ctx, req, losses, fs)
 	}
-	if fp.method == FrontScalarised {
-		return fp.scalarised(ctx, req, losses, res)
+	if err != nil {
+		return Result{}, err
 	}
-	return fp.hypervolume(ctx, req, losses, res)
+	res.Front = fs
+	return res, nil
 }
 
 // single is the request for one response's planner, with the values
 // given (nil: no trials).
-func (fp *FrontPlanner) single(req FrontRequest, values []float64) Request {
+func (fp *FrontPlanner) single(req Request, values []float64) Request {
 	r := Request{RunID: req.RunID, Index: req.Index, Pending: req.Pending, Failed: req.Failed, Avoid: req.Avoid, Region: req.Region, Allowed: req.Allowed}
 	for i, v := range values {
 		r.Trials = append(r.Trials, campaign.Trial{Point: req.Trials[i].Point, Value: v})
@@ -216,7 +205,7 @@ func (fp *FrontPlanner) single(req FrontRequest, values []float64) Request {
 // scalarised plans the augmented Chebyshev scalarisation of the losses,
 // each scaled to [0, 1] between the best seen and the reference point,
 // with weights drawn from the simplex for this run.
-func (fp *FrontPlanner) scalarised(ctx context.Context, req FrontRequest, losses [][]float64, res FrontResult) (FrontResult, error) {
+func (fp *FrontPlanner) scalarised(ctx context.Context, req Request, losses [][]float64, ref []float64) (Result, error) {
 	rng := rand.New(rand.NewPCG(fp.folded.seed, uint64(req.Index)+0x5ca1))
 	k := len(fp.responses)
 	// Uniform on the simplex: normalised exponential draws.
@@ -242,7 +231,7 @@ func (fp *FrontPlanner) scalarised(ctx context.Context, req FrontRequest, losses
 	for j, l := range losses {
 		worst, total := math.Inf(-1), 0.0
 		for i := range l {
-			s := (l[i] - lo[i]) / math.Max(res.Reference[i]-lo[i], 1e-12)
+			s := (l[i] - lo[i]) / math.Max(ref[i]-lo[i], 1e-12)
 			worst = math.Max(worst, w[i]*s)
 			total += w[i] * s
 		}
@@ -250,11 +239,11 @@ func (fp *FrontPlanner) scalarised(ctx context.Context, req FrontRequest, losses
 	}
 	r, err := fp.folded.Propose(ctx, fp.single(req, values))
 	if err != nil {
-		return FrontResult{}, err
+		return Result{}, err
 	}
 	r.Proposal.Method = fmt.Sprintf("%s (%s; weights %s)", MethodScalarised, r.Proposal.Method, weightsText(fp.responses, w))
-	res.Proposal = r.Proposal
-	return res, nil
+	// What the result says of one response's model does not apply.
+	return Result{Proposal: r.Proposal}, nil
 }
 
 func weightsText(rs []campaign.Response, w []float64) string {
@@ -272,7 +261,7 @@ func weightsText(rs []campaign.Response, w []float64) string {
 // the runs' losses is largest. Pending runs are taken into account as each
 // model's own prediction (the kriging believer); points where a run is
 // more likely to fail than not are passed over.
-func (fp *FrontPlanner) hypervolume(ctx context.Context, req FrontRequest, losses [][]float64, res FrontResult) (FrontResult, error) {
+func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][]float64, fs *FrontSummary) (Result, error) {
 	p := fp.per[0]
 	if req.Region != nil || req.Allowed != nil {
 		q := *p
@@ -291,14 +280,14 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req FrontRequest, losse
 		trials := fp.single(req, values).Trials
 		ft, err := rp.fit(trials, nil, nil, rng)
 		if err != nil {
-			return FrontResult{}, fmt.Errorf("planner: %s: %w", fp.responses[i].Name, err)
+			return Result{}, fmt.Errorf("planner: %s: %w", fp.responses[i].Name, err)
 		}
 		b, err := rp.believer(ft.Model, req.Pending)
 		if err != nil {
-			return FrontResult{}, err
+			return Result{}, err
 		}
 		fits[i], models[i] = ft, b
-		res.Models = append(res.Models, ft.Model)
+		fs.Models = append(fs.Models, ft.Model)
 	}
 	// The front the improvement is measured against holds the pending
 	// runs too, at their predicted losses, so that a batch spreads along
@@ -312,7 +301,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req FrontRequest, losse
 		}
 		front = append(front, l)
 	}
-	ref := res.Reference
+	ref := fs.Reference
 	z := make([][]float64, hviDraws)
 	for d := range z {
 		z[d] = make([]float64, k)
@@ -323,7 +312,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req FrontRequest, losse
 	improvement := fp.improvement(front, ref)
 	feasible, err := p.feasibility(fp.single(req, make([]float64, len(req.Trials))).Trials, req.Failed, rng)
 	if err != nil {
-		return FrontResult{}, err
+		return Result{}, err
 	}
 	avoid := make([][]float64, 0, len(req.Avoid)+len(req.Pending)+len(req.Failed)+len(req.Trials))
 	for _, pts := range [][]campaign.Point{req.Avoid, req.Pending, req.Failed} {
@@ -335,7 +324,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req FrontRequest, losse
 	for _, t := range req.Trials {
 		avoid = append(avoid, p.space.ToUnit(nil, t.Point))
 	}
-	for _, i := range res.Front {
+	for _, i := range fs.Members {
 		around = append(around, p.space.ToUnit(nil, req.Trials[i].Point))
 	}
 	score := scorer{exact: func(us [][]float64, out []float64) {
@@ -380,18 +369,13 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req FrontRequest, losse
 	}}
 	u, s, err := p.maximise(ctx, score, around, rng)
 	if errors.Is(err, errNoCandidate) || (err == nil && math.IsInf(s, -1)) {
-		return FrontResult{}, fmt.Errorf("planner: no setpoint can be proposed: every candidate is barred")
+		return Result{}, fmt.Errorf("planner: no setpoint can be proposed: every candidate is barred")
 	}
 	if err != nil {
-		return FrontResult{}, err
+		return Result{}, err
 	}
-	r, err := p.result(req.RunID, u, MethodHypervolume, s, Result{})
-	if err != nil {
-		return FrontResult{}, err
-	}
-	res.Proposal = r.Proposal
-	res.Improvement = math.Max(0, s)
-	return res, nil
+	fs.Improvement = math.Max(0, s)
+	return p.result(req.RunID, u, MethodHypervolume, s, Result{})
 }
 
 // improvement returns the hypervolume a point of losses adds to front: a

@@ -15,22 +15,22 @@ import (
 
 // frontCampaign runs a closed-loop campaign of n runs on a two-response
 // test problem and returns the trials and the last result.
-func frontCampaign(t *testing.T, p testfn.Pair, responses []campaign.Response, worst []float64, values func([2]float64) []float64, n int, cfg Config) ([]FrontTrial, FrontResult) {
+func frontCampaign(t *testing.T, p testfn.Pair, responses []campaign.Response, worst []float64, values func([2]float64) []float64, n int, cfg Config) ([]campaign.Trial, Result) {
 	t.Helper()
 	cc := campaign.Config{Name: "front", StateDir: "x", Seed: 1, MaxRuns: n, Factors: p.Space, Response: responses[0]}
 	fp := NewFront(cc, responses, worst, cfg)
-	var trials []FrontTrial
-	var res FrontResult
+	var trials []campaign.Trial
+	var res Result
 	for i := range n {
 		var err error
-		res, err = fp.Propose(t.Context(), FrontRequest{RunID: fmt.Sprintf("R%04d", i+1), Index: i, Trials: trials})
+		res, err = fp.Propose(t.Context(), Request{RunID: fmt.Sprintf("R%04d", i+1), Index: i, Trials: trials})
 		if err != nil {
 			t.Fatalf("run %d: %v", i+1, err)
 		}
 		if !p.Space.Contains(res.Proposal.Point) {
 			t.Fatalf("run %d: %v is outside the box", i+1, res.Proposal.Point)
 		}
-		trials = append(trials, FrontTrial{Point: res.Proposal.Point, Values: values(p.F(res.Proposal.Point))})
+		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Values: values(p.F(res.Proposal.Point))})
 	}
 	return trials, res
 }
@@ -61,11 +61,11 @@ func TestFrontFindsZDT1(t *testing.T) {
 		}
 		// The result's figures are of the runs before the last proposal.
 		before := pts[:len(pts)-1]
-		if got := res.Hypervolume; math.Abs(got-pareto.Hypervolume(before, p.Ref[:])) > 1e-12 {
+		if got := res.Front.Hypervolume; math.Abs(got-pareto.Hypervolume(before, p.Ref[:])) > 1e-12 {
 			t.Errorf("%s: reported hypervolume %v, the runs dominate %v", method, got, pareto.Hypervolume(before, p.Ref[:]))
 		}
-		if fmt.Sprint(res.Front) != fmt.Sprint(pareto.Front(before)) {
-			t.Errorf("%s: reported front %v, want %v", method, res.Front, pareto.Front(before))
+		if fmt.Sprint(res.Front.Members) != fmt.Sprint(pareto.Front(before)) {
+			t.Errorf("%s: reported front %v, want %v", method, res.Front.Members, pareto.Front(before))
 		}
 	}
 }
@@ -94,15 +94,15 @@ func TestFrontRequestChecks(t *testing.T) {
 	responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise, Transform: campaign.TransformLog}}
 	cc := campaign.Config{Name: "front", StateDir: "x", Seed: 3, MaxRuns: 20, Factors: p.Space, Response: responses[0]}
 	fp := NewFront(cc, responses, []float64{math.NaN(), math.NaN()}, Default())
-	var trials []FrontTrial
+	var trials []campaign.Trial
 	for i := range 8 {
 		u := campaign.Point{float64(i) / 7, float64(i%3) / 2}
 		v := p.F(u)
-		trials = append(trials, FrontTrial{Point: u, Values: []float64{v[0], v[1] + 0.01}})
+		trials = append(trials, campaign.Trial{Point: u, Values: []float64{v[0], v[1] + 0.01}})
 	}
 	region := [][2]float64{{0.2, 0.4}, {0, 0.1}}
 	pending := []campaign.Point{{0.3, 0.05}}
-	res, err := fp.Propose(t.Context(), FrontRequest{RunID: "R0009", Index: 8, Trials: trials, Region: region, Pending: pending})
+	res, err := fp.Propose(t.Context(), Request{RunID: "R0009", Index: 8, Trials: trials, Region: region, Pending: pending})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -113,16 +113,16 @@ func TestFrontRequestChecks(t *testing.T) {
 	if d := math.Hypot(pt[0]-0.3, pt[1]-0.05); d < minSpacing {
 		t.Errorf("proposal %v on the pending run", pt)
 	}
-	if len(res.Models) != 2 || math.IsNaN(res.Improvement) {
-		t.Errorf("models %d, improvement %v", len(res.Models), res.Improvement)
+	if len(res.Front.Models) != 2 || math.IsNaN(res.Front.Improvement) {
+		t.Errorf("models %d, improvement %v", len(res.Front.Models), res.Front.Improvement)
 	}
-	bad := append([]FrontTrial(nil), trials...)
-	bad[2] = FrontTrial{Point: bad[2].Point, Values: []float64{1}}
-	if _, err := fp.Propose(context.Background(), FrontRequest{RunID: "R0009", Index: 8, Trials: bad}); err == nil || !strings.Contains(err.Error(), "trial 2 has 1 values for 2 responses") {
+	bad := append([]campaign.Trial(nil), trials...)
+	bad[2] = campaign.Trial{Point: bad[2].Point, Values: []float64{1}}
+	if _, err := fp.Propose(context.Background(), Request{RunID: "R0009", Index: 8, Trials: bad}); err == nil || !strings.Contains(err.Error(), "trial 2 has 1 values for 2 responses") {
 		t.Errorf("a trial with one value: %v", err)
 	}
-	bad[2] = FrontTrial{Point: bad[2].Point, Values: []float64{0.5, -1}}
-	if _, err := fp.Propose(context.Background(), FrontRequest{RunID: "R0009", Index: 8, Trials: bad}); err == nil || !strings.Contains(err.Error(), "f2 = -1") {
+	bad[2] = campaign.Trial{Point: bad[2].Point, Values: []float64{0.5, -1}}
+	if _, err := fp.Propose(context.Background(), Request{RunID: "R0009", Index: 8, Trials: bad}); err == nil || !strings.Contains(err.Error(), "f2 = -1") {
 		t.Errorf("a negative value of a logged response: %v", err)
 	}
 }
@@ -139,14 +139,14 @@ func BenchmarkFrontPropose(b *testing.B) {
 			cfg := Default()
 			cfg.Front.Acquisition = method
 			fp := NewFront(cc, responses, []float64{1, 1}, cfg)
-			var trials []FrontTrial
+			var trials []campaign.Trial
 			for _, u := range LatinHypercube(200, 6, rand.New(rand.NewPCG(1, 2))) {
 				v := p.F(u)
-				trials = append(trials, FrontTrial{Point: u, Values: v[:]})
+				trials = append(trials, campaign.Trial{Point: u, Values: v[:]})
 			}
 			b.ResetTimer()
 			for b.Loop() {
-				if _, err := fp.Propose(b.Context(), FrontRequest{RunID: "R0201", Index: 200, Trials: trials}); err != nil {
+				if _, err := fp.Propose(b.Context(), Request{RunID: "R0201", Index: 200, Trials: trials}); err != nil {
 					b.Fatal(err)
 				}
 			}

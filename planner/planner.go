@@ -145,6 +145,9 @@ type Result struct {
 	// release of every region (stall.go): the caller records it and passes
 	// it back in every later Request.Aside.
 	NewAside *Aside
+	// Front is the Pareto front so far, for a campaign with several
+	// responses (FrontPlanner; nil otherwise).
+	Front *FrontSummary
 }
 
 // minSpacing is the smallest distance, in the unit box, between a proposal

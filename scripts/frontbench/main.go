@@ -239,9 +239,9 @@ func campaignShare(j job, budget int, cfg planner.Config) (float64, error) {
 		cfg.Front.Acquisition = j.method
 		fp := planner.NewFront(cc, responses, []float64{p.Ref[0], p.Ref[1]}, cfg)
 		for i := range budget {
-			req := planner.FrontRequest{RunID: fmt.Sprintf("R%04d", i+1), Index: i}
+			req := planner.Request{RunID: fmt.Sprintf("R%04d", i+1), Index: i}
 			for k, pt := range points {
-				req.Trials = append(req.Trials, planner.FrontTrial{Point: pt, Values: values[k]})
+				req.Trials = append(req.Trials, campaign.Trial{Point: pt, Values: values[k]})
 			}
 			res, err := fp.Propose(context.Background(), req)
 			if err != nil {
