@@ -148,7 +148,11 @@ func New(cfg Config, opt Options) (*Agent, error) {
 		proposer:   opt.Proposer,
 		write:      opt.Writer,
 	}
-	if a.proposer == nil {
+	switch {
+	case a.proposer != nil:
+	case cfg.Campaign.Several():
+		a.proposer = planner.NewFront(cfg.Campaign, cfg.Planner)
+	default:
 		a.proposer = a.planner
 	}
 	if a.write == nil {
@@ -641,14 +645,7 @@ func (a *Agent) ingest(f watch.File) error {
 		rec.RunIDFrom = "oldest unanswered handoff"
 	}
 	resp := a.cfg.Campaign.Response.Name
-	val := rec.Values[resp]
-	if val.Failed == "" {
-		// Implausible values are failed runs with their reason: kept on
-		// record, never modelled.
-		if why := a.cfg.Campaign.Response.Check(val.Number); why != "" {
-			val.Failed, val.Number = why, 0
-		}
-	}
+	val := responseValue(a.cfg.Campaign, rec)
 	e := record.Entry{Kind: record.KindIngest, Run: rec.RunID, File: path, SHA256: sha, Value: val.Number, Failed: val.Failed, Values: readValues(rec)}
 	if !campaign.ValidRunID(rec.RunID) {
 		return a.refuseFile(path, sha, data, fmt.Sprintf("run id %q is not usable (letters, digits, '_', '.', '-'; at most 64)", rec.RunID))
@@ -684,6 +681,9 @@ func (a *Agent) ingest(f watch.File) error {
 		return nil
 	}
 	ev := log.Info().Str("run", rec.RunID).Float64(resp, val.Number)
+	for _, r := range a.cfg.Campaign.AllResponses()[1:] {
+		ev = ev.Float64(r.Name, rec.Values[r.Name].Number)
+	}
 	if val.Line > 0 {
 		ev = ev.Int("line", val.Line).Int("column", val.Column)
 	}
@@ -995,7 +995,7 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64, all
 		}
 	}()
 	res, err = a.proposer.Propose(ctx, planner.Request{
-		RunID: id, Index: a.state.Proposals, Trials: a.state.Trials(), Pending: a.state.Pending(),
+		RunID: id, Index: a.state.Proposals, Trials: trialsOf(a.cfg.Campaign, a.state), Pending: a.state.Pending(),
 		Failed: a.state.FailedPoints(), Avoid: a.state.Avoid(), Warm: a.warm, Previous: a.lastModel, Region: region,
 		Allowed: allowed, Aside: a.state.Asides,
 	})
@@ -1003,6 +1003,47 @@ func (a *Agent) propose(ctx context.Context, id string, region [][2]float64, all
 		err = fmt.Errorf("planner returned an unusable proposal %+v", res.Proposal)
 	}
 	return res, err
+}
+
+// trialsOf is the campaign's completed runs as the planner takes them:
+// with several responses, each run's value of every one.
+func trialsOf(cc campaign.Config, st *record.State) []campaign.Trial {
+	if !cc.Several() {
+		return st.Trials()
+	}
+	names := make([]string, len(cc.Responses))
+	for i, r := range cc.Responses {
+		names[i] = r.Name
+	}
+	return st.TrialsOf(names)
+}
+
+// responseValue is the run's value as the journal records it: the
+// response's, or with several responses the first one's, failed when any
+// response failed. Implausible values are failed runs with their reason:
+// kept on record, never modelled.
+func responseValue(cc campaign.Config, rec parsers.Record) parsers.Value {
+	var out parsers.Value
+	for i, r := range cc.AllResponses() {
+		v := rec.Values[r.Name]
+		if v.Failed == "" {
+			if why := r.Check(v.Number); why != "" {
+				v.Failed, v.Number = why, 0
+			}
+		}
+		if v.Failed != "" && cc.Several() && !strings.HasPrefix(v.Failed, r.Name) {
+			v.Failed = r.Name + ": " + v.Failed
+		}
+		switch {
+		case i == 0:
+			out = v
+		case v.Failed != "" && out.Failed == "":
+			out.Failed, out.Number = v.Failed, 0
+		case v.Failed != "":
+			out.Failed += "; " + v.Failed
+		}
+	}
+	return out
 }
 
 // readValues is every value and derived value a result file gave, with

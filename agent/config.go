@@ -254,7 +254,7 @@ func (c Config) validateInstruments() campaign.Problems {
 	return ps
 }
 
-// validateUse checks an instrument's use of its format: the response is
+// validateUse checks an instrument's use of its format: each response is
 // one of its values, in the response's unit, and factor echoes name real
 // factors.
 func (c Config) validateUse(ic InstrumentConfig, ikey string, names []string) campaign.Problems {
@@ -265,18 +265,19 @@ func (c Config) validateUse(ic InstrumentConfig, ikey string, names []string) ca
 		return ps
 	}
 	key := "formats." + ic.Format
-	resp := c.Campaign.Response
-	_, isValue := spec.Values[resp.Name]
-	_, isDerived := spec.Derived[resp.Name]
-	switch {
-	case resp.Name == "":
-	case !isValue && !isDerived:
-		ps.Add(key+".values", "the campaign's response %q is not among the format's values or derived values (%v)", resp.Name, spec.Names())
-	case isValue && spec.UnitOf(resp.Name) != "" && resp.Unit != "" && spec.UnitOf(resp.Name) != resp.Unit:
-		if _, err := parsers.Conversion(spec.UnitOf(resp.Name), resp.Unit); err != nil {
-			ps.Add(key+".values."+resp.Name+".to", "the value is in %s but the response is in %s: %v", spec.UnitOf(resp.Name), resp.Unit, err)
-		} else {
-			ps.Add(key+".values."+resp.Name+".to", "the value is in %s but the response is in %s: set to = %q", spec.UnitOf(resp.Name), resp.Unit, resp.Unit)
+	for _, resp := range c.Campaign.AllResponses() {
+		_, isValue := spec.Values[resp.Name]
+		_, isDerived := spec.Derived[resp.Name]
+		switch {
+		case resp.Name == "":
+		case !isValue && !isDerived:
+			ps.Add(key+".values", "the campaign's response %q is not among the format's values or derived values (%v)", resp.Name, spec.Names())
+		case isValue && spec.UnitOf(resp.Name) != "" && resp.Unit != "" && spec.UnitOf(resp.Name) != resp.Unit:
+			if _, err := parsers.Conversion(spec.UnitOf(resp.Name), resp.Unit); err != nil {
+				ps.Add(key+".values."+resp.Name+".to", "the value is in %s but the response is in %s: %v", spec.UnitOf(resp.Name), resp.Unit, err)
+			} else {
+				ps.Add(key+".values."+resp.Name+".to", "the value is in %s but the response is in %s: set to = %q", spec.UnitOf(resp.Name), resp.Unit, resp.Unit)
+			}
 		}
 	}
 	for _, name := range sortedNames(spec.Factors) {
@@ -468,6 +469,7 @@ func LoadConfig(path string, reg *parsers.Registry) (Config, error) {
 	}
 	cfg.resolve(filepath.Dir(path))
 	cfg.Campaign.Factors = cfg.Campaign.Factors.Normalised()
+	cfg.Campaign.Normalise()
 	return cfg, nil
 }
 

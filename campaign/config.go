@@ -2,6 +2,7 @@ package campaign
 
 import (
 	"fmt"
+	"reflect"
 	"strings"
 )
 
@@ -16,10 +17,34 @@ type Config struct {
 	// been handed off.
 	MaxRuns int `toml:"max_runs"`
 	// InitialRuns is the size of the space-filling initial design.
-	InitialRuns int          `toml:"initial_runs"`
-	Factors     Space        `toml:"factor"`
-	Response    Response     `toml:"response"`
+	InitialRuns int      `toml:"initial_runs"`
+	Factors     Space    `toml:"factor"`
+	Response    Response `toml:"response"`
+	// Responses, when given instead of Response, are two to four
+	// responses traded off against each other: the campaign looks for
+	// their Pareto front. Normalise makes Response the first of them,
+	// which stands for the run where one value is needed (the journal's
+	// value, the export's value column).
+	Responses   []Response   `toml:"responses"`
 	Constraints []Constraint `toml:"constraint"`
+}
+
+// Several reports whether the campaign trades several responses off.
+func (c Config) Several() bool { return len(c.Responses) > 0 }
+
+// AllResponses returns every response: Responses, or Response alone.
+func (c Config) AllResponses() []Response {
+	if c.Several() {
+		return c.Responses
+	}
+	return []Response{c.Response}
+}
+
+// Normalise makes Response the first of Responses when several are given.
+func (c *Config) Normalise() {
+	if c.Several() {
+		c.Response = c.Responses[0]
+	}
 }
 
 // DefaultConfig returns the defaults for keys a file may leave out.
@@ -37,7 +62,7 @@ func (c Config) Validate() Problems {
 		ps.Add("state_dir", "must name a folder")
 	}
 	ps = append(ps, c.Factors.Validate()...)
-	ps = append(ps, c.Response.Validate().Prefix("response")...)
+	ps = append(ps, c.validateResponses()...)
 	if c.MaxRuns < 1 {
 		ps.Add("max_runs", "must be at least 1, got %d", c.MaxRuns)
 	}
@@ -79,4 +104,33 @@ func (c Config) Initial() int {
 type Constraint struct {
 	Name       string `toml:"name"`
 	Expression string `toml:"expression"`
+}
+
+// validateResponses checks [campaign.response], or the two to four
+// [[campaign.responses]] and that their names differ.
+func (c Config) validateResponses() Problems {
+	var ps Problems
+	if !c.Several() {
+		ps = append(ps, c.Response.Validate().Prefix("response")...)
+		if c.Response.Worst != nil {
+			ps.Add("response.worst", "is for responses traded off against each other ([[campaign.responses]]); a single response has no front")
+		}
+		return ps
+	}
+	if c.Response.Name != "" && !reflect.DeepEqual(c.Response, c.Responses[0]) {
+		ps.Add("response", "give either one [campaign.response] or two to four [[campaign.responses]], not both")
+	}
+	if n := len(c.Responses); n < 2 || n > 4 {
+		ps.Add("responses", "list two to four responses to trade off, got %d (a single response goes in [campaign.response])", n)
+	}
+	seen := map[string]int{}
+	for i, r := range c.Responses {
+		key := fmt.Sprintf("responses[%d]", i)
+		ps = append(ps, r.Validate().Prefix(key)...)
+		if j, ok := seen[r.Name]; ok && r.Name != "" {
+			ps.Add(key+".name", "%q is also the name of responses[%d]", r.Name, j)
+		}
+		seen[r.Name] = i
+	}
+	return ps
 }

@@ -35,6 +35,12 @@ type Response struct {
 	// failed run with the reason, never modelled.
 	Min *float64 `toml:"min"`
 	Max *float64 `toml:"max"`
+	// Worst, for responses traded off against each other, is the worst
+	// value still acceptable (a yield of 60 %, say): the front is measured
+	// from it (the hypervolume's reference point), and runs worse than it
+	// add nothing to the front's hypervolume. Left out, it is the worst
+	// value seen plus a tenth of the range seen.
+	Worst *float64 `toml:"worst"`
 }
 
 // maxMagnitude bounds any response value, with or without a range: a
@@ -110,6 +116,16 @@ func (r Response) Validate() Problems {
 	}
 	if r.Min != nil && r.Max != nil && !(*r.Min < *r.Max) {
 		ps.Add("max", "must be above min (%g), got %g", *r.Min, *r.Max)
+	}
+	if w := r.Worst; w != nil {
+		switch {
+		case math.IsNaN(*w) || math.Abs(*w) > maxMagnitude:
+			ps.Add("worst", "must be a finite number no larger than %g in size, got %v", maxMagnitude, *w)
+		case r.Min != nil && *w < *r.Min, r.Max != nil && *w > *r.Max:
+			ps.Add("worst", "%g is outside the physical range, %s to %s", *w, r.minText(), r.maxText())
+		case r.Transform == TransformLog && *w <= 0:
+			ps.Add("worst", "with transform = \"log\" values must be above 0, so worst cannot be %g", *w)
+		}
 	}
 	if r.Transform == TransformLog && r.Min != nil && *r.Min < 0 {
 		ps.Add("min", "with transform = \"log\" values must be above 0, so min cannot be %g", *r.Min)

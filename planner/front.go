@@ -83,13 +83,24 @@ type FrontPlanner struct {
 	folded *Planner
 }
 
-// NewFront returns a planner for a campaign with the given responses (two
-// to four). worst gives each response's worst acceptable value, in its
-// unit (NaN for none). It panics on an invalid config, which the caller
-// must have validated.
-func NewFront(cc campaign.Config, responses []campaign.Response, worst []float64, cfg Config) *FrontPlanner {
-	if len(responses) < 2 || len(responses) > 4 || len(worst) != len(responses) {
-		panic(fmt.Sprintf("planner: %d responses and %d worst values; want 2 to 4 of each", len(responses), len(worst)))
+// NewFront returns a planner for a campaign with several responses
+// (cc.Responses, two to four), each one's Worst the reference point of
+// the front. It panics on an invalid config, which the caller must have
+// validated.
+func NewFront(cc campaign.Config, cfg Config) *FrontPlanner {
+	responses := cc.Responses
+	if len(responses) < 2 || len(responses) > 4 {
+		panic(fmt.Sprintf("planner: %d responses; want 2 to 4", len(responses)))
+	}
+	if err := cc.Validate().Err(); err != nil {
+		panic(fmt.Sprintf("planner: invalid campaign: %v", err))
+	}
+	worst := make([]float64, len(responses))
+	for i, r := range responses {
+		worst[i] = math.NaN()
+		if r.Worst != nil {
+			worst[i] = *r.Worst
+		}
 	}
 	// What belongs to the whole campaign, not to one response, is off for
 	// each: setting a basin aside and the stopping rule. The output warp
@@ -108,11 +119,12 @@ func NewFront(cc campaign.Config, responses []campaign.Response, worst []float64
 	fp := &FrontPlanner{cfg: one, method: cfg.Front.Acquisition, responses: responses, worst: worst}
 	for _, r := range responses {
 		c := cc
-		c.Response = r
+		r.Worst = nil // used here, not by the response's own planner
+		c.Response, c.Responses = r, nil
 		fp.per = append(fp.per, New(c, one))
 	}
 	c := cc
-	c.Response = campaign.Response{Name: "scalarised", Goal: campaign.Minimise}
+	c.Response, c.Responses = campaign.Response{Name: "scalarised", Goal: campaign.Minimise}, nil
 	fp.folded = New(c, one)
 	return fp
 }

@@ -17,8 +17,7 @@ import (
 // test problem and returns the trials and the last result.
 func frontCampaign(t *testing.T, p testfn.Pair, responses []campaign.Response, worst []float64, values func([2]float64) []float64, n int, cfg Config) ([]campaign.Trial, Result) {
 	t.Helper()
-	cc := campaign.Config{Name: "front", StateDir: "x", Seed: 1, MaxRuns: n, Factors: p.Space, Response: responses[0]}
-	fp := NewFront(cc, responses, worst, cfg)
+	fp := NewFront(frontConfig(p.Space, 1, n, responses, worst), cfg)
 	var trials []campaign.Trial
 	var res Result
 	for i := range n {
@@ -33,6 +32,20 @@ func frontCampaign(t *testing.T, p testfn.Pair, responses []campaign.Response, w
 		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Values: values(p.F(res.Proposal.Point))})
 	}
 	return trials, res
+}
+
+// frontConfig is a campaign trading the responses off, each with its
+// worst acceptable value (NaN for none).
+func frontConfig(space campaign.Space, seed uint64, maxRuns int, responses []campaign.Response, worst []float64) campaign.Config {
+	rs := append([]campaign.Response(nil), responses...)
+	for i := range rs {
+		if !math.IsNaN(worst[i]) {
+			rs[i].Worst = &worst[i]
+		}
+	}
+	cc := campaign.Config{Name: "front", StateDir: "x", Seed: seed, MaxRuns: maxRuns, Factors: space, Responses: rs}
+	cc.Normalise()
+	return cc
 }
 
 // On ZDT1 in three factors (true front's hypervolume 2/3 up to (1, 1);
@@ -92,8 +105,7 @@ func TestFrontMaximisedResponse(t *testing.T) {
 func TestFrontRequestChecks(t *testing.T) {
 	p := testfn.ZDT1(2)
 	responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise, Transform: campaign.TransformLog}}
-	cc := campaign.Config{Name: "front", StateDir: "x", Seed: 3, MaxRuns: 20, Factors: p.Space, Response: responses[0]}
-	fp := NewFront(cc, responses, []float64{math.NaN(), math.NaN()}, Default())
+	fp := NewFront(frontConfig(p.Space, 3, 20, responses, []float64{math.NaN(), math.NaN()}), Default())
 	var trials []campaign.Trial
 	for i := range 8 {
 		u := campaign.Point{float64(i) / 7, float64(i%3) / 2}
@@ -133,12 +145,12 @@ func TestFrontRequestChecks(t *testing.T) {
 func BenchmarkFrontPropose(b *testing.B) {
 	p := testfn.ZDT1(6)
 	responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise}}
-	cc := campaign.Config{Name: "front", StateDir: "x", Seed: 1, MaxRuns: 400, Factors: p.Space, Response: responses[0]}
+	cc := frontConfig(p.Space, 1, 400, responses, []float64{1, 1})
 	for _, method := range []string{FrontHypervolume, FrontScalarised} {
 		b.Run(method, func(b *testing.B) {
 			cfg := Default()
 			cfg.Front.Acquisition = method
-			fp := NewFront(cc, responses, []float64{1, 1}, cfg)
+			fp := NewFront(cc, cfg)
 			var trials []campaign.Trial
 			for _, u := range LatinHypercube(200, 6, rand.New(rand.NewPCG(1, 2))) {
 				v := p.F(u)

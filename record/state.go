@@ -293,6 +293,21 @@ func (s *State) Trials() []campaign.Trial {
 	return out
 }
 
+// TrialsOf returns the completed runs with a usable value as Trials does,
+// each also with its values of the named responses (Trial.Values), for a
+// campaign with several responses: ingest records a run as done only
+// when every response gave a usable value.
+func (s *State) TrialsOf(names []string) []campaign.Trial {
+	out := s.Trials()
+	for i, r := range s.TrialRuns() {
+		out[i].Values = make([]float64, len(names))
+		for k, n := range names {
+			out[i].Values[k] = r.Values[n].Value
+		}
+	}
+	return out
+}
+
 // points returns the setpoints of the runs whose status is one of sts.
 func (s *State) points(sts ...string) []campaign.Point {
 	var out []campaign.Point

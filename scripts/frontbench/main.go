@@ -234,10 +234,10 @@ func campaignShare(j job, budget int, cfg planner.Config) (float64, error) {
 		}
 	default:
 		cc := campaign.Config{Name: "bench", StateDir: "x", Seed: j.seed, MaxRuns: budget, Factors: p.Space,
-			Response: campaign.Response{Name: "f1", Goal: campaign.Minimise}}
-		responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise}}
+			Responses: []campaign.Response{{Name: "f1", Goal: campaign.Minimise, Worst: &p.Ref[0]}, {Name: "f2", Goal: campaign.Minimise, Worst: &p.Ref[1]}}}
+		cc.Normalise()
 		cfg.Front.Acquisition = j.method
-		fp := planner.NewFront(cc, responses, []float64{p.Ref[0], p.Ref[1]}, cfg)
+		fp := planner.NewFront(cc, cfg)
 		for i := range budget {
 			req := planner.Request{RunID: fmt.Sprintf("R%04d", i+1), Index: i}
 			for k, pt := range points {
