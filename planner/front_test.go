@@ -165,3 +165,51 @@ func BenchmarkFrontPropose(b *testing.B) {
 		})
 	}
 }
+
+// The report of a front: its members are the runs no run beats, best in
+// the first response first; the model is sure of members far from any
+// rival; the hypervolume never falls as runs are added and ends at what
+// all runs dominate; the reference point is in the responses' own units
+// (purity made large stays positive).
+func TestFrontReport(t *testing.T) {
+	p := testfn.ZDT1(3)
+	responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "g", Goal: campaign.Maximise}}
+	worst := []float64{1, -1}
+	trials, _ := frontCampaign(t, p, responses, worst, func(v [2]float64) []float64 { return []float64{v[0], -v[1]} }, 20, Default())
+	fp := NewFront(frontConfig(p.Space, 1, 20, responses, worst), Default())
+	r, err := fp.Report(t.Context(), trials, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	losses := make([][]float64, len(trials))
+	for i, tr := range trials {
+		losses[i] = []float64{tr.Values[0], -tr.Values[1]}
+	}
+	want := pareto.Front(losses)
+	if len(r.Members) != len(want) || len(r.OnFront) != len(want) {
+		t.Fatalf("members %v (sure %v), want the runs %v", r.Members, r.OnFront, want)
+	}
+	for k, m := range r.Members {
+		if k > 0 && losses[m][0] < losses[r.Members[k-1]][0] {
+			t.Errorf("members %v are not best-first in f1", r.Members)
+		}
+		if r.OnFront[k] < 0 || r.OnFront[k] > 1 {
+			t.Errorf("member %d: share %v", m, r.OnFront[k])
+		}
+	}
+	t.Logf("members %v, on the front in %v of %d draws", r.Members, r.OnFront, r.Draws)
+	if r.OnFront[0] < 0.9 {
+		t.Errorf("the member best in f1 is on the front in %.2f of the draws; the runs are exact, want at least 0.9", r.OnFront[0])
+	}
+	for k := 1; k < len(r.Hypervolume); k++ {
+		if r.Hypervolume[k] < r.Hypervolume[k-1] {
+			t.Fatalf("hypervolume fell at run %d: %v", k+1, r.Hypervolume)
+		}
+	}
+	if got, all := r.Hypervolume[len(r.Hypervolume)-1], pareto.Hypervolume(losses, []float64{1, 1}); math.Abs(got-all) > 1e-12 {
+		t.Errorf("last hypervolume %v, all runs dominate %v", got, all)
+	}
+	if r.Reference[0] != 1 || r.Reference[1] != -1 {
+		t.Errorf("reference %v, want the worst values given, (1, -1)", r.Reference)
+	}
+}

@@ -28,8 +28,12 @@ func Dominates(a, b []float64) bool {
 }
 
 // Front returns the indices, in ascending order, of the points no other
-// point dominates. Equal points are all on the front.
+// point dominates. Equal points are all on the front. In two responses it
+// sorts, O(n log n); in more it compares every pair.
 func Front(points [][]float64) []int {
+	if len(points) > 0 && len(points[0]) == 2 {
+		return front2(points)
+	}
 	var out []int
 	for i, p := range points {
 		dominated := false
@@ -43,6 +47,44 @@ func Front(points [][]float64) []int {
 			out = append(out, i)
 		}
 	}
+	return out
+}
+
+// front2 is Front in two responses: sorted by the first response, then
+// the second, a point is on the front when it has the lowest second value
+// among the points with its first value and a second value below every
+// point with a lower first value.
+func front2(points [][]float64) []int {
+	idx := make([]int, len(points))
+	for i := range idx {
+		idx[i] = i
+	}
+	slices.SortFunc(idx, func(a, b int) int {
+		if c := cmpFloat(points[a][0], points[b][0]); c != 0 {
+			return c
+		}
+		return cmpFloat(points[a][1], points[b][1])
+	})
+	var out []int
+	low := math.Inf(1)
+	for g := 0; g < len(idx); {
+		// The group of points sharing this first value.
+		end := g
+		for end < len(idx) && points[idx[end]][0] == points[idx[g]][0] {
+			end++
+		}
+		least := points[idx[g]][1]
+		if least < low {
+			for _, i := range idx[g:end] {
+				if points[i][1] == least {
+					out = append(out, i)
+				}
+			}
+			low = least
+		}
+		g = end
+	}
+	slices.Sort(out)
 	return out
 }
 

@@ -129,6 +129,31 @@ func TestHypervolumeAgainstInclusionExclusion(t *testing.T) {
 	}
 }
 
+// The sorting Front in two responses agrees with comparing every pair,
+// ties included.
+func TestFront2AgreesWithPairs(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	for range 500 {
+		pts := make([][]float64, 1+rng.IntN(12))
+		for i := range pts {
+			pts[i] = []float64{float64(rng.IntN(5)), float64(rng.IntN(5))}
+		}
+		var want []int
+		for i, p := range pts {
+			beaten := false
+			for j, q := range pts {
+				beaten = beaten || (j != i && Dominates(q, p))
+			}
+			if !beaten {
+				want = append(want, i)
+			}
+		}
+		if got := Front(pts); !reflect.DeepEqual(got, want) {
+			t.Fatalf("%v: front %v, want %v", pts, got, want)
+		}
+	}
+}
+
 // Worked by hand: (3, 4) is beaten by (2, 3), (2, 6) by (1, 5), (5, 5) by
 // (3, 4) and others; equal points share a front.
 func TestSortAndFront(t *testing.T) {
