@@ -200,3 +200,28 @@ func TestFiguresRefuseEmptyInput(t *testing.T) {
 		t.Error("leave-one-out of no runs")
 	}
 }
+
+// The front figure labels both responses with their units, marks every
+// run once in teal, rings each front member in ochre; the hypervolume
+// figure labels its axes.
+func TestFrontFigures(t *testing.T) {
+	energy := campaign.Response{Name: "energy", Unit: "kJ", Goal: campaign.Minimise}
+	xs := []float64{80, 90, 70, 85, 60}
+	ys := []float64{200, 260, 150, 300, 140}
+	f, err := FrontPair(yield, energy, xs, ys, []int{0, 1, 2}, 55, 280)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkSVG(t, f, []string{"yield (%)", "energy (kJ)"}, 5)
+	if n := strings.Count(string(f.SVG), "stroke:#B8731B"); n < 4 {
+		t.Errorf("%d ochre strokes; want the staircase and a ring for each of 3 members", n)
+	}
+	h, err := Hypervolume([]float64{0, 10, 10, 25, 40}, "% × kJ")
+	if err != nil {
+		t.Fatal(err)
+	}
+	checkSVG(t, h, []string{"completed run", "hypervolume (% × kJ)"}, 0)
+	if _, err := FrontPair(yield, energy, nil, nil, nil, 0, 0); err == nil {
+		t.Error("a front of no runs was drawn")
+	}
+}
