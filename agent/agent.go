@@ -1011,11 +1011,7 @@ func trialsOf(cc campaign.Config, st *record.State) []campaign.Trial {
 	if !cc.Several() {
 		return st.Trials()
 	}
-	names := make([]string, len(cc.Responses))
-	for i, r := range cc.Responses {
-		names[i] = r.Name
-	}
-	return st.TrialsOf(names)
+	return st.TrialsOf(cc.ResponseNames())
 }
 
 // responseValue is the run's value as the journal records it: the

@@ -40,6 +40,15 @@ func (c Config) AllResponses() []Response {
 	return []Response{c.Response}
 }
 
+// ResponseNames returns the names of AllResponses, in order.
+func (c Config) ResponseNames() []string {
+	var out []string
+	for _, r := range c.AllResponses() {
+		out = append(out, r.Name)
+	}
+	return out
+}
+
 // Normalise makes Response the first of Responses when several are given.
 func (c *Config) Normalise() {
 	if c.Several() {

@@ -56,6 +56,9 @@ type View struct {
 	Model       *Model
 	ModelNote   string // why there is no model yet
 	Optimum     *Optimum
+	// Front is the Pareto front of a campaign with several responses
+	// (nil otherwise, and before the model is asked for).
+	Front *Front
 	Figures     []plots.Figure
 	// PairX, PairY index the factors of the 2-D optimum plot (-1: none).
 	PairX, PairY int
@@ -295,7 +298,7 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 			v.Quarantined = append(v.Quarantined, Quarantined{Time: e.Time, File: e.File, Reason: e.Reason, Copy: e.Copy})
 		}
 	}
-	if b := st.Best(cfg.Campaign.Response); b != nil {
+	if b := st.Best(cfg.Campaign.Response); b != nil && !cfg.Campaign.Several() {
 		row := runRow(space, cfg.Campaign.Response, b)
 		v.Best = &row
 	}
@@ -332,7 +335,16 @@ func Build(ctx context.Context, cfg agent.Config, opt BuildOptions) (*View, erro
 			v.Audit = append(v.Audit, trail[i])
 		}
 	}
-	if opt.Model {
+	switch {
+	case opt.Model && cfg.Campaign.Several():
+		// With several responses there is no single optimum: the front
+		// and its figures stand in its place.
+		f, figs, err := SummariseFront(ctx, cfg, st)
+		if err != nil {
+			v.ModelNote = "no front yet: " + err.Error()
+		}
+		v.Front, v.Figures = f, figs
+	case opt.Model:
 		if err := v.model(ctx, cfg, st, opt); err != nil {
 			v.ModelNote = err.Error()
 		}

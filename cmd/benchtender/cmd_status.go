@@ -61,12 +61,44 @@ func cmdStatus(ctx context.Context, args []string, stdout io.Writer) error {
 	} else if st.Stopping != "" {
 		fmt.Fprintf(stdout, "stopping rule at the latest proposal: %s\n", st.Stopping)
 	}
+	if cfg.Campaign.Several() {
+		printFront(ctx, stdout, cfg, st)
+		return nil
+	}
 	resp := cfg.Campaign.Response
 	if b := st.Best(resp); b != nil {
 		fmt.Fprintf(stdout, "best so far: %s, %s = %.4g %s (%s)\n", b.ID, resp.Name, b.Value, resp.Unit, cfg.Campaign.Factors.Describe(b.Point))
 	}
 	printModel(ctx, stdout, cfg, st)
 	return nil
+}
+
+// printFront says which runs are on the Pareto front of a campaign with
+// several responses, how sure the model is of each, and what the front
+// dominates.
+func printFront(ctx context.Context, stdout io.Writer, cfg agent.Config, st *record.State) {
+	f, _, err := console.SummariseFront(ctx, cfg, st)
+	switch {
+	case err != nil:
+		fmt.Fprintf(stdout, "Pareto front: not worked out (%v)\n", err)
+		return
+	case len(f.Members) == 0:
+		fmt.Fprintln(stdout, "Pareto front: no completed run with every response yet")
+		return
+	}
+	fmt.Fprintf(stdout, "Pareto front: %d of %d completed runs (no other run is as good in every response and better in one)\n", len(f.Members), f.Runs)
+	for _, m := range f.Members {
+		sure := "on the front in " + fmt.Sprintf("%.0f%%", 100*m.Sure) + " of the model's draws"
+		if math.IsNaN(m.Sure) {
+			sure = "no model yet"
+		}
+		var sp []string
+		for _, v := range m.Setpoint {
+			sp = append(sp, strings.TrimSpace(v.Factor+" "+v.Text+" "+v.Unit))
+		}
+		fmt.Fprintf(stdout, "  %s  %s  (%s; %s)\n", m.ID, strings.Join(m.Values, ", "), strings.Join(sp, ", "), sure)
+	}
+	fmt.Fprintf(stdout, "hypervolume %.4g (%s), measured from the worst acceptable values: %s\n", f.Hypervolume, f.HypervolumeUnit, f.Reference)
 }
 
 // printModel fits the surrogate to the completed runs and says how well
