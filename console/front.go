@@ -44,6 +44,10 @@ type FrontRow struct {
 	// Sure is the share of posterior draws in which the run is on the
 	// front (NaN without a model).
 	Sure float64
+	// Beyond names the responses in which the run is worse than the worst
+	// acceptable value: on the front, yet adding nothing to what it
+	// dominates.
+	Beyond []string
 }
 
 // SummariseFront works out the front of the campaign's completed runs and
@@ -88,6 +92,11 @@ func SummariseFront(ctx context.Context, cfg agent.Config, st *record.State) (*F
 		}
 		if rep.OnFront != nil {
 			row.Sure = rep.OnFront[k]
+		}
+		for i, r := range cc.Responses {
+			if !r.Better(trials[m].Values[i], rep.Reference[i]) {
+				row.Beyond = append(row.Beyond, r.Name)
+			}
 		}
 		f.Members = append(f.Members, row)
 	}

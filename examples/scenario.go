@@ -3,6 +3,7 @@ package examples
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"benchtender/campaign"
 )
@@ -43,6 +44,57 @@ func ColourStrength(p campaign.Point) float64 {
 	h := (p[2] - optimumPoint[2]) / 30
 	q := t*t + f*f + h*h - 0.8*t*f + 0.3*t*h
 	return optimumValue * math.Exp(-0.5*q)
+}
+
+// Energy is the second invented law, for the demo with two responses: the
+// energy a batch takes in kWh, rising with the bath temperature above the
+// room's 20 degC times the hold time, plus the feed pump's share. Hot,
+// long batches are strong and costly; the trade-off between the two is
+// the demo's Pareto front.
+func Energy(p campaign.Point) float64 {
+	return 0.15 + 0.004*(p[0]-20)*p[2]/10 + 0.05*p[1]
+}
+
+// ConfigTwo is Config with two responses traded off: colour strength,
+// made large (nothing under 60 % worth making), against the energy a batch
+// takes, made small (nothing over 1.5 kWh).
+func ConfigTwo(maxRuns int, seed uint64) string {
+	text := Config(maxRuns, seed)
+	swap := func(from, to string) {
+		if !strings.Contains(text, from) {
+			panic("examples: the demo config no longer has " + from)
+		}
+		text = strings.Replace(text, from, to, 1)
+	}
+	swap(`name = "ochre7_demo"`, `name = "ochre7_energy_demo"`)
+	swap(`[campaign.response]
+name = "strength"
+unit = "%"
+goal = "maximise"
+# Colour strength cannot be negative: results below 0 are refused, and
+# the model's bands and the best achievable value are clipped at 0.
+min = 0.0
+`, `# Two responses traded off: the campaign looks for their Pareto front.
+[[campaign.responses]]
+name = "strength"
+unit = "%"
+goal = "maximise"
+min = 0.0
+worst = 60.0
+
+[[campaign.responses]]
+name = "energy"
+unit = "kWh"
+goal = "minimise"
+min = 0.0
+worst = 1.5
+`)
+	swap(`[formats.br2_export.factors.temperature]`, `[formats.br2_export.values.energy]
+column = "Energy"
+unit = "kWh"
+
+[formats.br2_export.factors.temperature]`)
+	return text
 }
 
 // Config returns the demo's configuration file text, with folders relative

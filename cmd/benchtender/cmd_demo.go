@@ -13,6 +13,7 @@ import (
 
 	"benchtender/agent"
 	"benchtender/campaign"
+	"benchtender/console"
 	"benchtender/examples"
 	"benchtender/examples/sim"
 	"benchtender/record"
@@ -29,12 +30,16 @@ func cmdDemo(ctx context.Context, args []string, stdout io.Writer) error {
 	dir := fs.String("dir", "", "folder for the demo's files (kept); default: a temporary folder, removed at the end")
 	runs := fs.Int("runs", 30, "number of runs")
 	seed := fs.Uint64("seed", 1, "seed of the planner and the simulated noise")
+	responses := fs.Int("responses", 1, "1: maximise colour strength; 2: trade colour strength off against the energy a batch takes (a Pareto front)")
 	pos, err := parseFlags(fs, args)
 	if err != nil {
 		return err
 	}
 	if len(pos) != 0 {
-		return usageError{"demo: takes no arguments besides --dir, --runs and --seed"}
+		return usageError{"demo: takes no arguments besides --dir, --runs, --seed and --responses"}
+	}
+	if *responses != 1 && *responses != 2 {
+		return usageError{"demo: --responses must be 1 or 2"}
 	}
 	if *runs < 2 {
 		return usageError{"demo: --runs must be at least 2"}
@@ -53,7 +58,11 @@ func cmdDemo(ctx context.Context, args []string, stdout io.Writer) error {
 		}
 	}
 	cfgPath := filepath.Join(root, "benchtender.toml")
-	if err := os.WriteFile(cfgPath, []byte(examples.Config(*runs, *seed)), 0o644); err != nil {
+	text := examples.Config(*runs, *seed)
+	if *responses == 2 {
+		text = examples.ConfigTwo(*runs, *seed)
+	}
+	if err := os.WriteFile(cfgPath, []byte(text), 0o644); err != nil {
 		return err
 	}
 	cfg, err := loadConfig(cfgPath)
@@ -84,7 +93,12 @@ func cmdDemo(ctx context.Context, args []string, stdout io.Writer) error {
 		Law: examples.ColourStrength, Noise: 0.3, Delay: 150 * time.Millisecond, Seed: *seed, Name: "Bench reactor BR-2",
 	}
 	fmt.Fprintf(stdout, "benchtender demo: an INVENTED bench process (simulated reactor, invented pigment \"Ochre 7\")\n")
-	fmt.Fprintf(stdout, "maximising colour strength over temperature, feed rate and hold time in %d runs; files in %s\n\n", *runs, root)
+	if *responses == 2 {
+		instr.Extra = []sim.Output{{Column: "Energy", Law: examples.Energy, Noise: 0.02}}
+		fmt.Fprintf(stdout, "trading colour strength (made large) off against the energy a batch takes (made small), over temperature, feed rate and hold time, in %d runs; files in %s\n\n", *runs, root)
+	} else {
+		fmt.Fprintf(stdout, "maximising colour strength over temperature, feed rate and hold time in %d runs; files in %s\n\n", *runs, root)
+	}
 
 	agentDone := make(chan error, 1)
 	simDone := make(chan error, 1)
@@ -130,7 +144,11 @@ loop:
 	if runErr != nil && !errors.Is(runErr, context.Canceled) {
 		return runErr
 	}
-	p.summary(time.Since(start), root, keep)
+	if cfg.Campaign.Several() {
+		p.frontSummary(ctx, time.Since(start), root, keep)
+	} else {
+		p.summary(time.Since(start), root, keep)
+	}
 	return runErr
 }
 
@@ -182,12 +200,43 @@ func (p *demoPrinter) result(e record.Entry) {
 			pt, method = r.Point, r.Method
 		}
 	}
+	if p.cfg.Campaign.Several() {
+		var vals []string
+		for _, r := range p.cfg.Campaign.Responses {
+			v := "-"
+			if st != nil && st.Runs[e.Run] != nil {
+				if rd, ok := st.Runs[e.Run].Values[r.Name]; ok {
+					v = fmt.Sprintf("%.2f", rd.Value)
+				}
+			}
+			vals = append(vals, fmt.Sprintf("%s %s %s", r.Name, v, r.Unit))
+		}
+		front := 0
+		if st != nil {
+			if f, _, err := console.SummariseFront(context.Background(), p.cfg, st); err == nil {
+				front = len(f.Members)
+			}
+		}
+		fmt.Fprintf(p.out, "run %2d/%d  %s  %-58s -> %s   front %d runs  (%s)\n", p.done, p.total, e.Run, p.cfg.Campaign.Factors.Describe(pt), strings.Join(vals, ", "), front, method)
+		return
+	}
 	resp := p.cfg.Campaign.Response
 	if p.bestRun == "" || resp.Better(e.Value, p.best) {
 		p.best, p.bestRun, p.bestAt = e.Value, e.Run, pt
 	}
 	fmt.Fprintf(p.out, "run %2d/%d  %s  %-58s -> %s %6.2f %s   best %6.2f  (%s)\n",
 		p.done, p.total, e.Run, p.cfg.Campaign.Factors.Describe(pt), resp.Name, e.Value, resp.Unit, p.best, method)
+}
+
+// frontSummary closes the demo with two responses: the front found.
+func (p *demoPrinter) frontSummary(ctx context.Context, took time.Duration, root string, keep bool) {
+	fmt.Fprintf(p.out, "\nsummary (invented scenario)\n")
+	fmt.Fprintf(p.out, "  runs done:      %d in %.1f s\n", p.done, took.Seconds())
+	st, err := readState(p.cfg)
+	if err == nil {
+		printFront(context.WithoutCancel(ctx), p.out, p.cfg, st)
+	}
+	p.files(root, keep)
 }
 
 func (p *demoPrinter) summary(took time.Duration, root string, keep bool) {
@@ -200,6 +249,11 @@ func (p *demoPrinter) summary(took time.Duration, root string, keep bool) {
 		fmt.Fprintf(p.out, "                  true law there: %.2f %s (%.2f%% below the true optimum)\n", examples.ColourStrength(p.bestAt), resp.Unit, 100*(val-examples.ColourStrength(p.bestAt))/val)
 	}
 	fmt.Fprintf(p.out, "  true optimum:   %s = %.2f %s at %s (the simulator's invented law)\n", resp.Name, val, resp.Unit, p.cfg.Campaign.Factors.Describe(opt))
+	p.files(root, keep)
+}
+
+// files says where the demo's files are, or that they were removed.
+func (p *demoPrinter) files(root string, keep bool) {
 	if keep {
 		fmt.Fprintf(p.out, "  files:          %s\n", root)
 		fmt.Fprintf(p.out, "                  config    %s\n", filepath.Join(root, "benchtender.toml"))

@@ -96,6 +96,9 @@ func printFront(ctx context.Context, stdout io.Writer, cfg agent.Config, st *rec
 		for _, v := range m.Setpoint {
 			sp = append(sp, strings.TrimSpace(v.Factor+" "+v.Text+" "+v.Unit))
 		}
+		if len(m.Beyond) > 0 {
+			sure += "; worse than the worst acceptable " + strings.Join(m.Beyond, " and ")
+		}
 		fmt.Fprintf(stdout, "  %s  %s  (%s; %s)\n", m.ID, strings.Join(m.Values, ", "), strings.Join(sp, ", "), sure)
 	}
 	fmt.Fprintf(stdout, "hypervolume %.4g (%s), measured from the worst acceptable values: %s\n", f.Hypervolume, f.HypervolumeUnit, f.Reference)

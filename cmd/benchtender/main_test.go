@@ -266,6 +266,43 @@ func TestDemo(t *testing.T) {
 	}
 }
 
+// The demo with two responses, through the real binary: proposals from
+// the expected hypervolume improvement after the design, a front that
+// grows in the run lines, and status and the report showing the front
+// with both responses against each other and the hypervolume over runs.
+func TestDemoTwoResponses(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs a campaign")
+	}
+	bin := binary(t)
+	dir := filepath.Join(t.TempDir(), "demo2")
+	out, code := runBin(t, bin, "demo", "--responses", "2", "--runs", "12", "--dir", dir)
+	if code != 0 {
+		t.Fatalf("demo: exit %d\n%s", code, out)
+	}
+	for _, want := range []string{"INVENTED", "trading colour strength", "run 12/12", "energy", "front ", "(expected hypervolume improvement)", "Pareto front:", "hypervolume", "worst acceptable values: strength 60 %, energy 1.5 kWh"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("demo output lacks %q:\n%s", want, out)
+		}
+	}
+	cfg := filepath.Join(dir, "benchtender.toml")
+	st, code := runBin(t, bin, "status", "--config", cfg)
+	if code != 0 || !strings.Contains(st, "Pareto front:") || !strings.Contains(st, "of the model's draws") || strings.Contains(st, "best so far") {
+		t.Errorf("status: exit %d\n%s", code, st)
+	}
+	report := filepath.Join(dir, "report.html")
+	out, code = runBin(t, bin, "report", "--config", cfg, "--out", report)
+	if code != 0 || !strings.Contains(out, "2 figures") {
+		t.Fatalf("report: exit %d\n%s", code, out)
+	}
+	b, _ := os.ReadFile(report)
+	for _, want := range []string{"Pareto front", "on the front in", "energy against strength", "Hypervolume of the front", "not a safety system"} {
+		if !strings.Contains(string(b), want) {
+			t.Errorf("report lacks %q", want)
+		}
+	}
+}
+
 // syncBuffer is a bytes.Buffer safe to write from a child's output
 // copier while the test reads it.
 type syncBuffer struct {

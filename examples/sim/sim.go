@@ -38,6 +38,18 @@ type Instrument struct {
 	Seed        uint64
 	// Name is the instrument's name in the preamble.
 	Name string
+	// Extra are further measured values, each written as a column after
+	// the unit column.
+	Extra []Output
+}
+
+// Output is a further value the instrument measures.
+type Output struct {
+	Column string
+	// Law gives the true value at a setpoint; Noise is its measurement
+	// noise (one standard deviation). Readings are never negative.
+	Law   func(campaign.Point) float64
+	Noise float64
 }
 
 // Run works until ctx is done. Each setpoint file is taken (moved into
@@ -118,7 +130,11 @@ func (in *Instrument) runOne(ctx context.Context, name, taken string, rng *rand.
 	// colour as 0, not as a negative strength (the demo's response has a
 	// physical range that starts at 0).
 	value := math.Max(0, in.Law(pt)+in.Noise*rng.NormFloat64())
-	return in.writeResult(ctx, run, pt, value)
+	extra := make([]float64, len(in.Extra))
+	for i, o := range in.Extra {
+		extra[i] = math.Max(0, o.Law(pt)+o.Noise*rng.NormFloat64())
+	}
+	return in.writeResult(ctx, run, pt, value, extra)
 }
 
 func (in *Instrument) readSetpoint(path string) (string, campaign.Point, error) {
@@ -156,7 +172,7 @@ func (in *Instrument) readSetpoint(path string) (string, campaign.Point, error) 
 
 // writeResult writes the export in two pieces with a pause between, like
 // instrument software that writes its preamble first.
-func (in *Instrument) writeResult(ctx context.Context, run string, pt campaign.Point, value float64) error {
+func (in *Instrument) writeResult(ctx context.Context, run string, pt campaign.Point, value float64, extra []float64) error {
 	comma := func(v float64, prec int) string {
 		return strings.Replace(strconv.FormatFloat(v, 'f', prec, 64), ".", ",", 1)
 	}
@@ -167,12 +183,19 @@ func (in *Instrument) writeResult(ctx context.Context, run string, pt campaign.P
 	fmt.Fprintf(&head, "Date: %s\r\n", now.Format("02.01.2006 15:04:05"))
 	fmt.Fprintf(&head, "Method: OCHRE-7 batch\r\n")
 	cols := append([]string{"Sample"}, in.Columns...)
-	head.WriteString(strings.Join(append(cols, "Strength", "Unit"), ";") + "\r\n")
+	cols = append(cols, "Strength", "Unit")
+	for _, o := range in.Extra {
+		cols = append(cols, o.Column)
+	}
+	head.WriteString(strings.Join(cols, ";") + "\r\n")
 	row := []string{run}
 	for _, v := range pt {
 		row = append(row, comma(v, 3))
 	}
 	row = append(row, comma(value, 2), "%")
+	for _, v := range extra {
+		row = append(row, comma(v, 3))
+	}
 	body := strings.Join(row, ";") + "\r\n"
 
 	name := fmt.Sprintf("BR2_%s_%s.csv", run, now.Format("20060102_150405"))
