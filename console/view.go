@@ -58,8 +58,8 @@ type View struct {
 	Optimum     *Optimum
 	// Front is the Pareto front of a campaign with several responses
 	// (nil otherwise, and before the model is asked for).
-	Front *Front
-	Figures     []plots.Figure
+	Front   *Front
+	Figures []plots.Figure
 	// PairX, PairY index the factors of the 2-D optimum plot (-1: none).
 	PairX, PairY int
 	Audit        []record.AuditEntry // newest first
