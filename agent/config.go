@@ -155,6 +155,9 @@ func (c Config) Validate(reg *parsers.Registry) campaign.Problems {
 	}
 	ps = append(ps, c.Planner.Validate().Prefix("planner")...)
 	ps = append(ps, c.Planner.ValidateFor(c.Campaign.Factors).Prefix("planner")...)
+	if c.Planner.Stop.HypervolumeBelow > 0 && !c.Campaign.Several() {
+		ps.Add("planner.stop.hypervolume_below", "is for campaigns with several responses ([[campaign.responses]]); this one has one")
+	}
 	ps = append(ps, c.validateInstruments()...)
 	ps = append(ps, c.validateFormats(reg)...)
 	ps = append(ps, c.Safety.Validate(c.Campaign.Factors).Prefix("safety")...)

@@ -145,10 +145,11 @@ func TestFrontConfigMistakes(t *testing.T) {
 		{"worst outside the range", "worst = 50.0", "worst = 150.0", "campaign.responses[0].worst", "outside the physical range"},
 		{"worst on one response", "goal = \"maximise\"\n", "goal = \"maximise\"\nworst = 60.0\n", "campaign.response.worst", "has no front"},
 		{"a response no format gives", "name = \"energy\"", "name = \"cost\"", "formats.bench_csv.values", `"cost" is not among`},
+		{"the front's stopping rule on one response", "[planner]\n", "[planner]\nstop.hypervolume_below = 0.002\n", "planner.stop.hypervolume_below", "several responses"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			text := base
-			if c.name != "both forms" && c.name != "one traded response" && c.name != "worst on one response" {
+			if c.name != "both forms" && c.name != "one traded response" && c.name != "worst on one response" && c.name != "the front's stopping rule on one response" {
 				text = strings.Replace(text, "[campaign.response]\nname = \"purity\"\nunit = \"%\"\ngoal = \"maximise\"\n", frontHead, 1)
 			}
 			if !strings.Contains(text, c.from) {

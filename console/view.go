@@ -390,6 +390,13 @@ func stopping(cfg agent.Config, st *record.State) (string, string) {
 	s := cfg.Planner.Stop
 	var rule []string
 	rule = append(rule, fmt.Sprintf("budget of %d runs", cfg.Campaign.MaxRuns))
+	if cfg.Campaign.Several() {
+		// The single-response tests do not apply to a front.
+		s = planner.StopConfig{HypervolumeBelow: s.HypervolumeBelow}
+		if s.HypervolumeBelow > 0 {
+			rule = append(rule, fmt.Sprintf("expected hypervolume improvement at most %g%% of the front's hypervolume", 100*s.HypervolumeBelow))
+		}
+	}
 	if len(s.Tolerance) > 0 {
 		var parts []string
 		for _, f := range cfg.Campaign.Factors {

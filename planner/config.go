@@ -105,6 +105,11 @@ type StopConfig struct {
 	// the optimum" means for the reported probability that the best run
 	// so far is that close.
 	ValueTolerance float64 `toml:"value_tolerance"`
+	// HypervolumeBelow, for campaigns with several responses, stops
+	// proposals when the largest expected hypervolume improvement is at
+	// most this share of the front's hypervolume (0.005: half a percent);
+	// 0 leaves the rule off.
+	HypervolumeBelow float64 `toml:"hypervolume_below"`
 }
 
 // Default returns the defaults.
@@ -175,6 +180,12 @@ func (c Config) Validate() campaign.Problems {
 	}
 	if c.Stop.EIBelow < 0 || math.IsNaN(c.Stop.EIBelow) {
 		ps.Add("stop.ei_below", "must not be negative, got %v", c.Stop.EIBelow)
+	}
+	if !(c.Stop.HypervolumeBelow >= 0 && c.Stop.HypervolumeBelow < 1) {
+		ps.Add("stop.hypervolume_below", "must be a share between 0 (off) and 1, got %v", c.Stop.HypervolumeBelow)
+	}
+	if c.Stop.HypervolumeBelow > 0 && c.Front.Acquisition == FrontScalarised {
+		ps.Add("stop.hypervolume_below", "needs front.acquisition = %q: the scalarisation works out no expected hypervolume improvement", FrontHypervolume)
 	}
 	if c.Stop.ValueTolerance < 0 || math.IsNaN(c.Stop.ValueTolerance) {
 		ps.Add("stop.value_tolerance", "must not be negative, got %v", c.Stop.ValueTolerance)

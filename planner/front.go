@@ -70,8 +70,10 @@ type FrontSummary struct {
 // responses off: one Gaussian process per response, fitted as for a
 // single response.
 type FrontPlanner struct {
-	cfg       Config
-	method    string
+	cfg    Config
+	method string
+	// stopBelow is Config.Stop.HypervolumeBelow (0: the rule is off).
+	stopBelow float64
 	responses []campaign.Response
 	// worst holds each response's worst acceptable value (NaN when not
 	// given), the reference point of the hypervolume.
@@ -116,7 +118,7 @@ func NewFront(cc campaign.Config, cfg Config) *FrontPlanner {
 	one.SetAside = false
 	one.Stop = StopConfig{}
 	one.Warp = cfg.Front.Warp
-	fp := &FrontPlanner{cfg: one, method: cfg.Front.Acquisition, responses: responses, worst: worst}
+	fp := &FrontPlanner{cfg: one, method: cfg.Front.Acquisition, stopBelow: cfg.Stop.HypervolumeBelow, responses: responses, worst: worst}
 	for _, r := range responses {
 		c := cc
 		r.Worst = nil // used here, not by the response's own planner
@@ -196,12 +198,34 @@ func (fp *FrontPlanner) Propose(ctx context.Context, req Request) (Result, error
 		res, err = fp.scalarised(ctx, req, losses, fs.Reference)
 	default:
 		res, err = fp.hypervolume(ctx, req, losses, fs)
+		if err == nil && fp.stopBelow > 0 {
+			res.Stopping = fp.stopping(fs)
+			if res.Stopping.Stop {
+				res.Stop = "the front is found well enough: " + res.Stopping.String()
+			}
+		}
 	}
 	if err != nil {
 		return Result{}, err
 	}
 	res.Front = fs
 	return res, nil
+}
+
+// stopping is the stopping rule of a campaign with several responses: the
+// largest expected hypervolume improvement, as a share of what the runs
+// already dominate, is at most stop.hypervolume_below. No run is then
+// expected to move the front out by more than that share.
+func (fp *FrontPlanner) stopping(fs *FrontSummary) *Stopping {
+	t := StopTest{Name: "expected hypervolume improvement", Threshold: 100 * fp.stopBelow, Unit: "% of the front's hypervolume", Done: true}
+	if fs.Hypervolume > 0 {
+		t.Value = 100 * fs.Improvement / fs.Hypervolume
+		t.Passed = t.Value <= t.Threshold
+	} else {
+		// Nothing dominated yet: no run inside the worst acceptable values.
+		t.Value = math.Inf(1)
+	}
+	return &Stopping{Tests: []StopTest{t}, Stop: t.Passed}
 }
 
 // single is the request for one response's planner, with the values

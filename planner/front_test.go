@@ -213,3 +213,39 @@ func TestFrontReport(t *testing.T) {
 		t.Errorf("reference %v, want the worst values given, (1, -1)", r.Reference)
 	}
 }
+
+// The front's stopping rule names its test with value and threshold at
+// every proposal once a model is fitted, fires when the largest expected
+// hypervolume improvement is a small enough share of the front's, and is
+// off (no verdict) unless configured; with the scalarisation it is a
+// config mistake.
+func TestFrontStoppingRule(t *testing.T) {
+	p := testfn.ZDT1(3)
+	min2 := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise}}
+	id := func(v [2]float64) []float64 { return v[:] }
+	_, off := frontCampaign(t, p, min2, []float64{1, 1}, id, 12, Default())
+	if off.Stopping != nil || off.Stop != "" {
+		t.Errorf("rule off: verdict %v, stop %q", off.Stopping, off.Stop)
+	}
+	cfg := Default()
+	cfg.Stop.HypervolumeBelow = 0.9 // fires as soon as anything is dominated
+	trials, _ := frontCampaign(t, p, min2, []float64{1, 1}, id, 12, Default())
+	fp := NewFront(frontConfig(p.Space, 1, 12, min2, []float64{1, 1}), cfg)
+	res, err := fp.Propose(t.Context(), Request{RunID: "R0013", Index: 12, Trials: trials})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Stopping == nil || len(res.Stopping.Tests) != 1 || !strings.Contains(res.Stopping.String(), "expected hypervolume improvement") ||
+		!strings.Contains(res.Stopping.String(), "of at most 90 % of the front's hypervolume: met") || !strings.HasPrefix(res.Stop, "the front is found well enough") {
+		t.Errorf("verdict %q, stop %q", res.Stopping.String(), res.Stop)
+	}
+	cfg.Stop.HypervolumeBelow = 1e-9
+	res, err = NewFront(frontConfig(p.Space, 1, 12, min2, []float64{1, 1}), cfg).Propose(t.Context(), Request{RunID: "R0013", Index: 12, Trials: trials})
+	if err != nil || res.Stop != "" || !strings.HasSuffix(res.Stopping.String(), "not met") {
+		t.Errorf("a tiny threshold: verdict %q, stop %q, %v", res.Stopping.String(), res.Stop, err)
+	}
+	cfg.Front.Acquisition = FrontScalarised
+	if ps := cfg.Validate(); !strings.Contains(fmt.Sprint(ps), "stop.hypervolume_below") {
+		t.Errorf("the rule with the scalarisation: %v", ps)
+	}
+}

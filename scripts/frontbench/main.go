@@ -57,6 +57,10 @@ type job struct {
 type outcome struct {
 	share float64
 	took  time.Duration
+	// stopped is the number of runs after which the stopping rule fired
+	// (0: it did not), reached the first run count at which the share
+	// was at least 95% (0: never), with -stop.
+	stopped, reached int
 }
 
 func run(args []string, stdout, stderr io.Writer) error {
@@ -69,6 +73,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 	parallel := fs.Int("parallel", runtime.GOMAXPROCS(0), "campaigns run at once")
 	csvPath := fs.String("csv", "", "write every campaign's share to this CSV file")
 	def := planner.Default()
+	stopBelow := fs.Float64("stop", 0, "turn the stopping rule on at this stop.hypervolume_below (e.g. 0.005) and stop each planner campaign when it fires")
 	warp := fs.Bool("warp", def.Front.Warp, "the output warping of each response's model")
 	kernel := fs.String("kernel", def.Kernel, "kernel of the Gaussian processes")
 	if err := fs.Parse(args); err != nil {
@@ -76,6 +81,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 	}
 	cfg := def
 	cfg.Front.Warp, cfg.Kernel = *warp, *kernel
+	cfg.Stop.HypervolumeBelow = *stopBelow
 	var pairs []testfn.Pair
 	for _, p := range testfn.Pairs() {
 		if *only == "" || slicesContains(strings.Split(*only, ","), pairName(p)) || slicesContains(strings.Split(*only, ","), p.Name) {
@@ -107,14 +113,15 @@ func run(args []string, stdout, stderr io.Writer) error {
 			defer wg.Done()
 			for i := range next {
 				t0 := time.Now()
-				share, err := campaignShare(jobs[i], *budget, cfg)
+				o, err := campaignShare(jobs[i], *budget, cfg)
 				mu.Lock()
 				done++
 				if err != nil && firstErr == nil {
 					firstErr = fmt.Errorf("%s, %s, seed %d: %w", pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, err)
 				}
-				out[i] = outcome{share: share, took: time.Since(t0)}
-				fmt.Fprintf(stderr, "\r%d/%d campaigns, %s elapsed (%s, %s, seed %d: %.3f)    ", done, len(jobs), time.Since(start).Round(time.Second), pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, share)
+				o.took = time.Since(t0)
+				out[i] = o
+				fmt.Fprintf(stderr, "\r%d/%d campaigns, %s elapsed (%s, %s, seed %d: %.3f)    ", done, len(jobs), time.Since(start).Round(time.Second), pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, o.share)
 				mu.Unlock()
 			}
 		}()
@@ -133,13 +140,17 @@ func run(args []string, stdout, stderr io.Writer) error {
 		if err != nil {
 			return err
 		}
-		fmt.Fprintln(f, "problem,method,seed,runs,share,seconds")
+		fmt.Fprintln(f, "problem,method,seed,runs,share,seconds,stopped_at,reached_95_at")
 		for i, j := range jobs {
-			fmt.Fprintf(f, "%s,%s,%d,%d,%.5f,%.2f\n", pairName(j.pair), j.method, j.seed, *budget, out[i].share, out[i].took.Seconds())
+			fmt.Fprintf(f, "%s,%s,%d,%d,%.5f,%.2f,%d,%d\n", pairName(j.pair), j.method, j.seed, *budget, out[i].share, out[i].took.Seconds(), out[i].stopped, out[i].reached)
 		}
 		if err := f.Close(); err != nil {
 			return err
 		}
+	}
+	if *stopBelow > 0 {
+		stopTable(stdout, pairs, jobs, out, *stopBelow, *budget)
+		return nil
 	}
 	fmt.Fprintf(stdout, "Share of the true front's hypervolume after %d runs, %d seeds (%d to %d):\n\n", *budget, *seeds, *first, *first+uint64(*seeds)-1)
 	fmt.Fprintln(stdout, "| problem | factors | method | median | 10th percentile | mean | ≥ 95% | median ÷ Latin hypercube's | s per campaign |")
@@ -177,6 +188,47 @@ func run(args []string, stdout, stderr io.Writer) error {
 	return nil
 }
 
+// stopTable reports the stopping rule: when it fired, the share of the
+// front found then, and how it stands against reaching 95%.
+func stopTable(stdout io.Writer, pairs []testfn.Pair, jobs []job, out []outcome, below float64, budget int) {
+	fmt.Fprintf(stdout, "Stopping rule at hypervolume_below = %g, budget %d runs:\n\n", below, budget)
+	fmt.Fprintln(stdout, "| problem | method | fired | median run it fired | median share then | fired before 95% | runs after 95% (median) |")
+	fmt.Fprintln(stdout, "| --- | --- | --- | --- | --- | --- | --- |")
+	for _, p := range pairs {
+		byMethod := map[string][]outcome{}
+		var methods []string
+		for i, j := range jobs {
+			if pairName(j.pair) == pairName(p) {
+				if _, ok := byMethod[j.method]; !ok {
+					methods = append(methods, j.method)
+				}
+				byMethod[j.method] = append(byMethod[j.method], out[i])
+			}
+		}
+		for _, m := range methods {
+			var at, share, after []float64
+			early := 0
+			for _, o := range byMethod[m] {
+				if o.stopped == 0 {
+					continue
+				}
+				at = append(at, float64(o.stopped))
+				share = append(share, o.share)
+				if o.reached == 0 || o.reached > o.stopped {
+					early++
+				} else {
+					after = append(after, float64(o.stopped-o.reached))
+				}
+			}
+			afterText := "–"
+			if len(after) > 0 {
+				afterText = fmt.Sprintf("%.0f", quantile(after, 0.5))
+			}
+			fmt.Fprintf(stdout, "| %s | %s | %d/%d | %.0f | %.3f | %d | %s |\n", pairName(p), m, len(at), len(byMethod[m]), quantile(at, 0.5), quantile(share, 0.5), early, afterText)
+		}
+	}
+}
+
 func pairName(p testfn.Pair) string { return fmt.Sprintf("%s %d", p.Name, p.Space.Dim()) }
 
 func slicesContains(xs []string, s string) bool {
@@ -205,16 +257,21 @@ func quantile(v []float64, q float64) float64 {
 }
 
 // campaignShare runs one campaign and returns the hypervolume its runs
-// dominate as a share of the true front's.
-func campaignShare(j job, budget int, cfg planner.Config) (float64, error) {
+// dominate as a share of the true front's (and with the stopping rule on,
+// when it fired and when the share first reached 95%).
+func campaignShare(j job, budget int, cfg planner.Config) (outcome, error) {
 	p := j.pair
 	d := p.Space.Dim()
 	var points []campaign.Point
 	var values [][]float64
+	var o outcome
 	observe := func(pt campaign.Point) {
 		v := p.F(pt)
 		points = append(points, pt)
 		values = append(values, []float64{v[0], v[1]})
+		if o.reached == 0 && pareto.Hypervolume(values, p.Ref[:])/p.FrontHV >= 0.95 {
+			o.reached = len(values)
+		}
 	}
 	switch j.method {
 	case methodRandom:
@@ -245,10 +302,15 @@ func campaignShare(j job, budget int, cfg planner.Config) (float64, error) {
 			}
 			res, err := fp.Propose(context.Background(), req)
 			if err != nil {
-				return 0, fmt.Errorf("run %d: %w", i+1, err)
+				return o, fmt.Errorf("run %d: %w", i+1, err)
+			}
+			if res.Stop != "" {
+				o.stopped = len(points)
+				break
 			}
 			observe(res.Proposal.Point)
 		}
 	}
-	return pareto.Hypervolume(values, p.Ref[:]) / p.FrontHV, nil
+	o.share = pareto.Hypervolume(values, p.Ref[:]) / p.FrontHV
+	return o, nil
 }
