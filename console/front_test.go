@@ -123,3 +123,36 @@ func names(v *View) []string {
 	}
 	return out
 }
+
+// With three responses the front is shown as a panel for each pair (three)
+// besides the hypervolume over runs, each panel ringing the runs no run
+// beats in its pair.
+func TestFrontPanelsForThreeResponses(t *testing.T) {
+	cc := campaign.Config{Name: "three", StateDir: t.TempDir(), Seed: 1, MaxRuns: 20,
+		Factors: campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Responses: []campaign.Response{{Name: "y1", Goal: campaign.Minimise}, {Name: "y2", Goal: campaign.Minimise}, {Name: "y3", Goal: campaign.Maximise}}}
+	cc.Normalise()
+	cfg := agent.DefaultConfig()
+	cfg.Campaign = cc
+	var es []record.Entry
+	for i := range 6 {
+		id := fmt.Sprintf("R%04d", i+1)
+		a, b := float64(i)/5, float64((i*3)%6)/5
+		es = append(es,
+			record.Entry{Kind: record.KindProposal, Run: id, Point: campaign.Point{a, b}},
+			record.Entry{Kind: record.KindHandoff, Run: id, Point: campaign.Point{a, b}, ActionID: id},
+			record.Entry{Kind: record.KindHandoffOK, Run: id, ActionID: id},
+			record.Entry{Kind: record.KindIngest, Run: id, SHA256: id, Value: a, Values: map[string]record.Reading{"y1": {Value: a}, "y2": {Value: 1 - a + b}, "y3": {Value: b}}})
+	}
+	f, figs, err := SummariseFront(t.Context(), cfg, record.Replay(es))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got []string
+	for _, fig := range figs {
+		got = append(got, fig.Name)
+	}
+	if strings.Join(got, " ") != "front-y1-y2 front-y1-y3 front-y2-y3 hypervolume" || len(f.Members) == 0 {
+		t.Errorf("figures %v, members %d", got, len(f.Members))
+	}
+}

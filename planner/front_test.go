@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"sort"
 	"strings"
 	"testing"
 
@@ -247,5 +248,46 @@ func TestFrontStoppingRule(t *testing.T) {
 	cfg.Front.Acquisition = FrontScalarised
 	if ps := cfg.Validate(); !strings.Contains(fmt.Sprint(ps), "stop.hypervolume_below") {
 		t.Errorf("the rule with the scalarisation: %v", ps)
+	}
+}
+
+// Property, as for one response: whatever the factors (integers, levels,
+// categories) and constraints, every proposal of a campaign trading three
+// responses off is a valid setpoint breaking no constraint, through the
+// design and the model phases; the report's members are the runs no run
+// beats in all three.
+func TestFrontThreeResponsesMixedFactors(t *testing.T) {
+	rng := rand.New(rand.NewPCG(41, 42))
+	cfg := Default()
+	cfg.Candidates = 300
+	three := []campaign.Response{{Name: "y1", Goal: campaign.Minimise}, {Name: "y2", Goal: campaign.Maximise}, {Name: "y3", Goal: campaign.Minimise}}
+	for c := 0; c < 10; c++ {
+		cc := randomCampaign(rng, uint64(c))
+		cc.Response, cc.Responses = campaign.Response{}, three
+		cc.Normalise()
+		fp := NewFront(cc, cfg)
+		single := New(cc, cfg)
+		var trials []campaign.Trial
+		var losses [][]float64
+		for i := 0; i < 10; i++ {
+			res, err := fp.Propose(t.Context(), Request{RunID: "R", Index: i, Trials: trials})
+			if err != nil {
+				t.Fatalf("campaign %d proposal %d: %v", c, i, err)
+			}
+			assertValid(t, single, c, i, res)
+			pt := res.Proposal.Point
+			v := []float64{math.Sin(5*pt[0]) + pt[1], pt[0] * pt[1], (pt[0]-0.5)*(pt[0]-0.5) + 0.1*pt[len(pt)-1]}
+			trials = append(trials, campaign.Trial{Point: pt, Values: v})
+			losses = append(losses, []float64{v[0], -v[1], v[2]})
+		}
+		r, err := fp.Report(t.Context(), trials, rand.New(rand.NewPCG(1, 1)))
+		if err != nil {
+			t.Fatalf("campaign %d: report: %v", c, err)
+		}
+		got := append([]int(nil), r.Members...)
+		sort.Ints(got)
+		if fmt.Sprint(got) != fmt.Sprint(pareto.Front(losses)) || len(r.OnFront) != len(got) {
+			t.Fatalf("campaign %d: members %v (sure %v), want %v", c, r.Members, r.OnFront, pareto.Front(losses))
+		}
 	}
 }
