@@ -129,7 +129,7 @@ func names(v *View) []string {
 // beats in its pair.
 func TestFrontPanelsForThreeResponses(t *testing.T) {
 	cc := campaign.Config{Name: "three", StateDir: t.TempDir(), Seed: 1, MaxRuns: 20,
-		Factors: campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Factors:   campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
 		Responses: []campaign.Response{{Name: "y1", Goal: campaign.Minimise}, {Name: "y2", Goal: campaign.Minimise}, {Name: "y3", Goal: campaign.Maximise}}}
 	cc.Normalise()
 	cfg := agent.DefaultConfig()
