@@ -88,6 +88,10 @@ type FrontConfig struct {
 	// Warp turns the output warping on for each response's model;
 	// default off (see NewFront).
 	Warp bool `toml:"warp"`
+	// Noisy, on by default, measures the expected hypervolume improvement
+	// against the runs' true values as the models draw them, not against
+	// their measured values (see FrontPlanner.hypervolume).
+	Noisy bool `toml:"noisy"`
 }
 
 // StopConfig is the [planner.stop] section: proposals stop when the 90%
@@ -116,7 +120,7 @@ type StopConfig struct {
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1, HoldFitFrom: 100,
 		Kernel: "matern32", Warp: true, SetAside: true, Batch: 1, Samples: 64,
-		Front: FrontConfig{Acquisition: FrontHypervolume}}
+		Front: FrontConfig{Acquisition: FrontHypervolume, Noisy: true}}
 }
 
 // Validate reports every problem, keyed relative to the section.

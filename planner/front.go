@@ -74,6 +74,8 @@ type FrontPlanner struct {
 	method string
 	// stopBelow is Config.Stop.HypervolumeBelow (0: the rule is off).
 	stopBelow float64
+	// noisy is FrontConfig.Noisy.
+	noisy     bool
 	responses []campaign.Response
 	// worst holds each response's worst acceptable value (NaN when not
 	// given), the reference point of the hypervolume.
@@ -118,7 +120,7 @@ func NewFront(cc campaign.Config, cfg Config) *FrontPlanner {
 	one.SetAside = false
 	one.Stop = StopConfig{}
 	one.Warp = cfg.Front.Warp
-	fp := &FrontPlanner{cfg: one, method: cfg.Front.Acquisition, stopBelow: cfg.Stop.HypervolumeBelow, responses: responses, worst: worst}
+	fp := &FrontPlanner{cfg: one, method: cfg.Front.Acquisition, stopBelow: cfg.Stop.HypervolumeBelow, noisy: cfg.Front.Noisy, responses: responses, worst: worst}
 	for _, r := range responses {
 		c := cc
 		r.Worst = nil // used here, not by the response's own planner
@@ -345,7 +347,31 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 			z[d][i] = rng.NormFloat64()
 		}
 	}
-	improvement := fp.improvement(front, ref)
+	// Against what is the improvement measured? The runs' measured values
+	// carry noise: a run measured luckily would stand as a front no point
+	// can pass. With noisy on, each draw takes the true values of the runs
+	// (those of the first few non-dominated fronts, where the front can
+	// be) from the models as well, jointly, and the improvement is
+	// measured against that draw's front (the noisy expected hypervolume
+	// improvement of Daulton, Balandat and Bakshy 2021, "Parallel Bayesian
+	// optimization of multiple noisy objectives with expected hypervolume
+	// improvement", NeurIPS; here the candidate's draw is taken
+	// independent of the runs' draw, which their joint form does not).
+	improvement := make([]func([]float64) float64, hviDraws)
+	if fp.noisy {
+		drawn, err := fp.runDraws(losses, req, fits, p, rng)
+		if err != nil {
+			return Result{}, err
+		}
+		for d := range improvement {
+			improvement[d] = fp.improvement(append(drawn[d], front[len(losses):]...), ref)
+		}
+	} else {
+		plain := fp.improvement(front, ref)
+		for d := range improvement {
+			improvement[d] = plain
+		}
+	}
 	feasible, err := p.feasibility(fp.single(req, make([]float64, len(req.Trials))).Trials, req.Failed, rng)
 	if err != nil {
 		return Result{}, err
@@ -387,11 +413,11 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 			// minus the mean distance of the draws from the region that
 			// would, so that the search still knows which way to go.
 			gain, gap := 0.0, 0.0
-			for _, zd := range z {
+			for d, zd := range z {
 				for i := range y {
 					y[i] = fits[i].loss(mu[i][j] + sd[i][j]*zd[i])
 				}
-				gain += improvement(y)
+				gain += improvement[d](y)
 				for i := range y {
 					gap += math.Max(0, y[i]-ref[i])
 				}
@@ -412,6 +438,46 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 	}
 	fs.Improvement = math.Max(0, s)
 	return p.result(req.RunID, u, MethodHypervolume, s, Result{})
+}
+
+// maxDrawnRuns bounds the runs whose true values are drawn for the noisy
+// expected hypervolume improvement: those of the first non-dominated
+// fronts, up to this many.
+const maxDrawnRuns = 100
+
+// runDraws returns hviDraws joint draws of the true losses of the runs on
+// the first non-dominated fronts (a draw, then a run, then a response).
+func (fp *FrontPlanner) runDraws(losses [][]float64, req Request, fits []*Fitted, p *Planner, rng *rand.Rand) ([][][]float64, error) {
+	var runs []int
+	for _, f := range pareto.Sort(losses) {
+		if len(runs)+len(f) > maxDrawnRuns && len(runs) > 0 {
+			break
+		}
+		runs = append(runs, f...)
+	}
+	xs := make([][]float64, len(runs))
+	for j, r := range runs {
+		xs[j] = p.encode(p.space.ToUnit(nil, req.Trials[r].Point))
+	}
+	out := make([][][]float64, hviDraws)
+	for d := range out {
+		out[d] = make([][]float64, len(runs))
+		for j := range out[d] {
+			out[d][j] = make([]float64, len(fits))
+		}
+	}
+	for i, ft := range fits {
+		s, _, err := ft.Model.Sample(xs, hviDraws, rng)
+		if err != nil {
+			return nil, fmt.Errorf("planner: %s: draws at the runs: %w", fp.responses[i].Name, err)
+		}
+		for d := range out {
+			for j := range runs {
+				out[d][j][i] = ft.loss(s.At(d, j))
+			}
+		}
+	}
+	return out, nil
 }
 
 // improvement returns the hypervolume a point of losses adds to front: a

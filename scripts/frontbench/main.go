@@ -76,11 +76,13 @@ func run(args []string, stdout, stderr io.Writer) error {
 	stopBelow := fs.Float64("stop", 0, "turn the stopping rule on at this stop.hypervolume_below (e.g. 0.005) and stop each planner campaign when it fires")
 	warp := fs.Bool("warp", def.Front.Warp, "the output warping of each response's model")
 	kernel := fs.String("kernel", def.Kernel, "kernel of the Gaussian processes")
+	noisy := fs.Bool("noisy", def.Front.Noisy, "measure the expected hypervolume improvement against the runs' values as the models draw them")
+	noise := fs.Float64("noise", 0, "measurement noise: standard deviation as a share of each response's span from the front's best to the reference point (judged on true values)")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
 	cfg := def
-	cfg.Front.Warp, cfg.Kernel = *warp, *kernel
+	cfg.Front.Warp, cfg.Kernel, cfg.Front.Noisy = *warp, *kernel, *noisy
 	cfg.Stop.HypervolumeBelow = *stopBelow
 	var pairs []testfn.Pair
 	for _, p := range testfn.Pairs() {
@@ -113,7 +115,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 			defer wg.Done()
 			for i := range next {
 				t0 := time.Now()
-				o, err := campaignShare(jobs[i], *budget, cfg)
+				o, err := campaignShare(jobs[i], *budget, cfg, *noise)
 				mu.Lock()
 				done++
 				if err != nil && firstErr == nil {
@@ -259,16 +261,28 @@ func quantile(v []float64, q float64) float64 {
 // campaignShare runs one campaign and returns the hypervolume its runs
 // dominate as a share of the true front's (and with the stopping rule on,
 // when it fired and when the share first reached 95%).
-func campaignShare(j job, budget int, cfg planner.Config) (outcome, error) {
+func campaignShare(j job, budget int, cfg planner.Config, noise float64) (outcome, error) {
 	p := j.pair
 	d := p.Space.Dim()
 	var points []campaign.Point
-	var values [][]float64
+	var values, measured [][]float64 // true values, and as the planner sees them
 	var o outcome
+	var sd [2]float64
+	if noise > 0 {
+		for k := range sd {
+			best := math.Inf(1)
+			for _, q := range p.Front(200) {
+				best = math.Min(best, q[k])
+			}
+			sd[k] = noise * (p.Ref[k] - best)
+		}
+	}
+	noiseRng := rand.New(rand.NewPCG(j.seed, 0x9015e))
 	observe := func(pt campaign.Point) {
 		v := p.F(pt)
 		points = append(points, pt)
 		values = append(values, []float64{v[0], v[1]})
+		measured = append(measured, []float64{v[0] + sd[0]*noiseRng.NormFloat64(), v[1] + sd[1]*noiseRng.NormFloat64()})
 		if o.reached == 0 && pareto.Hypervolume(values, p.Ref[:])/p.FrontHV >= 0.95 {
 			o.reached = len(values)
 		}
@@ -298,7 +312,7 @@ func campaignShare(j job, budget int, cfg planner.Config) (outcome, error) {
 		for i := range budget {
 			req := planner.Request{RunID: fmt.Sprintf("R%04d", i+1), Index: i}
 			for k, pt := range points {
-				req.Trials = append(req.Trials, campaign.Trial{Point: pt, Values: values[k]})
+				req.Trials = append(req.Trials, campaign.Trial{Point: pt, Values: measured[k]})
 			}
 			res, err := fp.Propose(context.Background(), req)
 			if err != nil {
