@@ -166,6 +166,8 @@ func (a *Agent) auditEntryAt(e record.Entry, at time.Time) error {
 		ae.Subject, ae.Corrects = fmt.Sprintf("audit entry %d", e.Corrects), e.Corrects
 	case record.KindAllStop:
 		ae.Actor, ae.Action, ae.Subject = e.By, "all-stop", "every handoff"
+	case record.KindRefit:
+		ae.Actor, ae.Name, ae.Action, ae.Subject = e.By, e.Name, "model refit requested", "model"
 	default:
 		ae.Action = e.Kind
 	}

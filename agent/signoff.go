@@ -53,10 +53,13 @@ type SignoffRequest struct {
 }
 
 // Actions besides approve and reject: resume clears an all-stop; correct
-// adds a correction to the audit trail, pointing at the entry it corrects.
+// adds a correction to the audit trail, pointing at the entry it corrects;
+// refit has the next proposal fit the model's hyperparameters afresh,
+// from every start, instead of holding them (planner hold_fit_from).
 const (
 	ActionResume  = "resume"
 	ActionCorrect = "correct"
+	ActionRefit   = "refit"
 )
 
 // Validate checks the request on its own; whether the run is held is for
@@ -66,13 +69,13 @@ func (r SignoffRequest) Validate() error {
 		return fmt.Errorf("sign-off: %q is not a run id", r.Run)
 	}
 	switch r.Action {
-	case record.ActionApprove, record.ActionReject, ActionResume:
+	case record.ActionApprove, record.ActionReject, ActionResume, ActionRefit:
 	case ActionCorrect:
 		if r.Corrects < 1 {
 			return errors.New("correction: name the audit entry it corrects (--entry)")
 		}
 	default:
-		return fmt.Errorf("sign-off: action must be %q, %q, %q or %q, got %q", record.ActionApprove, record.ActionReject, ActionResume, ActionCorrect, r.Action)
+		return fmt.Errorf("sign-off: action must be %q, %q, %q, %q or %q, got %q", record.ActionApprove, record.ActionReject, ActionResume, ActionCorrect, ActionRefit, r.Action)
 	}
 	if strings.TrimSpace(r.By) == "" {
 		return errors.New("sign-off: who signs (--by, a user id) is required")
@@ -138,6 +141,9 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 	if req.Action == ActionCorrect && req.Run == "" {
 		req.Run = "audit"
 	}
+	if req.Action == ActionRefit && req.Run == "" {
+		req.Run = "model"
+	}
 	if err := req.Validate(); err != nil {
 		return "", err
 	}
@@ -167,6 +173,8 @@ func RequestSignoff(cfg Config, req SignoffRequest) (string, error) {
 		if err := os.Remove(allStopPath(cfg)); err != nil && !errors.Is(err, os.ErrNotExist) {
 			return "", fmt.Errorf("resume: %w", err)
 		}
+	case req.Action == ActionRefit:
+		// About the model, not a run.
 	case !ok:
 		return "", fmt.Errorf("sign-off: campaign %s has no run %s", cfg.Campaign.Name, req.Run)
 	case r.Status != record.StatusHeld:

@@ -32,6 +32,11 @@ func (a *Agent) applySignoffs() error {
 			if err := a.record(entry); err != nil {
 				return err
 			}
+			if entry.Kind == record.KindRefit {
+				// The next proposal fits afresh; the one after holds
+				// what it fitted, as usual.
+				a.lastModel, a.warm = nil, nil
+			}
 			a.log.Info().Str("run", entry.Run).Str("action", entry.Action).Bool("first_of_two", entry.Partial).
 				Str("by", entry.By).Str("name", entry.Name).Str("reason", entry.Reason).Msg("sign-off applied")
 		}
@@ -58,6 +63,10 @@ func (a *Agent) judgeSignoff(it inboxItem) (record.Entry, string) {
 	e := record.Entry{Kind: record.KindSignoff, Run: req.Run, Action: req.Action, By: req.By, Name: req.Name, Reason: req.Reason, Request: req.ID, Limits: a.gate.Version()}
 	if req.Action == ActionCorrect {
 		e.Kind, e.Corrects = record.KindCorrection, req.Corrects
+		return e, ""
+	}
+	if req.Action == ActionRefit {
+		e.Kind = record.KindRefit
 		return e, ""
 	}
 	if req.Action == ActionResume {

@@ -35,6 +35,7 @@ const (
 	KindResume     = "resume"     // a person cleared the all-stop
 	KindCorrection = "correction" // a person corrects an earlier audit entry
 	KindSetAside   = "set-aside"  // the planner set a stalled basin aside, for good
+	KindRefit      = "refit"      // a person asked for the model to be fitted afresh
 )
 
 // Sign-off actions.

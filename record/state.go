@@ -205,7 +205,7 @@ func (s *State) Apply(e Entry) {
 		}
 	case KindAllStop:
 		s.AllStop = e.Reason
-	case KindCorrection:
+	case KindCorrection, KindRefit:
 		if e.Request != "" {
 			s.Requests[e.Request] = true
 		}

@@ -69,8 +69,8 @@ func setHint(space campaign.Space, first, held campaign.Point) string {
 	return " (--set " + strings.Join(parts, ",") + ")"
 }
 
-// cmdSignoff approves or rejects a held move, or clears an all-stop
-// (resume). The decision goes into the campaign's inbox; the daemon
+// cmdSignoff approves or rejects a held move, clears an all-stop
+// (resume), or asks for the model to be fitted afresh (refit). The decision goes into the campaign's inbox; the daemon
 // applies it, checks it once more and records it.
 func cmdSignoff(action string, args []string, stdout io.Writer) error {
 	fs := flag.NewFlagSet(action, flag.ContinueOnError)
@@ -85,7 +85,7 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 		return err
 	}
 	want := 1
-	if action == "resume" {
+	if action == "resume" || action == "refit" {
 		want = 0
 	}
 	if len(pos) != want {
@@ -108,6 +108,8 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 		req.Action, req.Run = record.ActionApprove, pos[0]
 	case "reject":
 		req.Action, req.Run = record.ActionReject, pos[0]
+	case "refit":
+		req.Action = agent.ActionRefit
 	default:
 		req.Action = agent.ActionResume
 	}
@@ -130,8 +132,11 @@ func cmdSignoff(action string, args []string, stdout io.Writer) error {
 		return err
 	}
 	subject := "run " + req.Run
-	if action == "resume" {
+	switch action {
+	case "resume":
 		subject = "the all-stop"
+	case "refit":
+		subject = "the model (the next proposal fits its hyperparameters afresh)"
 	}
 	fmt.Fprintf(stdout, "%s of %s by %s (%s) recorded in %s; the running campaign checks and applies it within a second (or at its next start)\n",
 		action, subject, *name, *by, filepath.Base(file))

@@ -11,6 +11,7 @@
 //	benchtender reject RUN --by ID --name NAME --reason TEXT [--config C]
 //	benchtender all-stop [--reason TEXT] [--config C]   halt every handoff now
 //	benchtender resume --by ID --name NAME --reason TEXT  clear the all-stop
+//	benchtender refit --by ID --name NAME --reason TEXT   fit the model afresh at the next proposal
 //	benchtender audit verify [--config C]   check the audit trail's hash chain
 //	benchtender status [--config C]     runs so far, the model, where the optimum is
 //	benchtender report [--config C] [--out report.html]   the campaign in one HTML file
@@ -18,7 +19,7 @@
 //	benchtender parse --config C [--format NAME] FILE   what a result file would give
 //	benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config C]
 //	benchtender audit accept --by ID --name NAME --reason TEXT [--config C]   after a journal/trail mismatch
-//	benchtender demo [--dir DIR] [--runs N] [--seed N]   an invented campaign on a simulated instrument
+//	benchtender demo [--dir DIR] [--runs N] [--seed N] [--responses 1|2]   an invented campaign on a simulated instrument
 //	benchtender service install|remove  a Windows service that survives a reboot
 //	benchtender version                 version, commit and Go version
 //
@@ -116,6 +117,7 @@ const usage = `usage:
   benchtender reject RUN --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender all-stop [--reason TEXT] [--by ID] [--config CONFIG]
   benchtender resume --by ID --name NAME --reason TEXT [--config CONFIG]
+  benchtender refit --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender audit verify [--config CONFIG]
   benchtender audit correct --entry N --by ID --name NAME --reason TEXT [--config CONFIG]
   benchtender audit accept --by ID --name NAME --reason TEXT [--config CONFIG]
@@ -123,7 +125,7 @@ const usage = `usage:
   benchtender report [--config CONFIG] [--out report.html] [--x FACTOR --y FACTOR]
   benchtender export [--config CONFIG] [--out runs.csv] [--json]
   benchtender parse --config CONFIG [--format NAME] FILE
-  benchtender demo [--dir DIR] [--runs N] [--seed N]
+  benchtender demo [--dir DIR] [--runs N] [--seed N] [--responses 1|2]
   benchtender service install --config CONFIG [--name NAME]   (Windows)
   benchtender service remove [--name NAME]                    (Windows)
   benchtender version
@@ -154,7 +156,7 @@ func dispatch(ctx context.Context, cmd string, rest []string, stdout, stderr io.
 		return cmdRun(ctx, rest, stdout, stderr)
 	case "holds":
 		return cmdHolds(rest, stdout)
-	case "approve", "reject", "resume":
+	case "approve", "reject", "resume", "refit":
 		return cmdSignoff(cmd, rest, stdout)
 	case "all-stop":
 		return cmdAllStop(rest, stdout)
