@@ -1,13 +1,14 @@
 package agent
 
 import (
-	"benchtender/record"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"os"
 	"strings"
 	"time"
+
+	"benchtender/record"
 )
 
 // The journal and the audit trail vouch for each other (record.CrossCheck

@@ -1,7 +1,6 @@
 package agent
 
 import (
-	"benchtender/record"
 	"context"
 	"crypto/sha256"
 	"encoding/hex"
@@ -12,6 +11,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"benchtender/record"
 )
 
 // runUntilHandoffs runs a test campaign until n setpoints are handed off

@@ -1,11 +1,12 @@
 package agent
 
 import (
-	"benchtender/record"
 	"errors"
 	"os"
 	"strings"
 	"testing"
+
+	"benchtender/record"
 )
 
 // keyOf is the key the agent made for a test campaign.

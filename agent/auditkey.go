@@ -1,7 +1,6 @@
 package agent
 
 import (
-	"benchtender/record"
 	"crypto/rand"
 	"crypto/sha256"
 	"encoding/hex"
@@ -10,6 +9,8 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+
+	"benchtender/record"
 )
 
 // AuditConfig is the [audit] section: where the audit trail's key is

@@ -1,10 +1,11 @@
 package agent
 
 import (
-	"benchtender/record"
 	"fmt"
 	"os"
 	"path/filepath"
+
+	"benchtender/record"
 )
 
 // FolderProblems looks at every instrument's folders as the daemon would

@@ -1,12 +1,13 @@
 package agent
 
 import (
-	"benchtender/record"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
+
+	"benchtender/record"
 )
 
 // An export folder that cannot be read (misspelt, a share not mounted)

@@ -1,12 +1,13 @@
 package agent
 
 import (
-	"benchtender/record"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
+
+	"benchtender/record"
 )
 
 // A result flagged over range is kept in the journal as a failed run with

@@ -1,7 +1,6 @@
 package agent
 
 import (
-	"benchtender/record"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -10,6 +9,8 @@ import (
 	"sort"
 	"strings"
 	"time"
+
+	"benchtender/record"
 )
 
 // Halts says, in words for the morning's reader, what stops handoffs now:

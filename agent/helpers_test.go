@@ -1,13 +1,14 @@
 package agent
 
 import (
-	"benchtender/record"
 	"encoding/json"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
+
+	"benchtender/record"
 )
 
 // testCampaign is a folder with a config, an export folder and a handoff

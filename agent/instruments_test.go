@@ -1,12 +1,13 @@
 package agent
 
 import (
-	"benchtender/record"
 	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"benchtender/record"
 )
 
 // twoInstruments is a campaign run on two instruments, each with its own

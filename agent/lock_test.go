@@ -1,9 +1,10 @@
 package agent
 
 import (
-	"benchtender/record"
 	"errors"
 	"testing"
+
+	"benchtender/record"
 )
 
 // A second agent on the same state folder refuses to start while the

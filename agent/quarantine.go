@@ -1,12 +1,13 @@
 package agent
 
 import (
-	"benchtender/record"
 	"fmt"
 	"os"
 	"path/filepath"
 	"time"
 	"unicode/utf8"
+
+	"benchtender/record"
 )
 
 // maxQuarantineBase bounds the part of a quarantined copy's name taken

@@ -1,12 +1,13 @@
 package agent
 
 import (
-	"benchtender/record"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 	"time"
+
+	"benchtender/record"
 )
 
 // Issue 19's refused files, each as an instrument PC would present it:

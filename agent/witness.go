@@ -1,7 +1,6 @@
 package agent
 
 import (
-	"benchtender/record"
 	"errors"
 	"fmt"
 	"os"
@@ -9,6 +8,8 @@ import (
 	"strconv"
 	"strings"
 	"time"
+
+	"benchtender/record"
 )
 
 // The witness: a copy of the audit trail's head, kept where the state

@@ -1,7 +1,6 @@
 package record
 
 import (
-	"benchtender/campaign"
 	"errors"
 	"os"
 	"path/filepath"
@@ -9,6 +8,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"benchtender/campaign"
 )
 
 func writeEntries(t *testing.T, path string, n int) []Entry {

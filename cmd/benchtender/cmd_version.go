@@ -1,10 +1,11 @@
 package main
 
 import (
-	"benchtender/internal/version"
 	"flag"
 	"fmt"
 	"io"
+
+	"benchtender/internal/version"
 )
 
 // cmdVersion prints the module version, the commit it was built from

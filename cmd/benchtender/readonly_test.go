@@ -1,7 +1,6 @@
 package main
 
 import (
-	"benchtender/record"
 	"context"
 	"os"
 	"os/exec"
@@ -9,6 +8,8 @@ import (
 	"strconv"
 	"strings"
 	"testing"
+
+	"benchtender/record"
 )
 
 // The export folder read-only, as a share exported read-only would be: it

@@ -1,0 +1,217 @@
+package planner
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+
+	"benchtender/campaign"
+	"benchtender/planner/gp"
+	"benchtender/planner/pareto"
+)
+
+// hviDraws is the number of joint draws of the responses behind the
+// expected hypervolume improvement at a point.
+const hviDraws = 32
+
+// hypervolume proposes where the expected hypervolume improvement over
+// the runs' losses is largest. Pending runs are taken into account as each
+// model's own prediction (the kriging believer); points where a run is
+// more likely to fail than not are passed over.
+func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][]float64, fs *FrontSummary) (Result, error) {
+	p := fp.per[0]
+	if req.Region != nil || req.Allowed != nil {
+		q := *p
+		q.region, q.allowed = req.Region, req.Allowed
+		p = &q
+	}
+	rng := rand.New(rand.NewPCG(p.seed, uint64(req.Index)+1))
+	k := len(fp.responses)
+	fits := make([]*Fitted, k)
+	models := make([]*gp.Model, k)
+	for i, rp := range fp.per {
+		values := make([]float64, len(req.Trials))
+		for j, t := range req.Trials {
+			values[j] = t.Values[i]
+		}
+		trials := fp.single(req, values).Trials
+		ft, err := rp.fit(trials, nil, nil, rng)
+		if err != nil {
+			return Result{}, fmt.Errorf("planner: %s: %w", fp.responses[i].Name, err)
+		}
+		b, err := rp.believer(ft.Model, req.Pending)
+		if err != nil {
+			return Result{}, err
+		}
+		fits[i], models[i] = ft, b
+		fs.Models = append(fs.Models, ft.Model)
+	}
+	// The front the improvement is measured against holds the pending
+	// runs too, at their predicted losses, so that a batch spreads along
+	// the front.
+	front := slices.Clone(losses)
+	for _, pt := range req.Pending {
+		x := p.encode(p.space.ToUnit(nil, pt))
+		l := make([]float64, k)
+		for i, m := range models {
+			l[i] = fits[i].loss(m.Mean(x))
+		}
+		front = append(front, l)
+	}
+	ref := fs.Reference
+	z := make([][]float64, hviDraws)
+	for d := range z {
+		z[d] = make([]float64, k)
+		for i := range z[d] {
+			z[d][i] = rng.NormFloat64()
+		}
+	}
+	// Against what is the improvement measured? The runs' measured values
+	// carry noise: a run measured luckily would stand as a front no point
+	// can pass. With noisy on, each draw takes the true values of the runs
+	// (those of the first few non-dominated fronts, where the front can
+	// be) from the models as well, jointly, and the improvement is
+	// measured against that draw's front (the noisy expected hypervolume
+	// improvement of Daulton, Balandat and Bakshy 2021, "Parallel Bayesian
+	// optimization of multiple noisy objectives with expected hypervolume
+	// improvement", NeurIPS; here the candidate's draw is taken
+	// independent of the runs' draw, which their joint form does not).
+	improvement := make([]func([]float64) float64, hviDraws)
+	if fp.noisy {
+		drawn, err := fp.runDraws(losses, req, fits, p, rng)
+		if err != nil {
+			return Result{}, err
+		}
+		for d := range improvement {
+			improvement[d] = fp.improvement(append(drawn[d], front[len(losses):]...), ref)
+		}
+	} else {
+		plain := fp.improvement(front, ref)
+		for d := range improvement {
+			improvement[d] = plain
+		}
+	}
+	feasible, err := p.feasibility(fp.single(req, make([]float64, len(req.Trials))).Trials, req.Failed, rng)
+	if err != nil {
+		return Result{}, err
+	}
+	avoid := make([][]float64, 0, len(req.Avoid)+len(req.Pending)+len(req.Failed)+len(req.Trials))
+	for _, pts := range [][]campaign.Point{req.Avoid, req.Pending, req.Failed} {
+		for _, a := range pts {
+			avoid = append(avoid, p.space.ToUnit(nil, a))
+		}
+	}
+	var around [][]float64
+	for _, t := range req.Trials {
+		avoid = append(avoid, p.space.ToUnit(nil, t.Point))
+	}
+	for _, i := range fs.Members {
+		around = append(around, p.space.ToUnit(nil, req.Trials[i].Point))
+	}
+	score := scorer{exact: func(us [][]float64, out []float64) {
+		enc := make([][]float64, len(us))
+		for j, u := range us {
+			enc[j] = p.encode(u)
+		}
+		mu := make([][]float64, k)
+		sd := make([][]float64, k)
+		for i, m := range models {
+			mu[i], sd[i] = make([]float64, len(us)), make([]float64, len(us))
+			m.PredictMany(enc, mu[i], sd[i])
+			for j := range sd[i] {
+				sd[i][j] = math.Sqrt(sd[i][j])
+			}
+		}
+		y := make([]float64, k)
+		for j, u := range us {
+			if !farFrom(u, avoid) || (feasible != nil && feasible(u) < 0.5) {
+				out[j] = negInf
+				continue
+			}
+			// Mean improvement over the draws; where no draw improves,
+			// minus the mean distance of the draws from the region that
+			// would, so that the search still knows which way to go.
+			gain, gap := 0.0, 0.0
+			for d, zd := range z {
+				for i := range y {
+					y[i] = fits[i].loss(mu[i][j] + sd[i][j]*zd[i])
+				}
+				gain += improvement[d](y)
+				for i := range y {
+					gap += math.Max(0, y[i]-ref[i])
+				}
+			}
+			if gain > 0 {
+				out[j] = gain / hviDraws
+			} else {
+				out[j] = -gap / hviDraws
+			}
+		}
+	}}
+	u, s, err := p.maximise(ctx, score, around, rng)
+	if errors.Is(err, errNoCandidate) || (err == nil && math.IsInf(s, -1)) {
+		return Result{}, fmt.Errorf("planner: no setpoint can be proposed: every candidate is barred")
+	}
+	if err != nil {
+		return Result{}, err
+	}
+	fs.Improvement = math.Max(0, s)
+	return p.result(req.RunID, u, MethodHypervolume, s, Result{})
+}
+
+// maxDrawnRuns bounds the runs whose true values are drawn for the noisy
+// expected hypervolume improvement: those of the first non-dominated
+// fronts, up to this many.
+const maxDrawnRuns = 100
+
+// runDraws returns hviDraws joint draws of the true losses of the runs on
+// the first non-dominated fronts (a draw, then a run, then a response).
+func (fp *FrontPlanner) runDraws(losses [][]float64, req Request, fits []*Fitted, p *Planner, rng *rand.Rand) ([][][]float64, error) {
+	var runs []int
+	for _, f := range pareto.Sort(losses) {
+		if len(runs)+len(f) > maxDrawnRuns && len(runs) > 0 {
+			break
+		}
+		runs = append(runs, f...)
+	}
+	xs := make([][]float64, len(runs))
+	for j, r := range runs {
+		xs[j] = p.encode(p.space.ToUnit(nil, req.Trials[r].Point))
+	}
+	out := make([][][]float64, hviDraws)
+	for d := range out {
+		out[d] = make([][]float64, len(runs))
+		for j := range out[d] {
+			out[d][j] = make([]float64, len(fits))
+		}
+	}
+	for i, ft := range fits {
+		s, _, err := ft.Model.Sample(xs, hviDraws, rng)
+		if err != nil {
+			return nil, fmt.Errorf("planner: %s: draws at the runs: %w", fp.responses[i].Name, err)
+		}
+		for d := range out {
+			for j := range runs {
+				out[d][j][i] = ft.loss(s.At(d, j))
+			}
+		}
+	}
+	return out, nil
+}
+
+// improvement returns the hypervolume a point of losses adds to front: a
+// staircase for two responses, the general computation for more.
+func (fp *FrontPlanner) improvement(front [][]float64, ref []float64) func(y []float64) float64 {
+	if len(ref) == 2 {
+		st := pareto.NewStaircase(front, [2]float64{ref[0], ref[1]})
+		return func(y []float64) float64 { return st.Improvement(y[0], y[1]) }
+	}
+	kept := make([][]float64, 0, len(front))
+	for _, i := range pareto.Front(front) {
+		kept = append(kept, front[i])
+	}
+	return func(y []float64) float64 { return pareto.Improvement(kept, y, ref) }
+}
