@@ -168,8 +168,9 @@ func (fp *FrontPlanner) reference(losses [][]float64) []float64 {
 }
 
 // Propose returns the next proposal and the front so far (Result.Front).
-// Each trial carries one value per response in Values; Warm, Previous
-// and Aside are not used.
+// Each trial carries one value per response in Values. Previous is the
+// last proposal's Result.Surrogate, each response's model held between
+// fits from hold_fit_from runs on; Warm and Aside are not used.
 func (fp *FrontPlanner) Propose(ctx context.Context, req Request) (Result, error) {
 	if err := ctx.Err(); err != nil {
 		return Result{}, err

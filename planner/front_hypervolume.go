@@ -31,6 +31,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 	rng := rand.New(rand.NewPCG(p.seed, uint64(req.Index)+1))
 	k := len(fp.responses)
 	fits := make([]*Fitted, k)
+	parts := make([]*Surrogate, k)
 	models := make([]*gp.Model, k)
 	for i, rp := range fp.per {
 		values := make([]float64, len(req.Trials))
@@ -38,7 +39,13 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 			values[j] = t.Values[i]
 		}
 		trials := fp.single(req, values).Trials
-		ft, err := rp.fit(trials, nil, nil, rng)
+		// Each response's model is held between fits as for one
+		// response (hold.go), from the last proposal's.
+		var prev *Surrogate
+		if req.Previous != nil && len(req.Previous.parts) == k {
+			prev = req.Previous.parts[i]
+		}
+		ft, err := rp.fit(trials, nil, prev, rng)
 		if err != nil {
 			return Result{}, fmt.Errorf("planner: %s: %w", fp.responses[i].Name, err)
 		}
@@ -47,6 +54,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 			return Result{}, err
 		}
 		fits[i], models[i] = ft, b
+		parts[i] = &Surrogate{fitted: ft, kernel: rp.cfg.Kernel, noiseSD: rp.cfg.NoiseSD}
 		fs.Models = append(fs.Models, ft.Model)
 	}
 	// The front the improvement is measured against holds the pending
@@ -159,7 +167,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 		return Result{}, err
 	}
 	fs.Improvement = math.Max(0, s)
-	return p.result(req.RunID, u, MethodHypervolume, s, Result{})
+	return p.result(req.RunID, u, MethodHypervolume, s, Result{Surrogate: &Surrogate{parts: parts}})
 }
 
 // maxDrawnRuns bounds the runs whose true values are drawn for the noisy

@@ -140,26 +140,50 @@ func TestFrontRequestChecks(t *testing.T) {
 	}
 }
 
-// BenchmarkFrontPropose times one proposal of a two-response campaign
-// with 200 runs in 6 factors (issue 24's goal: under a second), the runs
-// spread over ZDT1's box.
+// BenchmarkFrontPropose times one proposal of a two-response campaign in
+// 6 factors with 200 runs (issue 24's goal: under a second) and with
+// 1,000, the runs spread over ZDT1's box.
 func BenchmarkFrontPropose(b *testing.B) {
 	p := testfn.ZDT1(6)
 	responses := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise}}
-	cc := frontConfig(p.Space, 1, 400, responses, []float64{1, 1})
-	for _, method := range []string{FrontHypervolume, FrontScalarised} {
-		b.Run(method, func(b *testing.B) {
-			cfg := Default()
-			cfg.Front.Acquisition = method
-			fp := NewFront(cc, cfg)
+	cc := frontConfig(p.Space, 1, 2000, responses, []float64{1, 1})
+	for _, n := range []int{200, 1000} {
+		for _, method := range []string{FrontHypervolume, FrontScalarised} {
+			b.Run(fmt.Sprintf("%s/runs=%d", method, n), func(b *testing.B) {
+				cfg := Default()
+				cfg.Front.Acquisition = method
+				fp := NewFront(cc, cfg)
+				var trials []campaign.Trial
+				for _, u := range LatinHypercube(n, 6, rand.New(rand.NewPCG(1, 2))) {
+					v := p.F(u)
+					trials = append(trials, campaign.Trial{Point: u, Values: v[:]})
+				}
+				b.ResetTimer()
+				for b.Loop() {
+					if _, err := fp.Propose(b.Context(), Request{RunID: "R", Index: n, Trials: trials}); err != nil {
+						b.Fatal(err)
+					}
+				}
+			})
+		}
+		// From hold_fit_from runs on, a proposal after the first holds
+		// each response's hyperparameters and conditions its model on one
+		// more run.
+		b.Run(fmt.Sprintf("hypervolume held/runs=%d", n), func(b *testing.B) {
+			fp := NewFront(cc, Default())
+			us := LatinHypercube(n+1, 6, rand.New(rand.NewPCG(1, 2)))
 			var trials []campaign.Trial
-			for _, u := range LatinHypercube(200, 6, rand.New(rand.NewPCG(1, 2))) {
+			for _, u := range us {
 				v := p.F(u)
 				trials = append(trials, campaign.Trial{Point: u, Values: v[:]})
 			}
+			first, err := fp.Propose(b.Context(), Request{RunID: "R", Index: n, Trials: trials[:n]})
+			if err != nil {
+				b.Fatal(err)
+			}
 			b.ResetTimer()
 			for b.Loop() {
-				if _, err := fp.Propose(b.Context(), Request{RunID: "R0201", Index: 200, Trials: trials}); err != nil {
+				if _, err := fp.Propose(b.Context(), Request{RunID: "R", Index: n + 1, Trials: trials, Previous: first.Surrogate}); err != nil {
 					b.Fatal(err)
 				}
 			}
@@ -289,5 +313,37 @@ func TestFrontThreeResponsesMixedFactors(t *testing.T) {
 		if fmt.Sprint(got) != fmt.Sprint(pareto.Front(losses)) || len(r.OnFront) != len(got) {
 			t.Fatalf("campaign %d: members %v (sure %v), want %v", c, r.Members, r.OnFront, pareto.Front(losses))
 		}
+	}
+}
+
+// Each response's model is held between fits as for one response: with
+// hold_fit_from at 20, the proposal at 21 runs keeps the hyperparameters
+// fitted at 20 (conditioned on the new run), and the one at 22 (10% more
+// runs) fits them again.
+func TestFrontHoldsEachModel(t *testing.T) {
+	p := testfn.ZDT1(3)
+	min2 := []campaign.Response{{Name: "f1", Goal: campaign.Minimise}, {Name: "f2", Goal: campaign.Minimise}}
+	cfg := Default()
+	cfg.HoldFitFrom = 20
+	trials, _ := frontCampaign(t, p, min2, []float64{1, 1}, func(v [2]float64) []float64 { return v[:] }, 22, cfg)
+	fp := NewFront(frontConfig(p.Space, 1, 40, min2, []float64{1, 1}), cfg)
+	var prev *Surrogate
+	var params [][2]float64 // each response's first length-scale, per proposal
+	for n := 20; n <= 22; n++ {
+		res, err := fp.Propose(t.Context(), Request{RunID: "R", Index: n, Trials: trials[:n], Previous: prev})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if res.Surrogate == nil || len(res.Front.Models) != 2 {
+			t.Fatalf("%d runs: no surrogate to hand back", n)
+		}
+		prev = res.Surrogate
+		params = append(params, [2]float64{res.Front.Models[0].Params().LengthScales[0], res.Front.Models[1].Params().LengthScales[0]})
+	}
+	if params[1] != params[0] {
+		t.Errorf("at 21 runs the length-scales moved from %v to %v; want them held", params[0], params[1])
+	}
+	if params[2] == params[1] {
+		t.Errorf("at 22 runs the length-scales stayed %v; want a fresh fit", params[2])
 	}
 }

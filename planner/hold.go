@@ -39,6 +39,9 @@ type Surrogate struct {
 	// kernel and noiseSD are the configuration it was fitted under.
 	kernel  string
 	noiseSD float64
+	// parts, for a campaign with several responses, are each response's
+	// model, in the order of the responses (fitted is then nil).
+	parts []*Surrogate
 }
 
 // held returns the model of the trials conditioned on prev with its
