@@ -81,12 +81,15 @@ func run(args []string, stdout, stderr io.Writer) error {
 	shortlist := fs.Float64("shortlist", def.Shortlist, "expected improvement's shortlist share (0: plain)")
 	aside := fs.Bool("set-aside", def.SetAside, "set a stalled basin aside")
 	refit := fs.Int("refit-every", def.RefitEvery, "fit the hyperparameters from every start every this many runs, from the previous fit between")
+	candidates := fs.Int("candidates", def.Candidates, "space-filling candidates at which the acquisition is scored")
+	refine := fs.Int("refine", def.Refine, "best candidates refined by local search")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
 	cfg := def
 	cfg.Acquisition, cfg.Warp, cfg.Kernel, cfg.Beta, cfg.ThompsonEvery = *strategy, *warp, *kernel, *beta, *every
 	cfg.Shortlist, cfg.SetAside, cfg.RefitEvery = *shortlist, *aside, *refit
+	cfg.Candidates, cfg.Refine = *candidates, *refine
 	if err := cfg.Validate().Err(); err != nil {
 		return err
 	}
