@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"math"
+	"net/http/httptest"
 	"os"
 	"path/filepath"
 	"strings"
@@ -112,6 +113,21 @@ func TestFrontInViewAndReport(t *testing.T) {
 	for _, want := range []string{"Pareto front", "R0005", "180 kJ", "3 of 8 completed runs are on the front", "purity 50 %, energy 271 kJ"} {
 		if !strings.Contains(out.String(), want) {
 			t.Errorf("the report has no %q", want)
+		}
+	}
+	// The console's overview and model pages show it too (the second
+	// from the cached view: it once lost the front).
+	cfg.Console.Listen = "127.0.0.1:0"
+	srv, err := New(cfg, Options{ConfigPath: path})
+	if err != nil {
+		t.Fatal(err)
+	}
+	web := httptest.NewServer(srv.Handler())
+	defer web.Close()
+	for _, page := range []string{"/", "/model"} {
+		code, html, _ := get(t, web.Client(), web.URL+page)
+		if code != 200 || !strings.Contains(html, "Pareto front") || !strings.Contains(html, "R0007") {
+			t.Errorf("%s: status %d, front table shown: %v", page, code, strings.Contains(html, "R0007"))
 		}
 	}
 }

@@ -587,6 +587,7 @@ func (c *viewCache) get(ctx context.Context, cfg agent.Config, opt BuildOptions)
 			return nil, err
 		}
 		fresh.Model, fresh.ModelNote, fresh.Optimum, fresh.Figures = c.view.Model, c.view.ModelNote, c.view.Optimum, c.view.Figures
+		fresh.Front = c.view.Front
 		fresh.PairX, fresh.PairY = c.view.PairX, c.view.PairY
 		return fresh, nil
 	}
