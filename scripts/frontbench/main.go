@@ -26,13 +26,13 @@ import (
 	"runtime"
 	"sort"
 	"strings"
-	"sync"
 	"time"
 
 	"benchtender/campaign"
 	"benchtender/planner"
 	"benchtender/planner/pareto"
 	"benchtender/planner/testfn"
+	"benchtender/scripts/internal/pool"
 )
 
 func main() {
@@ -103,39 +103,18 @@ func run(args []string, stdout, stderr io.Writer) error {
 		}
 	}
 	out := make([]outcome, len(jobs))
-	next := make(chan int)
-	var wg sync.WaitGroup
-	var mu sync.Mutex
-	done := 0
-	start := time.Now()
-	var firstErr error
-	for w := 0; w < max(1, *parallel); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				t0 := time.Now()
-				o, err := campaignShare(jobs[i], *budget, cfg, *noise)
-				mu.Lock()
-				done++
-				if err != nil && firstErr == nil {
-					firstErr = fmt.Errorf("%s, %s, seed %d: %w", pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, err)
-				}
-				o.took = time.Since(t0)
-				out[i] = o
-				fmt.Fprintf(stderr, "\r%d/%d campaigns, %s elapsed (%s, %s, seed %d: %.3f)    ", done, len(jobs), time.Since(start).Round(time.Second), pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, o.share)
-				mu.Unlock()
-			}
-		}()
-	}
-	for i := range jobs {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
-	fmt.Fprintln(stderr)
-	if firstErr != nil {
-		return firstErr
+	errs := make([]error, len(jobs))
+	pool.Run(len(jobs), *parallel, func(i int) string {
+		t0 := time.Now()
+		o, err := campaignShare(jobs[i], *budget, cfg, *noise)
+		o.took = time.Since(t0)
+		out[i], errs[i] = o, err
+		return fmt.Sprintf("%s, %s, seed %d: %.3f", pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, o.share)
+	}, stderr)
+	for i, err := range errs {
+		if err != nil {
+			return fmt.Errorf("%s, %s, seed %d: %w", pairName(jobs[i].pair), jobs[i].method, jobs[i].seed, err)
+		}
 	}
 	if *csvPath != "" {
 		f, err := os.Create(*csvPath)

@@ -30,13 +30,13 @@ import (
 	"runtime"
 	"sort"
 	"strings"
-	"sync"
 	"time"
 
 	"benchtender/campaign"
 	"benchtender/planner"
 	"benchtender/planner/gp"
 	"benchtender/planner/testfn"
+	"benchtender/scripts/internal/pool"
 )
 
 func main() {
@@ -114,32 +114,12 @@ func run(args []string, stdout, stderr io.Writer) error {
 	})
 	results := make([]outcome, len(jobs))
 	start := time.Now()
-	var mu sync.Mutex
-	done := 0
-	var wg sync.WaitGroup
-	next := make(chan int)
-	for w := 0; w < max(1, *parallel); w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				t0 := time.Now()
-				n, ok, stop := campaignRuns(jobs[i].prob, jobs[i].seed, cfg, *stopRule)
-				results[i] = outcome{n, ok, time.Since(t0), stop}
-				mu.Lock()
-				done++
-				el := time.Since(start)
-				eta := time.Duration(float64(el) / float64(done) * float64(len(jobs)-done))
-				fmt.Fprintf(stderr, "%d/%d campaigns, %s elapsed, about %s left: %s seed %d, %d runs, reached %v\n", done, len(jobs), el.Round(time.Second), eta.Round(time.Second), jobs[i].prob.Name, jobs[i].seed, results[i].runs, results[i].reached)
-				mu.Unlock()
-			}
-		}()
-	}
-	for i := range jobs {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
+	pool.Run(len(jobs), *parallel, func(i int) string {
+		t0 := time.Now()
+		n, ok, stop := campaignRuns(jobs[i].prob, jobs[i].seed, cfg, *stopRule)
+		results[i] = outcome{n, ok, time.Since(t0), stop}
+		return fmt.Sprintf("%s seed %d, %d runs, reached %v", jobs[i].prob.Name, jobs[i].seed, n, ok)
+	}, stderr)
 	fmt.Fprintln(stderr)
 
 	if *csvPath != "" {
