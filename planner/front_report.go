@@ -1,6 +1,7 @@
 package planner
 
 import (
+	"cmp"
 	"context"
 	"fmt"
 	"math/rand/v2"
@@ -58,7 +59,7 @@ func (fp *FrontPlanner) Report(ctx context.Context, trials []campaign.Trial, rng
 		r.Hypervolume = append(r.Hypervolume, pareto.Hypervolume(losses[:n], ref))
 	}
 	r.Members = pareto.Front(losses)
-	slices.SortStableFunc(r.Members, func(a, b int) int { return cmpLoss(losses[a][0], losses[b][0]) })
+	slices.SortStableFunc(r.Members, func(a, b int) int { return cmp.Compare(losses[a][0], losses[b][0]) })
 	if len(trials) < minFit {
 		return r, nil
 	}
@@ -119,14 +120,4 @@ func (fp *FrontPlanner) Report(ctx context.Context, trials []campaign.Trial, rng
 		r.OnFront = append(r.OnFront, float64(counts[at[m]])/reportDraws)
 	}
 	return r, nil
-}
-
-func cmpLoss(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }

@@ -8,6 +8,7 @@
 package pareto
 
 import (
+	"cmp"
 	"math"
 	"slices"
 )
@@ -60,10 +61,10 @@ func front2(points [][]float64) []int {
 		idx[i] = i
 	}
 	slices.SortFunc(idx, func(a, b int) int {
-		if c := cmpFloat(points[a][0], points[b][0]); c != 0 {
+		if c := cmp.Compare(points[a][0], points[b][0]); c != 0 {
 			return c
 		}
-		return cmpFloat(points[a][1], points[b][1])
+		return cmp.Compare(points[a][1], points[b][1])
 	})
 	var out []int
 	low := math.Inf(1)
@@ -205,7 +206,7 @@ func volume(points [][]float64, ref []float64) float64 {
 	// smallest value of it, the region is the (d−1)-dimensional
 	// hypervolume of the first k+1 points.
 	ps := slices.Clone(points)
-	slices.SortFunc(ps, func(a, b []float64) int { return cmpFloat(a[d-1], b[d-1]) })
+	slices.SortFunc(ps, func(a, b []float64) int { return cmp.Compare(a[d-1], b[d-1]) })
 	sub := make([][]float64, 0, len(ps))
 	total := 0.0
 	for k, p := range ps {
@@ -227,10 +228,10 @@ func volume(points [][]float64, ref []float64) float64 {
 func sweep2(points [][]float64, ref []float64) float64 {
 	ps := slices.Clone(points)
 	slices.SortFunc(ps, func(a, b []float64) int {
-		if c := cmpFloat(a[0], b[0]); c != 0 {
+		if c := cmp.Compare(a[0], b[0]); c != 0 {
 			return c
 		}
-		return cmpFloat(a[1], b[1])
+		return cmp.Compare(a[1], b[1])
 	})
 	area, low := 0.0, ref[1]
 	for _, p := range ps {
@@ -240,16 +241,6 @@ func sweep2(points [][]float64, ref []float64) float64 {
 		}
 	}
 	return area
-}
-
-func cmpFloat(a, b float64) int {
-	switch {
-	case a < b:
-		return -1
-	case a > b:
-		return 1
-	}
-	return 0
 }
 
 // Staircase is a set of points in two responses made ready for many
@@ -269,10 +260,10 @@ func NewStaircase(points [][]float64, ref [2]float64) *Staircase {
 		}
 	}
 	slices.SortFunc(in, func(a, b []float64) int {
-		if c := cmpFloat(a[0], b[0]); c != 0 {
+		if c := cmp.Compare(a[0], b[0]); c != 0 {
 			return c
 		}
-		return cmpFloat(a[1], b[1])
+		return cmp.Compare(a[1], b[1])
 	})
 	s := &Staircase{ref: ref}
 	low := ref[1]

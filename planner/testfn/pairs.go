@@ -82,14 +82,7 @@ func ZDT3(d int) Pair {
 			f1 := x[0]
 			return [2]float64{f1, g * (1 - math.Sqrt(f1/g) - f1/g*math.Sin(10*math.Pi*f1))}
 		},
-		Front: func(n int) [][]float64 {
-			pts := make([][]float64, n)
-			for i := range pts {
-				f1 := float64(i) / float64(n-1)
-				pts[i] = []float64{f1, h(f1)}
-			}
-			return pts
-		}}
+		Front: zdtFront(h)}
 }
 
 // DTLZ2 with two responses in d factors on [0, 1] (Deb, Thiele, Laumanns
