@@ -38,24 +38,12 @@ func newFrontCampaign(t *testing.T, maxRuns string) *testCampaign {
 	text := strings.Replace(baseConfig, "%MAX%", maxRuns, 1) + passLimits
 	text = strings.Replace(text, "[campaign.response]\nname = \"purity\"\nunit = \"%\"\ngoal = \"maximise\"\n", frontHead, 1)
 	text += "\n[formats.bench_csv.values.energy]\ncolumn = \"Energy\"\nunit = \"kJ\"\n"
-	dir := t.TempDir()
-	for _, d := range []string{"exports", "handoff"} {
-		if err := os.Mkdir(filepath.Join(dir, d), 0o755); err != nil {
-			t.Fatal(err)
-		}
-	}
-	path := filepath.Join(dir, "c.toml")
-	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	cfg, err := LoadConfig(path, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	tc := campaignOf(t, text)
+	cfg := tc.cfg
 	if !cfg.Campaign.Several() {
 		t.Fatal("the campaign does not trade two responses off")
 	}
-	return &testCampaign{dir: dir, cfgPath: path, cfg: cfg}
+	return tc
 }
 
 // frontResult is a result file with both responses (decimal commas); an

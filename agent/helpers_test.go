@@ -108,13 +108,18 @@ hard_max = 5.0
 
 func newTestCampaign(t *testing.T, maxRuns string, limits string) *testCampaign {
 	t.Helper()
+	return campaignOf(t, strings.Replace(baseConfig, "%MAX%", maxRuns, 1)+limits)
+}
+
+// campaignOf makes the folders and writes and loads the config text.
+func campaignOf(t *testing.T, text string) *testCampaign {
+	t.Helper()
 	dir := t.TempDir()
 	for _, d := range []string{"exports", "handoff"} {
 		if err := os.Mkdir(filepath.Join(dir, d), 0o755); err != nil {
 			t.Fatal(err)
 		}
 	}
-	text := strings.Replace(baseConfig, "%MAX%", maxRuns, 1) + limits
 	path := filepath.Join(dir, "c.toml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
 		t.Fatal(err)
