@@ -178,36 +178,60 @@ const maxDrawnRuns = 100
 // runDraws returns hviDraws joint draws of the true losses of the runs on
 // the first non-dominated fronts (a draw, then a run, then a response).
 func (fp *FrontPlanner) runDraws(losses [][]float64, req Request, fits []*Fitted, p *Planner, rng *rand.Rand) ([][][]float64, error) {
-	var runs []int
-	for _, f := range pareto.Sort(losses) {
-		if len(runs)+len(f) > maxDrawnRuns && len(runs) > 0 {
-			break
-		}
-		runs = append(runs, f...)
-	}
+	runs := firstFronts(losses, maxDrawnRuns)
 	xs := make([][]float64, len(runs))
 	for j, r := range runs {
 		xs[j] = p.encode(p.space.ToUnit(nil, req.Trials[r].Point))
 	}
-	out := make([][][]float64, hviDraws)
-	for d := range out {
-		out[d] = make([][]float64, len(runs))
-		for j := range out[d] {
-			out[d][j] = make([]float64, len(fits))
-		}
-	}
+	out := newDraws(hviDraws, len(runs), len(fits))
 	for i, ft := range fits {
-		s, _, err := ft.Model.Sample(xs, hviDraws, rng)
-		if err != nil {
+		if err := drawInto(out, i, ft, xs, rng); err != nil {
 			return nil, fmt.Errorf("planner: %s: draws at the runs: %w", fp.responses[i].Name, err)
-		}
-		for d := range out {
-			for j := range runs {
-				out[d][j][i] = ft.loss(s.At(d, j))
-			}
 		}
 	}
 	return out, nil
+}
+
+// firstFronts returns the runs of the first non-dominated fronts of the
+// losses, front by front, as many fronts as fit in limit runs (the first
+// front always).
+func firstFronts(losses [][]float64, limit int) []int {
+	var runs []int
+	for _, f := range pareto.Sort(losses) {
+		if len(runs)+len(f) > limit && len(runs) > 0 {
+			break
+		}
+		runs = append(runs, f...)
+	}
+	return runs
+}
+
+// newDraws allocates draws of runs' losses: a draw, then a run, then a
+// response.
+func newDraws(count, runs, responses int) [][][]float64 {
+	out := make([][][]float64, count)
+	for d := range out {
+		out[d] = make([][]float64, runs)
+		for j := range out[d] {
+			out[d][j] = make([]float64, responses)
+		}
+	}
+	return out
+}
+
+// drawInto fills response i of every draw with a joint posterior draw of
+// ft's true values at xs (encoded runs), as losses.
+func drawInto(draws [][][]float64, i int, ft *Fitted, xs [][]float64, rng *rand.Rand) error {
+	s, _, err := ft.Model.Sample(xs, len(draws), rng)
+	if err != nil {
+		return err
+	}
+	for d := range draws {
+		for j := range xs {
+			draws[d][j][i] = ft.loss(s.At(d, j))
+		}
+	}
+	return nil
 }
 
 // improvement returns the hypervolume a point of losses adds to front: a

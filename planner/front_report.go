@@ -64,25 +64,12 @@ func (fp *FrontPlanner) Report(ctx context.Context, trials []campaign.Trial, rng
 		return r, nil
 	}
 	// The runs drawn: the first fronts, members first.
-	var drawn []int
-	for _, f := range pareto.Sort(losses) {
-		if len(drawn)+len(f) > maxReportRuns && len(drawn) > 0 {
-			break
-		}
-		drawn = append(drawn, f...)
-	}
+	drawn := firstFronts(losses, maxReportRuns)
 	at := map[int]int{}
 	for j, i := range drawn {
 		at[i] = j
 	}
-	k := len(fp.responses)
-	draws := make([][][]float64, reportDraws) // draw, run, response
-	for d := range draws {
-		draws[d] = make([][]float64, len(drawn))
-		for j := range draws[d] {
-			draws[d][j] = make([]float64, k)
-		}
-	}
+	draws := newDraws(reportDraws, len(drawn), len(fp.responses))
 	for i, rp := range fp.per {
 		if err := ctx.Err(); err != nil {
 			return nil, err
@@ -99,14 +86,8 @@ func (fp *FrontPlanner) Report(ctx context.Context, trials []campaign.Trial, rng
 		for j, t := range drawn {
 			xs[j] = rp.encode(rp.space.ToUnit(nil, trials[t].Point))
 		}
-		s, _, err := ft.Model.Sample(xs, reportDraws, rng)
-		if err != nil {
+		if err := drawInto(draws, i, ft, xs, rng); err != nil {
 			return nil, fmt.Errorf("planner: %s: %w", fp.responses[i].Name, err)
-		}
-		for d := range draws {
-			for j := range drawn {
-				draws[d][j][i] = ft.loss(s.At(d, j))
-			}
 		}
 	}
 	counts := make([]int, len(drawn))
