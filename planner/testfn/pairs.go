@@ -33,56 +33,43 @@ func zdtG(x []float64) float64 {
 	return 1 + 9*s/float64(len(x)-1)
 }
 
-// zdtFront is the front of a ZDT problem, f2 = h(f1) with g = 1.
-func zdtFront(h func(f1 float64) float64) func(n int) [][]float64 {
-	return func(n int) [][]float64 {
-		pts := make([][]float64, n)
-		for i := range pts {
-			f1 := float64(i) / float64(n-1)
-			pts[i] = []float64{f1, h(f1)}
-		}
-		return pts
-	}
-}
-
 // ZDT1, ZDT2 and ZDT3 in d factors on [0, 1] (Zitzler, Deb and Thiele
 // 2000, "Comparison of multiobjective evolutionary algorithms: empirical
-// results", Evol. Comput. 8(2), 173-195): f1 = x₁, f2 = g·h(f1/g). The
+// results", Evol. Comput. 8(2), 173-195): f1 = x₁, f2 = g·h(f1/g, f1). The
 // front (g = 1) is convex for ZDT1 (hypervolume 2/3 up to (1, 1), the
 // integral of √f1), concave for ZDT2 (1/3) and in five pieces for ZDT3,
 // whose front reaches below f2 = 0; its hypervolume up to (1, 1),
 // 1.04443, is from 10⁶ points along f1 (ours; TestPairFronts checks it).
 func ZDT1(d int) Pair {
-	h := func(r float64) float64 { return 1 - math.Sqrt(r) }
-	return Pair{Name: "ZDT1", Space: cube(d, 0, 1), Ref: [2]float64{1, 1}, FrontHV: 2.0 / 3,
-		F: func(x []float64) [2]float64 {
-			g := zdtG(x)
-			return [2]float64{x[0], g * h(x[0]/g)}
-		},
-		Front: zdtFront(h)}
+	return zdt("ZDT1", d, 2.0/3, func(r, _ float64) float64 { return 1 - math.Sqrt(r) })
 }
 
 // ZDT2: see ZDT1.
 func ZDT2(d int) Pair {
-	h := func(r float64) float64 { return 1 - r*r }
-	return Pair{Name: "ZDT2", Space: cube(d, 0, 1), Ref: [2]float64{1, 1}, FrontHV: 1.0 / 3,
-		F: func(x []float64) [2]float64 {
-			g := zdtG(x)
-			return [2]float64{x[0], g * h(x[0]/g)}
-		},
-		Front: zdtFront(h)}
+	return zdt("ZDT2", d, 1.0/3, func(r, _ float64) float64 { return 1 - r*r })
 }
 
 // ZDT3: see ZDT1.
 func ZDT3(d int) Pair {
-	h := func(r float64) float64 { return 1 - math.Sqrt(r) - r*math.Sin(10*math.Pi*r) }
-	return Pair{Name: "ZDT3", Space: cube(d, 0, 1), Ref: [2]float64{1, 1}, FrontHV: 1.04443,
+	return zdt("ZDT3", d, 1.04443, func(r, f1 float64) float64 { return 1 - math.Sqrt(r) - r*math.Sin(10*math.Pi*f1) })
+}
+
+// zdt is a ZDT problem with its h: f2 = g·h(f1/g, f1); its front is f2 =
+// h(f1, f1), where g = 1.
+func zdt(name string, d int, frontHV float64, h func(r, f1 float64) float64) Pair {
+	return Pair{Name: name, Space: cube(d, 0, 1), Ref: [2]float64{1, 1}, FrontHV: frontHV,
 		F: func(x []float64) [2]float64 {
 			g := zdtG(x)
-			f1 := x[0]
-			return [2]float64{f1, g * (1 - math.Sqrt(f1/g) - f1/g*math.Sin(10*math.Pi*f1))}
+			return [2]float64{x[0], g * h(x[0]/g, x[0])}
 		},
-		Front: zdtFront(h)}
+		Front: func(n int) [][]float64 {
+			pts := make([][]float64, n)
+			for i := range pts {
+				f1 := float64(i) / float64(n-1)
+				pts[i] = []float64{f1, h(f1, f1)}
+			}
+			return pts
+		}}
 }
 
 // DTLZ2 with two responses in d factors on [0, 1] (Deb, Thiele, Laumanns
