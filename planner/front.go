@@ -63,7 +63,6 @@ type FrontSummary struct {
 // responses off: one Gaussian process per response, fitted as for a
 // single response.
 type FrontPlanner struct {
-	cfg    Config
 	method string
 	// stopBelow is Config.Stop.HypervolumeBelow (0: the rule is off).
 	stopBelow float64
@@ -113,7 +112,7 @@ func NewFront(cc campaign.Config, cfg Config) *FrontPlanner {
 	one.SetAside = false
 	one.Stop = StopConfig{}
 	one.Warp = cfg.Front.Warp
-	fp := &FrontPlanner{cfg: one, method: cfg.Front.Acquisition, stopBelow: cfg.Stop.HypervolumeBelow, noisy: cfg.Front.Noisy, responses: responses, worst: worst}
+	fp := &FrontPlanner{method: cfg.Front.Acquisition, stopBelow: cfg.Stop.HypervolumeBelow, noisy: cfg.Front.Noisy, responses: responses, worst: worst}
 	for _, r := range responses {
 		c := cc
 		r.Worst = nil // used here, not by the response's own planner
