@@ -223,6 +223,16 @@ func (fp *FrontPlanner) stopping(fs *FrontSummary) *Stopping {
 	return &Stopping{Tests: []StopTest{t}, Stop: t.Passed}
 }
 
+// responseTrials are the trials as response i's own planner takes them:
+// that response's value as each one's Value.
+func responseTrials(trials []campaign.Trial, i int) []campaign.Trial {
+	out := make([]campaign.Trial, len(trials))
+	for j, t := range trials {
+		out[j] = campaign.Trial{Point: t.Point, Value: t.Values[i]}
+	}
+	return out
+}
+
 // single is the request for one response's planner, with the values
 // given (nil: no trials).
 func (fp *FrontPlanner) single(req Request, values []float64) Request {

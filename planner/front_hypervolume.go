@@ -34,11 +34,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 	parts := make([]*Surrogate, k)
 	models := make([]*gp.Model, k)
 	for i, rp := range fp.per {
-		values := make([]float64, len(req.Trials))
-		for j, t := range req.Trials {
-			values[j] = t.Values[i]
-		}
-		trials := fp.single(req, values).Trials
+		trials := responseTrials(req.Trials, i)
 		// Each response's model is held between fits as for one
 		// response (hold.go), from the last proposal's.
 		var prev *Surrogate

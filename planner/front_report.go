@@ -74,11 +74,7 @@ func (fp *FrontPlanner) Report(ctx context.Context, trials []campaign.Trial, rng
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		values := make([]float64, len(trials))
-		for j, t := range trials {
-			values[j] = t.Values[i]
-		}
-		ft, err := rp.fit(fp.single(Request{Trials: trials}, values).Trials, nil, nil, rng)
+		ft, err := rp.fit(responseTrials(trials, i), nil, nil, rng)
 		if err != nil {
 			return nil, fmt.Errorf("planner: %s: %w", fp.responses[i].Name, err)
 		}
