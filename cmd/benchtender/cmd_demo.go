@@ -13,9 +13,9 @@ import (
 
 	"benchtender/agent"
 	"benchtender/campaign"
-	"benchtender/console"
 	"benchtender/examples"
 	"benchtender/examples/sim"
+	"benchtender/planner/pareto"
 	"benchtender/record"
 	"benchtender/safety"
 )
@@ -213,9 +213,17 @@ func (p *demoPrinter) result(e record.Entry) {
 		}
 		front := 0
 		if st != nil {
-			if f, _, err := console.SummariseFront(context.Background(), p.cfg, st); err == nil {
-				front = len(f.Members)
+			// The runs no run beats in every response, counted on the
+			// measured values (status and the report add the model's view).
+			var losses [][]float64
+			for _, t := range st.TrialsOf(p.cfg.Campaign.ResponseNames()) {
+				l := make([]float64, len(t.Values))
+				for i, r := range p.cfg.Campaign.Responses {
+					l[i] = r.Loss(t.Values[i])
+				}
+				losses = append(losses, l)
 			}
+			front = len(pareto.Front(losses))
 		}
 		fmt.Fprintf(p.out, "run %2d/%d  %s  %-58s -> %s   front %d runs  (%s)\n", p.done, p.total, e.Run, p.cfg.Campaign.Factors.Describe(pt), strings.Join(vals, ", "), front, method)
 		return
