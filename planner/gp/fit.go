@@ -10,6 +10,8 @@ import (
 	"sync"
 
 	"gonum.org/v1/gonum/optimize"
+
+	"benchtender/planner/gp/internal/spdla"
 )
 
 // FitOptions control hyperparameter fitting.
@@ -178,8 +180,10 @@ type objective struct {
 	k      []float64 // s²·k(r), the matrix to factorise
 	kinv   []float64
 	c      spd
+	la     spdla.Work // the factorisation's and inverse's scratch
 	alpha  []float64
 	resid  []float64
+	w, cw  []float64 // a row of the gradient's weights, and times g(r); w is also the kernel's scratch
 
 	// Memo of the last θ evaluated, so that the gradient at the point
 	// just evaluated reuses its factorisation.
@@ -225,6 +229,7 @@ func (o *objective) scratch() {
 	nn := o.n * o.n
 	o.kc, o.gc, o.k, o.kinv = make([]float64, nn), make([]float64, nn), make([]float64, nn), make([]float64, nn)
 	o.alpha, o.resid = make([]float64, o.n), make([]float64, o.n)
+	o.w, o.cw = make([]float64, o.n), make([]float64, o.n)
 }
 
 func (o *objective) theta(p Params) []float64 {
@@ -311,21 +316,19 @@ func (o *objective) compute(t []float64) float64 {
 			r2[j] = 0
 		}
 		for k := 0; k < d; k++ {
-			sq, w := o.sq[k][row+i:row+n], iv[k]
-			for j, v := range sq {
-				r2[j] += v * w
-			}
+			axpy(iv[k], o.sq[k][row+i:row+n], r2)
 		}
 	}
 	for i := 0; i < n; i++ {
 		row := i * n
-		for j := i; j < n; j++ {
-			kc, gc := o.kern.corrSlope(math.Sqrt(o.kc[row+j]))
-			o.kc[row+j], o.gc[row+j] = kc, gc
-			o.k[row+j] = s2 * kc
+		kc := o.kc[row+i : row+n]
+		o.kern.corrSlopeRow(kc, kc, o.gc[row+i:row+n], o.w)
+		k := o.k[row+i : row+n]
+		for j, v := range kc {
+			k[j] = s2 * v
 		}
 	}
-	if _, err := o.c.factor(o.k, n, noise, s2); err != nil {
+	if _, err := o.c.factor(o.k, n, noise, s2, &o.la); err != nil {
 		return math.Inf(1)
 	}
 	for i, v := range o.z {
@@ -358,28 +361,32 @@ func (o *objective) eval(t, grad []float64) float64 {
 	for i := range grad {
 		grad[i] = 0
 	}
-	if math.IsInf(f, 0) || !o.c.inverseTo(o.kinv) {
+	if math.IsInf(f, 0) || !o.c.inverseTo(o.kinv, &o.la) {
 		return f
 	}
 	n, d := o.n, o.d
 	s2 := math.Exp(t[d])
 	a, ki := o.alpha, o.kinv
+	// Row by row of the upper triangle: the weights w_ij of the trace
+	// (twice off the diagonal, as the sum over the full matrix counts
+	// (i,j) and (j,i)), then one dot product per hyperparameter.
 	var gs, gn, gm float64
 	for i := 0; i < n; i++ {
 		gm += a[i]
 		row := i * n
-		for j := i; j < n; j++ {
-			w := a[i]*a[j] - ki[row+j]
-			if i != j {
-				w *= 2 // the sum over the full matrix counts (i,j) and (j,i)
-			} else {
-				gn += w
+		w, c := o.w[i:n], o.cw[i:n]
+		for j := range w {
+			v := a[i]*a[i+j] - ki[row+i+j]
+			if j > 0 {
+				v *= 2
 			}
-			gs += w * o.kc[row+j]
-			c := w * o.gc[row+j]
-			for k := 0; k < d; k++ {
-				grad[k] += c * o.sq[k][row+j]
-			}
+			w[j] = v
+			c[j] = v * o.gc[row+i+j]
+		}
+		gn += w[0]
+		gs += blasDot(w, o.kc[row+i:row+n])
+		for k := 0; k < d; k++ {
+			grad[k] += blasDot(c, o.sq[k][row+i:row+n])
 		}
 	}
 	for k := 0; k < d; k++ {

@@ -178,3 +178,27 @@ func TestWarmOnlyRefit(t *testing.T) {
 		t.Errorf("warm-only refit LML %.3f, full fit %.3f", quick.LogMarginalLikelihood(), full.LogMarginalLikelihood())
 	}
 }
+
+// The fit's kernel row (exponentials four at a time) against the kernels'
+// own k(r) and g(r), point by point.
+func TestCorrSlopeRowMatchesKernel(t *testing.T) {
+	var r2 []float64
+	for i := 0; i < 203; i++ {
+		r := float64(i) * 0.05
+		r2 = append(r2, r*r)
+	}
+	r2 = append(r2, 1e6, 1e8) // far apart: the correlation underflows to 0
+	for _, k := range []Kernel{Matern52, Matern32, SquaredExponential} {
+		kc, gc, arg := make([]float64, len(r2)), make([]float64, len(r2)), make([]float64, len(r2))
+		k.corrSlopeRow(r2, kc, gc, arg)
+		for i, v := range r2 {
+			r := math.Sqrt(v)
+			if want := k.corr(r); math.Abs(kc[i]-want) > 1e-14*math.Max(want, 1e-300) {
+				t.Errorf("%v: k(%v) = %v, want %v", k, r, kc[i], want)
+			}
+			if want := k.slope(r); math.Abs(gc[i]-want) > 1e-14*math.Max(want, 1e-300) {
+				t.Errorf("%v: g(%v) = %v, want %v", k, r, gc[i], want)
+			}
+		}
+	}
+}

@@ -3,6 +3,8 @@ package gp
 import (
 	"fmt"
 	"math"
+
+	"benchtender/planner/gp/internal/vexp"
 )
 
 // Kernel is the correlation function of the process, a function of the
@@ -78,20 +80,36 @@ func (k Kernel) slope(r float64) float64 {
 	}
 }
 
-// corrSlope returns k(r) and g(r) with a single exponential.
-func (k Kernel) corrSlope(r float64) (float64, float64) {
-	switch k {
-	case Matern32:
-		s := sqrt3 * r
-		e := math.Exp(-s)
-		return (1 + s) * e, 3 * e
-	case SquaredExponential:
-		e := math.Exp(-0.5 * r * r)
-		return e, e
-	default:
-		s := sqrt5 * r
-		e := math.Exp(-s)
-		return (1 + s + s*s/3) * e, 5.0 / 3.0 * (1 + s) * e
+// corrSlopeRow turns a row of squared scaled distances r2 into k(r),
+// written into kc (which may be r2), and g(r) (see slope), into gc, with
+// one exponential for both and the row's exponentials computed together.
+// arg is scratch as long as r2.
+func (k Kernel) corrSlopeRow(r2, kc, gc, arg []float64) {
+	n := len(r2)
+	kc, gc, arg = kc[:n], gc[:n], arg[:n]
+	if k == SquaredExponential {
+		for j, v := range r2 {
+			arg[j] = -0.5 * v
+		}
+		vexp.Exp(kc, arg)
+		copy(gc, kc)
+		return
+	}
+	c := sqrt5
+	if k == Matern32 {
+		c = sqrt3
+	}
+	for j, v := range r2 {
+		arg[j] = -c * math.Sqrt(v)
+	}
+	vexp.Exp(gc, arg) // e = exp(−s), into gc for now
+	for j, e := range gc {
+		s := -arg[j]
+		if k == Matern32 {
+			kc[j], gc[j] = (1+s)*e, 3*e
+		} else {
+			kc[j], gc[j] = (1+s+s*s/3)*e, 5.0/3.0*(1+s)*e
+		}
 	}
 }
 

@@ -21,7 +21,7 @@ type LOO struct {
 func (m *Model) LeaveOneOut() LOO {
 	n := len(m.x)
 	kinv := make([]float64, n*n)
-	if !m.c.inverseTo(kinv) {
+	if !m.c.inverseTo(kinv, nil) {
 		nan := make([]float64, n)
 		for i := range nan {
 			nan[i] = math.NaN()

@@ -157,7 +157,7 @@ func (m *Model) factor() error {
 			a[i*n+j] = m.p.SignalVar * m.p.Kernel.corr(scaledDist(m.x[i], m.x[j], m.invLen))
 		}
 	}
-	jitter, err := m.c.factor(a, n, m.p.NoiseVar, m.p.SignalVar)
+	jitter, err := m.c.factor(a, n, m.p.NoiseVar, m.p.SignalVar, nil)
 	if err != nil {
 		return err
 	}

@@ -25,7 +25,7 @@ func (m *Model) Sample(xs [][]float64, count int, rng *rand.Rand) (*mat.Dense, f
 		}
 	}
 	var c spd
-	jitter, err := c.factor(a, q, 0, m.p.SignalVar*m.yScale*m.yScale)
+	jitter, err := c.factor(a, q, 0, m.p.SignalVar*m.yScale*m.yScale, nil)
 	if err != nil {
 		return nil, 0, fmt.Errorf("gp: sample: %w", err)
 	}

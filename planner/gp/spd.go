@@ -6,13 +6,14 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
-	"gonum.org/v1/gonum/lapack/lapack64"
+
+	"benchtender/planner/gp/internal/spdla"
 )
 
 // spd is the upper Cholesky factor U of a symmetric positive definite
-// n×n matrix A = UᵀU, row-major with stride n. It calls LAPACK's routines
-// directly: mat.Cholesky also estimates the condition number on every
-// factorisation, which costs as much again and is not needed here.
+// n×n matrix A = UᵀU, row-major with stride n. The factorisation and the
+// inverse are spdla's, several times faster than gonum's LAPACK at the
+// sizes a fit sees (spdla's benchmarks); the solves are gonum's BLAS.
 type spd struct {
 	n int
 	u []float64
@@ -25,8 +26,12 @@ func (c *spd) tri() blas64.Triangular {
 // factor factorises the symmetric matrix whose upper triangle is in a (row
 // major, n×n) with noise added to the diagonal; when that fails it adds
 // jitter of 1e-10 up to 1e-4 times signal, ten times more each try. It
-// returns the jitter used. a is not changed.
-func (c *spd) factor(a []float64, n int, noise, signal float64) (float64, error) {
+// returns the jitter used. a is not changed. w is the factorisation's
+// scratch, nil for a fresh one.
+func (c *spd) factor(a []float64, n int, noise, signal float64, w *spdla.Work) (float64, error) {
+	if w == nil {
+		w = new(spdla.Work)
+	}
 	c.n = n
 	if cap(c.u) < n*n {
 		c.u = make([]float64, n*n)
@@ -38,8 +43,7 @@ func (c *spd) factor(a []float64, n int, noise, signal float64) (float64, error)
 		for i := 0; i < n; i++ {
 			c.u[i*n+i] += noise + jitter
 		}
-		_, ok := lapack64.Potrf(blas64.Symmetric{Uplo: blas.Upper, N: n, Stride: n, Data: c.u})
-		if ok {
+		if w.Cholesky(c.u, n) {
 			return jitter, nil
 		}
 		switch {
@@ -90,10 +94,13 @@ func (c *spd) halfSolveMany(bs [][]float64) {
 }
 
 // inverseTo writes the upper triangle of A⁻¹ into dst (n×n, row major).
-func (c *spd) inverseTo(dst []float64) bool {
-	copy(dst, c.u)
-	_, ok := lapack64.Potri(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: c.n, Stride: c.n, Data: dst})
-	return ok
+// w is scratch (n×n of it), kept by a caller that inverts again; nil for
+// a fresh one.
+func (c *spd) inverseTo(dst []float64, w *spdla.Work) bool {
+	if w == nil {
+		w = new(spdla.Work)
+	}
+	return w.Inverse(dst, c.u, c.n)
 }
 
 // logDet returns ln det A = 2 Σ ln U_ii.
@@ -103,4 +110,15 @@ func (c *spd) logDet() float64 {
 		s += math.Log(c.u[i*c.n+i])
 	}
 	return 2 * s
+}
+
+// blasDot is aᵀb through gonum's BLAS (assembly on amd64), for the long
+// rows of the fit's O(n²) loops; dot is quicker for a few values.
+func blasDot(a, b []float64) float64 {
+	return blas64.Dot(blas64.Vector{N: len(a), Inc: 1, Data: a}, blas64.Vector{N: len(a), Inc: 1, Data: b})
+}
+
+// axpy adds f·x to y through gonum's BLAS.
+func axpy(f float64, x, y []float64) {
+	blas64.Axpy(f, blas64.Vector{N: len(x), Inc: 1, Data: x}, blas64.Vector{N: len(x), Inc: 1, Data: y})
 }

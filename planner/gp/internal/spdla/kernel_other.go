@@ -1,0 +1,9 @@
+//go:build !amd64
+
+package spdla
+
+const hasFMA = false
+
+func tileFMA(k int, a *float64, lda int, b *float64, ldb int, c *float64, ldc int, sign float64) {
+	panic("spdla: no assembly tile here")
+}

@@ -1,0 +1,174 @@
+package spdla
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack/lapack64"
+)
+
+// randomSPD returns the upper triangle of BᵀB/n + I/10 for a random n×n
+// B, with the lower triangle filled with a marker that must not leak into
+// the results.
+func randomSPD(n int, r *rand.Rand) []float64 {
+	b := make([]float64, n*n)
+	for i := range b {
+		b[i] = r.NormFloat64()
+	}
+	a := make([]float64, n*n)
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			if j < i {
+				a[i*n+j] = math.NaN()
+				continue
+			}
+			var s float64
+			for k := 0; k < n; k++ {
+				s += b[k*n+i] * b[k*n+j]
+			}
+			a[i*n+j] = s / float64(n)
+			if i == j {
+				a[i*n+j] += 0.1
+			}
+		}
+	}
+	return a
+}
+
+func upperMaxDiff(n int, x, y []float64) (float64, float64) {
+	var d, m float64
+	for i := 0; i < n; i++ {
+		for j := i; j < n; j++ {
+			d = math.Max(d, math.Abs(x[i*n+j]-y[i*n+j]))
+			m = math.Max(m, math.Abs(y[i*n+j]))
+		}
+	}
+	return d, m
+}
+
+// Against gonum's LAPACK (dpotrf and dpotri, upper): the sizes cover one
+// row, sizes off the tile (4×8) and block (64) sizes, and more than one
+// slice of the product's blocking (kc 256, mc 128, nc 512).
+func TestAgainstLAPACK(t *testing.T) {
+	r := rand.New(rand.NewPCG(1, 2))
+	for _, portable := range []bool{false, true} {
+		for _, n := range []int{1, 2, 3, 5, 8, 9, 31, 63, 64, 65, 127, 130, 257, 300, 530} {
+			t.Run(fmt.Sprintf("n=%d,portable=%v", n, portable), func(t *testing.T) {
+				a := randomSPD(n, r)
+				want := append([]float64(nil), a...)
+				if _, ok := lapack64.Potrf(blas64.Symmetric{Uplo: blas.Upper, N: n, Stride: n, Data: want}); !ok {
+					t.Fatal("gonum: not positive definite")
+				}
+				w := &Work{portable: portable}
+				got := append([]float64(nil), a...)
+				if !w.Cholesky(got, n) {
+					t.Fatal("Cholesky reported not positive definite")
+				}
+				if d, m := upperMaxDiff(n, got, want); d > 1e-12*m || math.IsNaN(d) {
+					t.Errorf("factor differs from dpotrf by %.3g (largest entry %.3g)", d, m)
+				}
+				wantInv := append([]float64(nil), want...)
+				if _, ok := lapack64.Potri(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: n, Stride: n, Data: wantInv}); !ok {
+					t.Fatal("gonum: singular")
+				}
+				inv := make([]float64, n*n)
+				for i := range inv {
+					inv[i] = math.NaN() // every upper entry must be written
+				}
+				if !w.Inverse(inv, got, n) {
+					t.Fatal("Inverse reported a zero pivot")
+				}
+				if d, m := upperMaxDiff(n, inv, wantInv); d > 1e-10*m || math.IsNaN(d) {
+					t.Errorf("inverse differs from dpotri by %.3g (largest entry %.3g)", d, m)
+				}
+			})
+		}
+	}
+}
+
+func TestNotPositiveDefinite(t *testing.T) {
+	for _, n := range []int{3, 70, 200} {
+		a := randomSPD(n, rand.New(rand.NewPCG(3, uint64(n))))
+		// Make the last pivot negative: A[n-1][n-1] far below what the rest needs.
+		a[(n-1)*n+n-1] = -1
+		var w Work
+		if w.Cholesky(a, n) {
+			t.Errorf("n=%d: a matrix with a negative diagonal entry was factorised", n)
+		}
+		b := randomSPD(n, rand.New(rand.NewPCG(4, uint64(n))))
+		b[n/2*n+n/2] = math.NaN()
+		if w.Cholesky(b, n) {
+			t.Errorf("n=%d: a matrix with NaN on its diagonal was factorised", n)
+		}
+	}
+}
+
+// The assembly tile and the Go loop agree on every depth up to a few
+// hundred, to rounding (the assembly fuses multiply and add).
+func TestTileMatchesGo(t *testing.T) {
+	if !hasFMA {
+		t.Skip("no AVX2 and FMA here: only the Go tile runs")
+	}
+	r := rand.New(rand.NewPCG(5, 6))
+	for k := 1; k < 300; k += 7 {
+		a, b := make([]float64, k*mr), make([]float64, k*nr)
+		for i := range a {
+			a[i] = r.NormFloat64()
+		}
+		for i := range b {
+			b[i] = r.NormFloat64()
+		}
+		var got, want [mr * nr]float64
+		(&Work{}).tile(k, a, mr, b, nr, got[:], nr, -1)
+		tileGo(k, a, mr, b, nr, want[:], nr, -1)
+		for i := range got {
+			if math.Abs(got[i]-want[i]) > 1e-12*float64(k) {
+				t.Fatalf("k=%d: entry %d is %v, the Go loop gives %v", k, i, got[i], want[i])
+			}
+		}
+	}
+}
+
+func BenchmarkCholesky(b *testing.B) {
+	for _, n := range []int{200, 1000} {
+		a := randomSPD(n, rand.New(rand.NewPCG(7, uint64(n))))
+		work := make([]float64, n*n)
+		b.Run(fmt.Sprintf("ours/n=%d", n), func(b *testing.B) {
+			var w Work
+			for b.Loop() {
+				copy(work, a)
+				w.Cholesky(work, n)
+			}
+		})
+		b.Run(fmt.Sprintf("gonum/n=%d", n), func(b *testing.B) {
+			for b.Loop() {
+				copy(work, a)
+				lapack64.Potrf(blas64.Symmetric{Uplo: blas.Upper, N: n, Stride: n, Data: work})
+			}
+		})
+	}
+}
+
+func BenchmarkInverse(b *testing.B) {
+	for _, n := range []int{200, 1000} {
+		u := randomSPD(n, rand.New(rand.NewPCG(8, uint64(n))))
+		var w Work
+		w.Cholesky(u, n)
+		dst := make([]float64, n*n)
+		b.Run(fmt.Sprintf("ours/n=%d", n), func(b *testing.B) {
+			for b.Loop() {
+				w.Inverse(dst, u, n)
+			}
+		})
+		b.Run(fmt.Sprintf("gonum/n=%d", n), func(b *testing.B) {
+			for b.Loop() {
+				copy(dst, u)
+				lapack64.Potri(blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: n, Stride: n, Data: dst})
+			}
+		})
+	}
+}
