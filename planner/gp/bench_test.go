@@ -74,7 +74,7 @@ func BenchmarkPredict(b *testing.B) {
 // BenchmarkPredictMany is Predict over 2,000 candidate points, one at a
 // time against in blocks (PredictMany).
 func BenchmarkPredictMany(b *testing.B) {
-	for _, n := range []int{200, 1000} {
+	for _, n := range []int{30, 80, 200, 1000} {
 		rng := rand.New(rand.NewPCG(uint64(n), 6))
 		x, y := randomData(rng, n, 6, wave, 0.05)
 		m, err := New(x, y, defaultParams(Matern52, 6))

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 
+	"benchtender/planner/gp/internal/vexp"
+
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
@@ -238,7 +240,7 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 	n := len(m.x)
 	s2 := m.yScale * m.yScale
 	q := min(predictBlock, len(xs))
-	buf := make([]float64, n*q)
+	buf, tr := make([]float64, n*q), make([]float64, n*q)
 	cols := make([][]float64, q)
 	for j := range cols {
 		cols[j] = buf[j*n : j*n+n]
@@ -254,7 +256,7 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+dot(vs[j], m.alpha))
 		}
 		// V = U⁻ᵀ K*, column by column k*ᵀ K⁻¹ k* = ‖v‖².
-		m.c.halfSolveMany(vs)
+		m.c.halfSolveMany(vs, tr)
 		for j, v := range vs {
 			var ss float64
 			for _, c := range v {
@@ -266,10 +268,9 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 }
 
 // crossCov fills dst with k(x_i, x) for every data point: s²·corr of
-// the scaled distance, the same arithmetic as Kernel.corr and scaledDist
-// value for value, in two passes (the squared distances, then the
-// kernel) so that the processor overlaps the square roots and
-// exponentials of different points instead of waiting on each in turn.
+// the scaled distance, as Kernel.corr and scaledDist compute it but with
+// vexp's exponential (within a few units in the last place of
+// math.Exp's), in two passes: the squared distances, then the kernel.
 func (m *Model) crossCov(dst []float64, x []float64) {
 	inv := m.invLen[:len(x)]
 	for i, xi := range m.x {
@@ -281,22 +282,39 @@ func (m *Model) crossCov(dst []float64, x []float64) {
 		}
 		dst[i] = r2
 	}
+	// Then the kernel, a chunk at a time, with the chunk's exponentials
+	// computed together (vexp).
 	s2 := m.p.SignalVar
-	switch m.p.Kernel {
-	case Matern32:
-		for i, r2 := range dst {
-			t := sqrt3 * math.Sqrt(r2)
-			dst[i] = s2 * ((1 + t) * math.Exp(-t))
+	var arg, e [64]float64
+	for lo := 0; lo < len(dst); lo += len(arg) {
+		ch := dst[lo:min(lo+len(arg), len(dst))]
+		a := arg[:len(ch)]
+		switch m.p.Kernel {
+		case Matern32:
+			for i, r2 := range ch {
+				a[i] = -sqrt3 * math.Sqrt(r2)
+			}
+		case SquaredExponential:
+			for i, r2 := range ch {
+				r := math.Sqrt(r2)
+				a[i] = -0.5 * r * r
+			}
+		default:
+			for i, r2 := range ch {
+				a[i] = -sqrt5 * math.Sqrt(r2)
+			}
 		}
-	case SquaredExponential:
-		for i, r2 := range dst {
-			r := math.Sqrt(r2)
-			dst[i] = s2 * math.Exp(-0.5*r*r)
-		}
-	default:
-		for i, r2 := range dst {
-			t := sqrt5 * math.Sqrt(r2)
-			dst[i] = s2 * ((1 + t + t*t/3) * math.Exp(-t))
+		vexp.Exp(e[:len(ch)], a)
+		for i, v := range e[:len(ch)] {
+			t := -a[i]
+			switch m.p.Kernel {
+			case Matern32:
+				ch[i] = s2 * ((1 + t) * v)
+			case SquaredExponential:
+				ch[i] = s2 * v
+			default:
+				ch[i] = s2 * ((1 + t + t*t/3) * v)
+			}
 		}
 	}
 }
@@ -318,7 +336,7 @@ func (m *Model) PredictJoint(xs [][]float64) ([]float64, *mat.SymDense) {
 		m.crossCov(rows[j], x)
 		mean[j] = m.yMean + m.yScale*(m.p.Mean+dot(rows[j], m.alpha))
 	}
-	m.c.halfSolveMany(rows)
+	m.c.halfSolveMany(rows, make([]float64, n*q))
 	vtv := blas64.Symmetric{Uplo: blas.Upper, N: q, Stride: q, Data: make([]float64, q*q)}
 	blas64.Syrk(blas.NoTrans, 1, w, 0, vtv)
 	cov := mat.NewSymDense(q, nil)

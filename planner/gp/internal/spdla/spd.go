@@ -47,7 +47,7 @@ func (w *Work) cholesky(a []float64, n, r0, r1 int) bool {
 	if !w.cholesky(a, n, r0, mid) {
 		return false
 	}
-	w.solveUT(a, n, r0, mid, a, mid, r1)
+	w.solveUT(a, n, r0, mid, a, n, mid, r1)
 	w.multiply(product{
 		m: r1 - mid, n: r1 - mid, k: mid - r0,
 		a: a[r0*n+mid:], lda: n, b: a[r0*n+mid:], ldb: n, c: a[mid*n+mid:], ldc: n,
@@ -56,18 +56,25 @@ func (w *Work) cholesky(a []float64, n, r0, r1 int) bool {
 	return w.cholesky(a, n, mid, r1)
 }
 
-// solveUT overwrites the rows r0..r1 of x, columns c0..c1, holding B, with
-// X such that U[r0:r1][r0:r1]ᵀX = B; u and x are row major with stride n.
-func (w *Work) solveUT(u []float64, n, r0, r1 int, x []float64, c0, c1 int) {
+// SolveUT overwrites the n×m matrix X (row major, stride ldx) with U⁻ᵀX,
+// for the factor U from Cholesky (n×n, stride n): m triangular solves at
+// once, for the variances of m points.
+func (w *Work) SolveUT(u []float64, n int, x []float64, ldx, m int) {
+	w.solveUT(u, n, 0, n, x, ldx, 0, m)
+}
+
+// solveUT overwrites the rows r0..r1 of x (stride ldx), columns c0..c1,
+// holding B, with X such that U[r0:r1][r0:r1]ᵀX = B; u has stride n.
+func (w *Work) solveUT(u []float64, n, r0, r1 int, x []float64, ldx, c0, c1 int) {
 	if c1 <= c0 {
 		return
 	}
 	if r1-r0 <= leaf {
 		for r := r0; r < r1; r++ {
-			row := x[r*n+c0 : r*n+c1]
+			row := x[r*ldx+c0 : r*ldx+c1]
 			for q := r0; q < r; q++ {
 				if f := u[q*n+r]; f != 0 {
-					axpy(-f, x[q*n+c0:q*n+c1], row)
+					axpy(-f, x[q*ldx+c0:q*ldx+c1], row)
 				}
 			}
 			scale(1/u[r*n+r], row)
@@ -75,13 +82,13 @@ func (w *Work) solveUT(u []float64, n, r0, r1 int, x []float64, c0, c1 int) {
 		return
 	}
 	mid := r0 + split(r1-r0)
-	w.solveUT(u, n, r0, mid, x, c0, c1)
+	w.solveUT(u, n, r0, mid, x, ldx, c0, c1)
 	w.multiply(product{
 		m: r1 - mid, n: c1 - c0, k: mid - r0,
-		a: u[r0*n+mid:], lda: n, b: x[r0*n+c0:], ldb: n, c: x[mid*n+c0:], ldc: n,
+		a: u[r0*n+mid:], lda: n, b: x[r0*ldx+c0:], ldb: ldx, c: x[mid*ldx+c0:], ldc: ldx,
 		sign: -1,
 	})
-	w.solveUT(u, n, mid, r1, x, c0, c1)
+	w.solveUT(u, n, mid, r1, x, ldx, c0, c1)
 }
 
 // split returns where to halve an order, on a multiple of the tile's rows.
@@ -121,7 +128,7 @@ func (w *Work) Inverse(dst, u []float64, n int) bool {
 			})
 		}
 		// Then L[I][I]·V[I] = what is there.
-		w.solveUT(u, n, i0, i1, v, 0, i1)
+		w.solveUT(u, n, i0, i1, v, n, 0, i1)
 	}
 	// A⁻¹ = VᵀV, block column by block column of its upper triangle:
 	// A⁻¹[:j1][J] = V[j0:][:j1]ᵀ·V[j0:][J] (V[q][j] is zero for q < j).

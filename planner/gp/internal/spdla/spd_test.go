@@ -90,6 +90,43 @@ func TestAgainstLAPACK(t *testing.T) {
 	}
 }
 
+// SolveUT against gonum's triangular solve with many right-hand sides.
+func TestSolveUTAgainstTrsm(t *testing.T) {
+	r := rand.New(rand.NewPCG(9, 10))
+	for _, portable := range []bool{false, true} {
+		for _, n := range []int{1, 7, 40, 129, 300} {
+			for _, m := range []int{1, 5, 64, 70} {
+				u := randomSPD(n, r)
+				w := &Work{portable: portable}
+				w.Cholesky(u, n)
+				ldx := m + 3 // a stride wider than the block
+				x := make([]float64, n*ldx)
+				for i := range x {
+					x[i] = r.NormFloat64()
+				}
+				want := append([]float64(nil), x...)
+				blas64.Trsm(blas.Left, blas.Trans, 1,
+					blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: n, Stride: n, Data: u},
+					blas64.General{Rows: n, Cols: m, Stride: ldx, Data: want})
+				w.SolveUT(u, n, x, ldx, m)
+				var d, big float64
+				for i := 0; i < n; i++ {
+					for j := 0; j < ldx; j++ {
+						if j >= m && x[i*ldx+j] != want[i*ldx+j] {
+							t.Fatalf("n=%d m=%d: column %d past the block was changed", n, m, j)
+						}
+						d = math.Max(d, math.Abs(x[i*ldx+j]-want[i*ldx+j]))
+						big = math.Max(big, math.Abs(want[i*ldx+j]))
+					}
+				}
+				if d > 1e-12*big || math.IsNaN(d) {
+					t.Errorf("n=%d m=%d portable=%v: differs from Trsm by %.3g (largest %.3g)", n, m, portable, d, big)
+				}
+			}
+		}
+	}
+}
+
 func TestNotPositiveDefinite(t *testing.T) {
 	for _, n := range []int{3, 70, 200} {
 		a := randomSPD(n, rand.New(rand.NewPCG(3, uint64(n))))
