@@ -683,6 +683,7 @@ func clampUnit(u []float64) []float64 {
 }
 
 func dist2(a, b []float64) float64 {
+	b = b[:len(a)]
 	var s float64
 	for k := range a {
 		s += (a[k] - b[k]) * (a[k] - b[k])
@@ -690,10 +691,15 @@ func dist2(a, b []float64) float64 {
 	return s
 }
 
+// nearest returns the squared distance from u to the nearest point of set
+// (+Inf for none). The points are finite, so a plain comparison does what
+// math.Min would, without its checks for NaN and signed zeros.
 func nearest(u []float64, set [][]float64) float64 {
 	d := math.Inf(1)
 	for _, s := range set {
-		d = math.Min(d, dist2(u, s))
+		if v := dist2(u, s); v < d {
+			d = v
+		}
 	}
 	return d
 }

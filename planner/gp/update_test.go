@@ -153,3 +153,26 @@ func TestMeanBoundBoundsPredict(t *testing.T) {
 		t.Logf("noise %g: bound within a factor 2 of the sd at %d of %d points", noise, tight, len(pts))
 	}
 }
+
+// crossCov, four runs at a time and with vexp's exponentials, must give
+// what the kernel gives run by run (Kernel.corr of scaledDist), for every
+// kernel and a number of runs that leaves a remainder after the fours.
+func TestCrossCovMatchesKernel(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	x, y := randomData(rng, 83, 5, wave, 0.05)
+	for _, k := range []Kernel{Matern32, Matern52, SquaredExponential} {
+		m, err := New(x, y, defaultParams(k, 5))
+		if err != nil {
+			t.Fatal(err)
+		}
+		pts, _ := randomData(rng, 20, 5, wave, 0)
+		got := make([]float64, len(x))
+		for _, pt := range pts {
+			m.crossCov(got, pt)
+			for i, xi := range x {
+				want := m.p.SignalVar * k.corr(scaledDist(xi, pt, m.invLen))
+				closeTo(t, fmt.Sprintf("%v run %d", k, i), got[i], want, 1e-14)
+			}
+		}
+	}
+}
