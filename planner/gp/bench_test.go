@@ -10,7 +10,7 @@ import (
 // random start, no warm start) and of prediction, at the sizes of lab
 // campaigns. Run: go test ./planner/gp -run XXX -bench . -benchtime 3x
 func BenchmarkFit(b *testing.B) {
-	for _, n := range []int{50, 200, 1000} {
+	for _, n := range []int{50, 200, 300, 1000} {
 		for _, d := range []int{2, 6} {
 			b.Run(fmt.Sprintf("N=%d/d=%d", n, d), func(b *testing.B) {
 				rng := rand.New(rand.NewPCG(uint64(n), uint64(d)))

@@ -18,7 +18,9 @@
 // tiles of C held in registers (the register tile of Goto and van de
 // Geijn, "Anatomy of high-performance matrix multiplication", ACM TOMS
 // 34(3), 2008; A and B are read in place, not packed, except for the
-// narrow last strips). On amd64 processors with AVX2 and FMA the tile is
-// computed by a few lines of assembly; elsewhere by the same loop in Go.
+// narrow last strips). On amd64 processors with AVX-512, or with AVX2 and
+// FMA, the tile is computed by a few lines of assembly; elsewhere by the
+// same loop in Go. The AVX-512 tile sums in a different order, so results
+// can differ in the last bits from one processor to another.
 // Results agree with LAPACK's to rounding (tested against gonum's).
 package spdla

@@ -30,15 +30,52 @@ func tileGo(k int, a []float64, lda int, b []float64, ldb int, c []float64, ldc 
 	}
 }
 
-// tile is tileGo with the assembly kernel where the processor has one,
-// unless w asks for the portable loop (the tests compare the two). It
-// checks the bounds the assembly does not.
+// A tiler names one way of computing a tile: the widest the processor
+// has by default; the tests ask for each in turn.
+type tiler int
+
+const (
+	widest tiler = iota
+	avx2
+	portable
+)
+
+// tilers returns the ways of computing a tile that can run here, widest
+// first.
+func tilers() []tiler {
+	var ts []tiler
+	if hasAVX512 {
+		ts = append(ts, widest)
+	}
+	if hasFMA {
+		ts = append(ts, avx2)
+	}
+	return append(ts, portable)
+}
+
+func (t tiler) String() string {
+	switch {
+	case t == widest && hasAVX512:
+		return "avx512"
+	case t <= avx2 && hasFMA:
+		return "avx2"
+	}
+	return "go"
+}
+
+// tile is tileGo with an assembly kernel where the processor has one,
+// unless w asks for a narrower one (the tests compare them). It checks
+// the bounds the assembly does not.
 func (w *Work) tile(k int, a []float64, lda int, b []float64, ldb int, c []float64, ldc int, sign float64) {
 	if k <= 0 {
 		return
 	}
-	if hasFMA && !w.portable {
+	if w.tiles != portable && hasFMA {
 		_, _, _ = a[(k-1)*lda+mr-1], b[(k-1)*ldb+nr-1], c[(mr-1)*ldc+nr-1]
+		if w.tiles == widest && hasAVX512 {
+			tileAVX512(k, &a[0], lda, &b[0], ldb, &c[0], ldc, sign)
+			return
+		}
 		tileFMA(k, &a[0], lda, &b[0], ldb, &c[0], ldc, sign)
 		return
 	}

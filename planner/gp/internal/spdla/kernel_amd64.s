@@ -79,3 +79,98 @@ done:
 	VMOVUPD      Y9, 32(DX)
 	VZEROUPPER
 	RET
+
+// func tileAVX512(k int, a *float64, lda int, b *float64, ldb int, c *float64, ldc int, sign float64)
+//
+// tileFMA's sum with 512-bit registers: a row of the tile is one register.
+// Two steps of p at a time into two sets of four accumulators (Z0-Z3 for
+// even p, Z4-Z7 for odd p), added at the end, so that eight fused
+// multiply-adds are in flight.
+TEXT ·tileAVX512(SB), NOSPLIT, $0-64
+	MOVQ    k+0(FP), CX
+	MOVQ    a+8(FP), SI
+	MOVQ    lda+16(FP), R8
+	SHLQ    $3, R8
+	MOVQ    b+24(FP), DI
+	MOVQ    ldb+32(FP), R9
+	SHLQ    $3, R9
+	MOVQ    c+40(FP), DX
+	MOVQ    ldc+48(FP), R10
+	SHLQ    $3, R10
+	VPXORQ  Z0, Z0, Z0
+	VPXORQ  Z1, Z1, Z1
+	VPXORQ  Z2, Z2, Z2
+	VPXORQ  Z3, Z3, Z3
+	VPXORQ  Z4, Z4, Z4
+	VPXORQ  Z5, Z5, Z5
+	VPXORQ  Z6, Z6, Z6
+	VPXORQ  Z7, Z7, Z7
+	LEAQ    (SI)(R8*1), R11
+	LEAQ    (DI)(R9*1), R12
+	SHLQ    $1, R8
+	SHLQ    $1, R9
+
+pairs:
+	CMPQ         CX, $2
+	JLT          last
+	VMOVUPD      (DI), Z8
+	VMOVUPD      (R12), Z9
+	VBROADCASTSD (SI), Z10
+	VFMADD231PD  Z8, Z10, Z0
+	VBROADCASTSD (R11), Z11
+	VFMADD231PD  Z9, Z11, Z4
+	VBROADCASTSD 8(SI), Z12
+	VFMADD231PD  Z8, Z12, Z1
+	VBROADCASTSD 8(R11), Z13
+	VFMADD231PD  Z9, Z13, Z5
+	VBROADCASTSD 16(SI), Z14
+	VFMADD231PD  Z8, Z14, Z2
+	VBROADCASTSD 16(R11), Z15
+	VFMADD231PD  Z9, Z15, Z6
+	VBROADCASTSD 24(SI), Z10
+	VFMADD231PD  Z8, Z10, Z3
+	VBROADCASTSD 24(R11), Z11
+	VFMADD231PD  Z9, Z11, Z7
+	ADDQ         R8, SI
+	ADDQ         R8, R11
+	ADDQ         R9, DI
+	ADDQ         R9, R12
+	SUBQ         $2, CX
+	JMP          pairs
+
+last:
+	TESTQ        CX, CX
+	JE           sum
+	VMOVUPD      (DI), Z8
+	VBROADCASTSD (SI), Z10
+	VFMADD231PD  Z8, Z10, Z0
+	VBROADCASTSD 8(SI), Z12
+	VFMADD231PD  Z8, Z12, Z1
+	VBROADCASTSD 16(SI), Z14
+	VFMADD231PD  Z8, Z14, Z2
+	VBROADCASTSD 24(SI), Z10
+	VFMADD231PD  Z8, Z10, Z3
+
+sum:
+	VADDPD       Z4, Z0, Z0
+	VADDPD       Z5, Z1, Z1
+	VADDPD       Z6, Z2, Z2
+	VADDPD       Z7, Z3, Z3
+	VBROADCASTSD sign+56(FP), Z8
+	VMOVUPD      (DX), Z9
+	VFMADD231PD  Z0, Z8, Z9
+	VMOVUPD      Z9, (DX)
+	ADDQ         R10, DX
+	VMOVUPD      (DX), Z9
+	VFMADD231PD  Z1, Z8, Z9
+	VMOVUPD      Z9, (DX)
+	ADDQ         R10, DX
+	VMOVUPD      (DX), Z9
+	VFMADD231PD  Z2, Z8, Z9
+	VMOVUPD      Z9, (DX)
+	ADDQ         R10, DX
+	VMOVUPD      (DX), Z9
+	VFMADD231PD  Z3, Z8, Z9
+	VMOVUPD      Z9, (DX)
+	VZEROUPPER
+	RET

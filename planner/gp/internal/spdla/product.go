@@ -29,8 +29,9 @@ type product struct {
 type Work struct {
 	pa, pb []float64 // the last, narrow strips of A and B, zero padded
 	v      []float64 // U⁻ᵀ, for Inverse
-	// portable computes tiles in Go even where the assembly can run.
-	portable bool
+	// tiles is how tiles are computed: the zero value, the widest way
+	// the processor has.
+	tiles tiler
 }
 
 func (w *Work) multiply(p product) {

@@ -55,15 +55,15 @@ func upperMaxDiff(n int, x, y []float64) (float64, float64) {
 // slice of the product's blocking (kc 256, mc 128, nc 512).
 func TestAgainstLAPACK(t *testing.T) {
 	r := rand.New(rand.NewPCG(1, 2))
-	for _, portable := range []bool{false, true} {
+	for _, tiles := range tilers() {
 		for _, n := range []int{1, 2, 3, 5, 8, 9, 31, 63, 64, 65, 127, 130, 257, 300, 530} {
-			t.Run(fmt.Sprintf("n=%d,portable=%v", n, portable), func(t *testing.T) {
+			t.Run(fmt.Sprintf("n=%d,tiles=%v", n, tiles), func(t *testing.T) {
 				a := randomSPD(n, r)
 				want := append([]float64(nil), a...)
 				if _, ok := lapack64.Potrf(blas64.Symmetric{Uplo: blas.Upper, N: n, Stride: n, Data: want}); !ok {
 					t.Fatal("gonum: not positive definite")
 				}
-				w := &Work{portable: portable}
+				w := &Work{tiles: tiles}
 				got := append([]float64(nil), a...)
 				if !w.Cholesky(got, n) {
 					t.Fatal("Cholesky reported not positive definite")
@@ -93,11 +93,11 @@ func TestAgainstLAPACK(t *testing.T) {
 // SolveUT against gonum's triangular solve with many right-hand sides.
 func TestSolveUTAgainstTrsm(t *testing.T) {
 	r := rand.New(rand.NewPCG(9, 10))
-	for _, portable := range []bool{false, true} {
+	for _, tiles := range tilers() {
 		for _, n := range []int{1, 7, 40, 129, 300} {
 			for _, m := range []int{1, 5, 64, 70} {
 				u := randomSPD(n, r)
-				w := &Work{portable: portable}
+				w := &Work{tiles: tiles}
 				w.Cholesky(u, n)
 				ldx := m + 3 // a stride wider than the block
 				x := make([]float64, n*ldx)
@@ -120,7 +120,7 @@ func TestSolveUTAgainstTrsm(t *testing.T) {
 					}
 				}
 				if d > 1e-12*big || math.IsNaN(d) {
-					t.Errorf("n=%d m=%d portable=%v: differs from Trsm by %.3g (largest %.3g)", n, m, portable, d, big)
+					t.Errorf("n=%d m=%d tiles=%v: differs from Trsm by %.3g (largest %.3g)", n, m, tiles, d, big)
 				}
 			}
 		}
@@ -151,36 +151,51 @@ func TestTileMatchesGo(t *testing.T) {
 		t.Skip("no AVX2 and FMA here: only the Go tile runs")
 	}
 	r := rand.New(rand.NewPCG(5, 6))
-	for k := 1; k < 300; k += 7 {
-		a, b := make([]float64, k*mr), make([]float64, k*nr)
-		for i := range a {
-			a[i] = r.NormFloat64()
+	for _, tiles := range tilers() {
+		if tiles == portable {
+			continue
 		}
-		for i := range b {
-			b[i] = r.NormFloat64()
-		}
-		var got, want [mr * nr]float64
-		(&Work{}).tile(k, a, mr, b, nr, got[:], nr, -1)
-		tileGo(k, a, mr, b, nr, want[:], nr, -1)
-		for i := range got {
-			if math.Abs(got[i]-want[i]) > 1e-12*float64(k) {
-				t.Fatalf("k=%d: entry %d is %v, the Go loop gives %v", k, i, got[i], want[i])
+		for k := 1; k < 300; k += 7 {
+			// Strides wider than the tile, as inside a matrix.
+			lda, ldb, ldc := mr+3, nr+5, nr+2
+			a, b := make([]float64, k*lda), make([]float64, k*ldb)
+			for i := range a {
+				a[i] = r.NormFloat64()
+			}
+			for i := range b {
+				b[i] = r.NormFloat64()
+			}
+			got, want := make([]float64, mr*ldc), make([]float64, mr*ldc)
+			for i := range got {
+				got[i] = float64(i)
+				want[i] = float64(i)
+			}
+			(&Work{tiles: tiles}).tile(k, a, lda, b, ldb, got, ldc, -1)
+			tileGo(k, a, lda, b, ldb, want, ldc, -1)
+			for i := range got {
+				if math.Abs(got[i]-want[i]) > 1e-12*float64(k) {
+					t.Fatalf("%v, k=%d: entry %d is %v, the Go loop gives %v", tiles, k, i, got[i], want[i])
+				}
 			}
 		}
 	}
 }
 
+// The benchmarks run each way of computing a tile that this processor
+// has (ours/avx512, ours/avx2, ours/go) beside gonum's LAPACK.
 func BenchmarkCholesky(b *testing.B) {
-	for _, n := range []int{200, 1000} {
+	for _, n := range []int{200, 300, 1000} {
 		a := randomSPD(n, rand.New(rand.NewPCG(7, uint64(n))))
 		work := make([]float64, n*n)
-		b.Run(fmt.Sprintf("ours/n=%d", n), func(b *testing.B) {
-			var w Work
-			for b.Loop() {
-				copy(work, a)
-				w.Cholesky(work, n)
-			}
-		})
+		for _, tiles := range tilers() {
+			b.Run(fmt.Sprintf("ours/%v/n=%d", tiles, n), func(b *testing.B) {
+				w := Work{tiles: tiles}
+				for b.Loop() {
+					copy(work, a)
+					w.Cholesky(work, n)
+				}
+			})
+		}
 		b.Run(fmt.Sprintf("gonum/n=%d", n), func(b *testing.B) {
 			for b.Loop() {
 				copy(work, a)
@@ -191,16 +206,18 @@ func BenchmarkCholesky(b *testing.B) {
 }
 
 func BenchmarkInverse(b *testing.B) {
-	for _, n := range []int{200, 1000} {
+	for _, n := range []int{200, 300, 1000} {
 		u := randomSPD(n, rand.New(rand.NewPCG(8, uint64(n))))
-		var w Work
-		w.Cholesky(u, n)
+		(&Work{}).Cholesky(u, n)
 		dst := make([]float64, n*n)
-		b.Run(fmt.Sprintf("ours/n=%d", n), func(b *testing.B) {
-			for b.Loop() {
-				w.Inverse(dst, u, n)
-			}
-		})
+		for _, tiles := range tilers() {
+			b.Run(fmt.Sprintf("ours/%v/n=%d", tiles, n), func(b *testing.B) {
+				w := Work{tiles: tiles}
+				for b.Loop() {
+					w.Inverse(dst, u, n)
+				}
+			})
+		}
 		b.Run(fmt.Sprintf("gonum/n=%d", n), func(b *testing.B) {
 			for b.Loop() {
 				copy(dst, u)
