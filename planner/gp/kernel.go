@@ -80,6 +80,38 @@ func (k Kernel) slope(r float64) float64 {
 	}
 }
 
+// corrRow turns a row of squared scaled distances r2 into k(r), written
+// into kc (which may be r2), with the row's exponentials computed
+// together; arg is scratch as long as r2. The correlations are
+// corrSlopeRow's, value for value.
+func (k Kernel) corrRow(r2, kc, arg []float64) {
+	n := len(r2)
+	kc, arg = kc[:n], arg[:n]
+	if k == SquaredExponential {
+		for j, v := range r2 {
+			arg[j] = -0.5 * v
+		}
+		vexp.Exp(kc, arg)
+		return
+	}
+	c := sqrt5
+	if k == Matern32 {
+		c = sqrt3
+	}
+	for j, v := range r2 {
+		arg[j] = -c * math.Sqrt(v)
+	}
+	vexp.Exp(kc, arg)
+	for j, e := range kc {
+		s := -arg[j]
+		if k == Matern32 {
+			kc[j] = (1 + s) * e
+		} else {
+			kc[j] = (1 + s + s*s/3) * e
+		}
+	}
+}
+
 // corrSlopeRow turns a row of squared scaled distances r2 into k(r),
 // written into kc (which may be r2), and g(r) (see slope), into gc, with
 // one exponential for both and the row's exponentials computed together.

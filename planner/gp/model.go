@@ -5,8 +5,6 @@ import (
 	"fmt"
 	"math"
 
-	"benchtender/planner/gp/internal/vexp"
-
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
@@ -270,7 +268,8 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 // crossCov fills dst with k(x_i, x) for every data point: s²·corr of
 // the scaled distance, as Kernel.corr and scaledDist compute it but with
 // vexp's exponential (within a few units in the last place of
-// math.Exp's), in two passes: the squared distances, then the kernel.
+// math.Exp's), in two passes: the squared distances, then the kernel
+// (Kernel.corrRow, as the fit builds its matrix).
 func (m *Model) crossCov(dst []float64, x []float64) {
 	inv := m.invLen[:len(x)]
 	// Four runs at a time: four independent sums keep the processor busy
@@ -298,39 +297,14 @@ func (m *Model) crossCov(dst []float64, x []float64) {
 		}
 		dst[i] = r2
 	}
-	// Then the kernel, a chunk at a time, with the chunk's exponentials
-	// computed together (vexp).
+	// Then the kernel, a chunk at a time (corrRow's scratch on the stack).
 	s2 := m.p.SignalVar
-	var arg, e [64]float64
+	var arg [64]float64
 	for lo := 0; lo < len(dst); lo += len(arg) {
 		ch := dst[lo:min(lo+len(arg), len(dst))]
-		a := arg[:len(ch)]
-		switch m.p.Kernel {
-		case Matern32:
-			for i, r2 := range ch {
-				a[i] = -sqrt3 * math.Sqrt(r2)
-			}
-		case SquaredExponential:
-			for i, r2 := range ch {
-				r := math.Sqrt(r2)
-				a[i] = -0.5 * r * r
-			}
-		default:
-			for i, r2 := range ch {
-				a[i] = -sqrt5 * math.Sqrt(r2)
-			}
-		}
-		vexp.Exp(e[:len(ch)], a)
-		for i, v := range e[:len(ch)] {
-			t := -a[i]
-			switch m.p.Kernel {
-			case Matern32:
-				ch[i] = s2 * ((1 + t) * v)
-			case SquaredExponential:
-				ch[i] = s2 * v
-			default:
-				ch[i] = s2 * ((1 + t + t*t/3) * v)
-			}
+		m.p.Kernel.corrRow(ch, ch, arg[:])
+		for i, v := range ch {
+			ch[i] = s2 * v
 		}
 	}
 }
