@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 
+	"benchtender/planner/gp/internal/spdla"
+
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/mat"
@@ -239,6 +241,7 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 	s2 := m.yScale * m.yScale
 	q := min(predictBlock, len(xs))
 	buf, tr := make([]float64, n*q), make([]float64, n*q)
+	var w spdla.Work
 	cols := make([][]float64, q)
 	for j := range cols {
 		cols[j] = buf[j*n : j*n+n]
@@ -254,7 +257,7 @@ func (m *Model) PredictMany(xs [][]float64, mean, variance []float64) {
 			mean[lo+j] = m.yMean + m.yScale*(m.p.Mean+dot(vs[j], m.alpha))
 		}
 		// V = U⁻ᵀ K*, column by column k*ᵀ K⁻¹ k* = ‖v‖².
-		m.c.halfSolveMany(vs, tr)
+		m.c.halfSolveMany(vs, tr, &w)
 		for j, v := range vs {
 			var ss float64
 			for _, c := range v {
@@ -326,7 +329,7 @@ func (m *Model) PredictJoint(xs [][]float64) ([]float64, *mat.SymDense) {
 		m.crossCov(rows[j], x)
 		mean[j] = m.yMean + m.yScale*(m.p.Mean+dot(rows[j], m.alpha))
 	}
-	m.c.halfSolveMany(rows, make([]float64, n*q))
+	m.c.halfSolveMany(rows, make([]float64, n*q), new(spdla.Work))
 	vtv := blas64.Symmetric{Uplo: blas.Upper, N: q, Stride: q, Data: make([]float64, q*q)}
 	blas64.Syrk(blas.NoTrans, 1, w, 0, vtv)
 	cov := mat.NewSymDense(q, nil)

@@ -77,7 +77,8 @@ func (c *spd) halfSolve(b []float64) {
 // one: the bs side by side as the columns of one matrix (buf, at least
 // n·len(bs) long), solved at once by spdla, whose products in tiles do
 // the O(n²) work a point several times faster than one solve a point.
-func (c *spd) halfSolveMany(bs [][]float64, buf []float64) {
+// w is spdla's scratch, kept by the caller from block to block.
+func (c *spd) halfSolveMany(bs [][]float64, buf []float64, w *spdla.Work) {
 	n, m := c.n, len(bs)
 	if m == 0 {
 		return
@@ -88,7 +89,7 @@ func (c *spd) halfSolveMany(bs [][]float64, buf []float64) {
 			x[i*m+j] = v
 		}
 	}
-	new(spdla.Work).SolveUT(c.u, n, x, m, m)
+	w.SolveUT(c.u, n, x, m, m)
 	for j, b := range bs {
 		for i := range b[:n] {
 			b[i] = x[i*m+j]
