@@ -1,5 +1,29 @@
 #include "textflag.h"
 
+// TILE_START loads the arguments both tiles share (k in CX; a, b and c
+// in SI, DI and DX; their strides in bytes in R8, R9 and R10) and zeroes
+// the eight accumulators. A VEX instruction on a Y register clears the
+// rest of its Z register too, so this serves the AVX-512 tile as well.
+#define TILE_START \
+	MOVQ   k+0(FP), CX      \
+	MOVQ   a+8(FP), SI      \
+	MOVQ   lda+16(FP), R8   \
+	SHLQ   $3, R8           \
+	MOVQ   b+24(FP), DI     \
+	MOVQ   ldb+32(FP), R9   \
+	SHLQ   $3, R9           \
+	MOVQ   c+40(FP), DX     \
+	MOVQ   ldc+48(FP), R10  \
+	SHLQ   $3, R10          \
+	VXORPD Y0, Y0, Y0       \
+	VXORPD Y1, Y1, Y1       \
+	VXORPD Y2, Y2, Y2       \
+	VXORPD Y3, Y3, Y3       \
+	VXORPD Y4, Y4, Y4       \
+	VXORPD Y5, Y5, Y5       \
+	VXORPD Y6, Y6, Y6       \
+	VXORPD Y7, Y7, Y7
+
 // func tileFMA(k int, a *float64, lda int, b *float64, ldb int, c *float64, ldc int, sign float64)
 //
 // C[r][j] += sign·Σ_p A[p][r]·B[p][j] for r < 4, j < 8, p < k, where
@@ -7,24 +31,7 @@
 // Eight accumulators, one per half row of the tile (Y0-Y7), so that
 // eight fused multiply-adds are in flight, as the units' latency needs.
 TEXT ·tileFMA(SB), NOSPLIT, $0-64
-	MOVQ k+0(FP), CX
-	MOVQ a+8(FP), SI
-	MOVQ lda+16(FP), R8
-	SHLQ $3, R8
-	MOVQ b+24(FP), DI
-	MOVQ ldb+32(FP), R9
-	SHLQ $3, R9
-	MOVQ c+40(FP), DX
-	MOVQ ldc+48(FP), R10
-	SHLQ $3, R10
-	VXORPD Y0, Y0, Y0
-	VXORPD Y1, Y1, Y1
-	VXORPD Y2, Y2, Y2
-	VXORPD Y3, Y3, Y3
-	VXORPD Y4, Y4, Y4
-	VXORPD Y5, Y5, Y5
-	VXORPD Y6, Y6, Y6
-	VXORPD Y7, Y7, Y7
+	TILE_START
 
 loop:
 	TESTQ CX, CX
@@ -87,24 +94,7 @@ done:
 // even p, Z4-Z7 for odd p), added at the end, so that eight fused
 // multiply-adds are in flight.
 TEXT ·tileAVX512(SB), NOSPLIT, $0-64
-	MOVQ    k+0(FP), CX
-	MOVQ    a+8(FP), SI
-	MOVQ    lda+16(FP), R8
-	SHLQ    $3, R8
-	MOVQ    b+24(FP), DI
-	MOVQ    ldb+32(FP), R9
-	SHLQ    $3, R9
-	MOVQ    c+40(FP), DX
-	MOVQ    ldc+48(FP), R10
-	SHLQ    $3, R10
-	VPXORQ  Z0, Z0, Z0
-	VPXORQ  Z1, Z1, Z1
-	VPXORQ  Z2, Z2, Z2
-	VPXORQ  Z3, Z3, Z3
-	VPXORQ  Z4, Z4, Z4
-	VPXORQ  Z5, Z5, Z5
-	VPXORQ  Z6, Z6, Z6
-	VPXORQ  Z7, Z7, Z7
+	TILE_START
 	LEAQ    (SI)(R8*1), R11
 	LEAQ    (DI)(R9*1), R12
 	SHLQ    $1, R8
