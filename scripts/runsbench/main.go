@@ -32,10 +32,9 @@ import (
 	"strings"
 	"time"
 
-	"benchtender/campaign"
 	"benchtender/planner"
-	"benchtender/planner/gp"
 	"benchtender/planner/testfn"
+	"benchtender/scripts/internal/closedloop"
 	"benchtender/scripts/internal/pool"
 )
 
@@ -200,56 +199,11 @@ func stopTable(stdout io.Writer, probs []testfn.Problem, jobs []job, results []o
 // stopping rule is on and the campaign goes on until it fires (its run
 // count is returned last; 0 when it never fired).
 func campaignRuns(prob testfn.Problem, seed uint64, cfg planner.Config, stop bool) (int, bool, int) {
-	f := prob.Instance(seed)
-	if stop {
-		cfg.Stop = planner.StopConfig{Tolerance: map[string]float64{}, EIBelow: prob.Tol / 10}
-		for _, fa := range f.Space {
-			cfg.Stop.Tolerance[fa.Name] = 0.05 * (fa.Max - fa.Min)
-		}
+	o, err := closedloop.Run(context.Background(), prob, seed, cfg, stop, nil)
+	if err != nil {
+		fmt.Fprintf(os.Stderr, "\n%v\n", err)
 	}
-	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: seed, MaxRuns: prob.Budget, Factors: f.Space,
-		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
-	p := planner.New(cc, cfg)
-	noise := rand.New(rand.NewPCG(seed, 99))
-	var trials []campaign.Trial
-	var warm *gp.Params
-	var previous *planner.Surrogate
-	var asides []planner.Aside
-	reachedAt := 0
-	for i := 0; i < prob.Budget; i++ {
-		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm, Previous: previous, Aside: asides})
-		if err != nil {
-			fmt.Fprintf(os.Stderr, "\n%s seed %d run %d: %v\n", prob.Name, seed, i, err)
-			return prob.Budget, false, 0
-		}
-		if res.Stop != "" {
-			if reachedAt == 0 {
-				return prob.Budget, false, i
-			}
-			return reachedAt, true, i
-		}
-		warm = res.Fit
-		previous = res.Surrogate
-		if res.NewAside != nil {
-			asides = append(asides, *res.NewAside) // as the agent journals it
-		}
-		truth := f.F(res.Proposal.Point)
-		obs := truth
-		if prob.NoiseSD > 0 {
-			obs += prob.NoiseSD * noise.NormFloat64()
-		}
-		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: obs})
-		if prob.Reached(truth) && reachedAt == 0 {
-			reachedAt = i + 1
-			if !stop {
-				return reachedAt, true, 0
-			}
-		}
-	}
-	if reachedAt > 0 {
-		return reachedAt, true, 0
-	}
-	return prob.Budget, false, 0
+	return o.Runs, o.Reached, o.Stopped
 }
 
 // An order is a baseline's sequence of points for one seed.

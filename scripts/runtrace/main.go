@@ -1,5 +1,6 @@
 // Command runtrace prints one closed-loop campaign of runsbench run by run:
-// each run's true value, the best so far, how it was chosen and where,
+// each run's true value (noise, where the problem has it, goes to the
+// planner only), the best so far, how it was chosen and where,
 // and every region set aside or released, with its reason. It is for
 // seeing why a campaign misses the optimum, not for counting.
 //
@@ -13,10 +14,9 @@ import (
 	"os"
 	"strconv"
 
-	"benchtender/campaign"
 	"benchtender/planner"
-	"benchtender/planner/gp"
 	"benchtender/planner/testfn"
+	"benchtender/scripts/internal/closedloop"
 )
 
 func main() {
@@ -40,34 +40,17 @@ func main() {
 		fmt.Fprintf(os.Stderr, "runtrace: no problem %q in the suite\n", name)
 		os.Exit(2)
 	}
-	f := prob.Instance(uint64(seed))
-	cfg := planner.Default()
-	cc := campaign.Config{Name: "bench", StateDir: "x", Seed: uint64(seed), MaxRuns: prob.Budget, Factors: f.Space,
-		Response: campaign.Response{Name: "f", Goal: campaign.Minimise}}
-	p := planner.New(cc, cfg)
-	var trials []campaign.Trial
-	var warm *gp.Params
-	var previous *planner.Surrogate
-	var asides []planner.Aside
 	best := math.Inf(1)
-	for i := 0; i < prob.Budget; i++ {
-		res, err := p.Propose(context.Background(), planner.Request{RunID: "R", Index: i, Trials: trials, Warm: warm, Previous: previous, Aside: asides})
-		if err != nil {
-			fmt.Fprintf(os.Stderr, "runtrace: run %d: %v\n", i+1, err)
-			os.Exit(1)
+	_, err = closedloop.Run(context.Background(), prob, uint64(seed), planner.Default(), false, func(st closedloop.Step) {
+		if na := st.Result.NewAside; na != nil {
+			fmt.Printf("    region: release %v, centre %.2v, length scales %.2v: %s\n", na.Release, na.Centre, na.Scales, na.Reason)
 		}
-		warm, previous = res.Fit, res.Surrogate
-		if res.NewAside != nil {
-			asides = append(asides, *res.NewAside)
-			fmt.Printf("    region: release %v, centre %.2v, length scales %.2v: %s\n", res.NewAside.Release, res.NewAside.Centre, res.NewAside.Scales, res.NewAside.Reason)
-		}
-		v := f.F(res.Proposal.Point)
-		best = math.Min(best, v)
-		fmt.Printf("%3d %9.3f best %9.3f %-30s %.2v\n", i+1, v, best, res.Proposal.Method, res.Proposal.Point)
-		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: v})
-		if prob.Reached(v) {
-			break
-		}
+		best = math.Min(best, st.Truth)
+		fmt.Printf("%3d %9.3f best %9.3f %-30s %.2v\n", st.Index+1, st.Truth, best, st.Result.Proposal.Method, st.Result.Proposal.Point)
+	})
+	if err != nil {
+		fmt.Fprintln(os.Stderr, "runtrace:", err)
+		os.Exit(1)
 	}
 	fmt.Printf("known minimum %g, tolerance %g\n", prob.Function.Min, prob.Tol)
 }
