@@ -80,28 +80,37 @@ func (k Kernel) slope(r float64) float64 {
 	}
 }
 
-// corrRow turns a row of squared scaled distances r2 into k(r), written
-// into kc (which may be r2), with the row's exponentials computed
-// together; arg is scratch as long as r2. The correlations are
-// corrSlopeRow's, value for value.
-func (k Kernel) corrRow(r2, kc, arg []float64) {
-	n := len(r2)
-	kc, arg = kc[:n], arg[:n]
+// expRow writes into arg the exponent of the kernel's exponential for
+// each squared scaled distance of r2 (−r²/2, or −√5 r, −√3 r for the
+// Matérn kernels) and into e its exponential, the row's computed
+// together (vexp). e may be r2; arg must not.
+func (k Kernel) expRow(r2, e, arg []float64) {
 	if k == SquaredExponential {
 		for j, v := range r2 {
 			arg[j] = -0.5 * v
 		}
-		vexp.Exp(kc, arg)
+	} else {
+		c := sqrt5
+		if k == Matern32 {
+			c = sqrt3
+		}
+		for j, v := range r2 {
+			arg[j] = -c * math.Sqrt(v)
+		}
+	}
+	vexp.Exp(e, arg)
+}
+
+// corrRow turns a row of squared scaled distances r2 into k(r), written
+// into kc (which may be r2); arg is scratch as long as r2. The
+// correlations are corrSlopeRow's, value for value.
+func (k Kernel) corrRow(r2, kc, arg []float64) {
+	n := len(r2)
+	kc, arg = kc[:n], arg[:n]
+	k.expRow(r2, kc, arg)
+	if k == SquaredExponential {
 		return
 	}
-	c := sqrt5
-	if k == Matern32 {
-		c = sqrt3
-	}
-	for j, v := range r2 {
-		arg[j] = -c * math.Sqrt(v)
-	}
-	vexp.Exp(kc, arg)
 	for j, e := range kc {
 		s := -arg[j]
 		if k == Matern32 {
@@ -114,27 +123,16 @@ func (k Kernel) corrRow(r2, kc, arg []float64) {
 
 // corrSlopeRow turns a row of squared scaled distances r2 into k(r),
 // written into kc (which may be r2), and g(r) (see slope), into gc, with
-// one exponential for both and the row's exponentials computed together.
-// arg is scratch as long as r2.
+// one exponential for both. arg is scratch as long as r2.
 func (k Kernel) corrSlopeRow(r2, kc, gc, arg []float64) {
 	n := len(r2)
 	kc, gc, arg = kc[:n], gc[:n], arg[:n]
 	if k == SquaredExponential {
-		for j, v := range r2 {
-			arg[j] = -0.5 * v
-		}
-		vexp.Exp(kc, arg)
+		k.expRow(r2, kc, arg)
 		copy(gc, kc)
 		return
 	}
-	c := sqrt5
-	if k == Matern32 {
-		c = sqrt3
-	}
-	for j, v := range r2 {
-		arg[j] = -c * math.Sqrt(v)
-	}
-	vexp.Exp(gc, arg) // e = exp(−s), into gc for now
+	k.expRow(r2, gc, arg) // e = exp(−s), into gc for now
 	for j, e := range gc {
 		s := -arg[j]
 		if k == Matern32 {
