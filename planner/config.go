@@ -16,13 +16,16 @@ const (
 	AcqProbability         = "probability_of_improvement"
 	AcqThompson            = "thompson"
 	AcqPortfolio           = "portfolio"
+	AcqEntropy             = "max_value_entropy"
 )
 
 // Config is the [planner] section.
 type Config struct {
 	// Acquisition picks the next run: "expected_improvement" (default, in
-	// its log form), "confidence_bound", "probability_of_improvement" or
-	// "thompson" (the minimiser of one posterior draw).
+	// its log form), "confidence_bound", "probability_of_improvement",
+	// "thompson" (the minimiser of one posterior draw), "portfolio" or
+	// "max_value_entropy" (where a run tells most about the minimum's
+	// value).
 	Acquisition string `toml:"acquisition"`
 	// Beta weighs exploration in the confidence bound: mean − beta·sd.
 	Beta float64 `toml:"beta"`
@@ -127,9 +130,9 @@ func Default() Config {
 func (c Config) Validate() campaign.Problems {
 	var ps campaign.Problems
 	switch c.Acquisition {
-	case AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, AcqPortfolio:
+	case AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, AcqPortfolio, AcqEntropy:
 	default:
-		ps.Add("acquisition", "must be %s, %s, %s, %s or %s, got %q", AcqPortfolio, AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, c.Acquisition)
+		ps.Add("acquisition", "must be %s, %s, %s, %s, %s or %s, got %q", AcqPortfolio, AcqExpectedImprovement, AcqConfidenceBound, AcqProbability, AcqThompson, AcqEntropy, c.Acquisition)
 	}
 	switch c.Front.Acquisition {
 	case FrontHypervolume, FrontScalarised:

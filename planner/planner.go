@@ -24,6 +24,8 @@ const (
 	MethodImprovement = "expected improvement"
 	// MethodThompson is the minimiser of one posterior draw.
 	MethodThompson = "thompson sampling"
+	// MethodEntropy is max-value entropy search (entropy.go).
+	MethodEntropy = "max-value entropy search"
 )
 
 // Planner proposes setpoints for one campaign.

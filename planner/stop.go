@@ -121,35 +121,9 @@ func (p *Planner) stopping(ctx context.Context, f *Fitted, ei float64, rng *rand
 }
 
 // locationBox returns the 90% credible box of the optimum's location, in
-// factor units, from samples joint posterior draws at a candidate set:
-// min(64, 16·d) points of a Latin hypercube, the runs, and 10 points
-// around each of the three best runs at each of two scales (2% and 6% of
-// the range), snapped to valid, feasible setpoints.
+// factor units, from samples joint posterior draws at jointCandidates.
 func (p *Planner) locationBox(f *Fitted, samples int, rng *rand.Rand) ([][2]float64, error) {
-	d := p.space.Dim()
-	var cands []campaign.Point
-	add := func(u campaign.Point) {
-		if u = p.snapUnit(u); p.feasibleUnit(u) {
-			cands = append(cands, u)
-		}
-	}
-	for _, u := range LatinHypercube(min(64, 16*d), d, rng) {
-		add(u)
-	}
-	for _, u := range f.x {
-		add(u)
-	}
-	for _, sigma := range []float64{0.02, 0.06} {
-		for _, a := range byValue(f.x, f.y)[:min(3, len(f.x))] {
-			for j := 0; j < 10; j++ {
-				c := make(campaign.Point, d)
-				for k := range c {
-					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
-				}
-				add(c)
-			}
-		}
-	}
+	cands := p.jointCandidates(f.x, byValue(f.x, f.y), rng)
 	xs := make([][]float64, len(cands))
 	for i, u := range cands {
 		xs[i] = p.encode(u)
@@ -171,4 +145,36 @@ func (p *Planner) locationBox(f *Fitted, samples int, rng *rand.Rand) ([][2]floa
 	}
 	box, _ := credibleBox(mins, 0.9)
 	return box, nil
+}
+
+// jointCandidates is the set at which the optimum is drawn jointly:
+// min(64, 16·d) points of a Latin hypercube, the runs, and 10 points around
+// each of the three best runs (best, best first) at each of two scales (2%
+// and 6% of the range), snapped to valid, feasible setpoints.
+func (p *Planner) jointCandidates(runs, best [][]float64, rng *rand.Rand) []campaign.Point {
+	d := p.space.Dim()
+	var cands []campaign.Point
+	add := func(u campaign.Point) {
+		if u = p.snapUnit(u); p.feasibleUnit(u) {
+			cands = append(cands, u)
+		}
+	}
+	for _, u := range LatinHypercube(min(64, 16*d), d, rng) {
+		add(u)
+	}
+	for _, u := range runs {
+		add(u)
+	}
+	for _, sigma := range []float64{0.02, 0.06} {
+		for _, a := range best[:min(3, len(best))] {
+			for j := 0; j < 10; j++ {
+				c := make(campaign.Point, d)
+				for k := range c {
+					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
+				}
+				add(c)
+			}
+		}
+	}
+	return cands
 }

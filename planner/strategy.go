@@ -66,6 +66,8 @@ func (p *Planner) strategyFor() strategy {
 		return improvement{probability: true}
 	case AcqThompson:
 		return thompson{}
+	case AcqEntropy:
+		return entropy{}
 	case AcqPortfolio:
 		return portfolio{every: p.cfg.ThompsonEvery, nInit: p.nInit, main: improvement{shortlist: p.cfg.Shortlist}}
 	case AcqExpectedImprovement:

@@ -12,6 +12,7 @@ type vectors struct {
 	Erfcx  [][2]float64 `json:"erfcx"`
 	LogH   [][2]float64 `json:"log_h"`
 	LogPhi [][2]float64 `json:"log_Phi"`
+	LogMES [][2]float64 `json:"log_mes"`
 }
 
 func loadVectors(t *testing.T) vectors {
