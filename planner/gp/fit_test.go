@@ -1,6 +1,7 @@
 package gp
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -105,25 +106,10 @@ func TestIsotropicFit(t *testing.T) {
 		for k := range th {
 			th[k] = -1.5 + rng.Float64()
 		}
-		r, expand, fold := o.reduce(th)
-		if len(r) != 4 {
+		if r, _, _ := o.reduce(th); len(r) != 4 {
 			t.Fatalf("d=%d: reduced vector has %d values, want 4", d, len(r))
 		}
-		full, g := make([]float64, d+3), make([]float64, len(r))
-		o.eval(expand(r), full)
-		fold(g, full)
-		const h = 1e-6
-		for k := range r {
-			rp, rm := slices.Clone(r), slices.Clone(r)
-			rp[k] += h
-			rm[k] -= h
-			fp := o.eval(expand(rp), nil)
-			fm := o.eval(expand(rm), nil)
-			fd := (fp - fm) / (2 * h)
-			if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
-				t.Errorf("d=%d r[%d]: analytic %.8g, finite difference %.8g", d, k, g[k], fd)
-			}
-		}
+		checkReducedGradient(t, o, th, fmt.Sprintf("d=%d", d))
 		m, err := Fit(x, y, FitOptions{Kernel: Matern32, Isotropic: true, Starts: 2, Rand: rng})
 		if err != nil {
 			t.Fatal(err)
@@ -228,23 +214,10 @@ func TestProfiledMeanGradient(t *testing.T) {
 			for k := range th {
 				th[k] = -1.5 + rng.Float64()
 			}
-			r, expand, fold := o.reduce(th)
-			if want := len(th) - 1; !c.iso && len(r) != want {
-				t.Fatalf("reduced vector has %d values, want %d (no mean)", len(r), want)
+			if r, _, _ := o.reduce(th); !c.iso && len(r) != len(th)-1 {
+				t.Fatalf("reduced vector has %d values, want %d (no mean)", len(r), len(th)-1)
 			}
-			full, g := make([]float64, c.d+3), make([]float64, len(r))
-			o.eval(expand(r), full)
-			fold(g, full)
-			const h = 1e-6
-			for k := range r {
-				rp, rm := slices.Clone(r), slices.Clone(r)
-				rp[k] += h
-				rm[k] -= h
-				fd := (o.eval(expand(rp), nil) - o.eval(expand(rm), nil)) / (2 * h)
-				if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
-					t.Errorf("%v d=%d iso=%v r[%d]: analytic %.8g, finite difference %.8g", c.kern, c.d, c.iso, k, g[k], fd)
-				}
-			}
+			checkReducedGradient(t, o, th, fmt.Sprintf("%v d=%d iso=%v", c.kern, c.d, c.iso))
 		}
 	}
 }
@@ -279,6 +252,28 @@ func TestProfiledMeanIsBest(t *testing.T) {
 		}
 		if lo, hi := at(m-0.01), at(m+0.01); lo < fp || hi < fp {
 			t.Errorf("mean %.4f is not the best: %.10g there, %.10g and %.10g a hundredth either side", m, fp, lo, hi)
+		}
+	}
+}
+
+// checkReducedGradient checks the optimiser's gradient over o's reduced
+// vector at θ = th (eval's, folded) against central finite differences of
+// the objective (step 1e-6, tolerance 1e-4 relative to the gradient's
+// size).
+func checkReducedGradient(t *testing.T, o *objective, th []float64, label string) {
+	t.Helper()
+	r, expand, fold := o.reduce(th)
+	full, g := make([]float64, len(th)), make([]float64, len(r))
+	o.eval(expand(r), full)
+	fold(g, full)
+	const h = 1e-6
+	for k := range r {
+		rp, rm := slices.Clone(r), slices.Clone(r)
+		rp[k] += h
+		rm[k] -= h
+		fd := (o.eval(expand(rp), nil) - o.eval(expand(rm), nil)) / (2 * h)
+		if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
+			t.Errorf("%s r[%d]: analytic %.8g, finite difference %.8g", label, k, g[k], fd)
 		}
 	}
 }
