@@ -18,21 +18,24 @@ func LogMaxValueEntropy(mean, sd float64, minima []float64) float64 {
 	if !(sd > 0) || math.IsNaN(mean) || len(minima) == 0 {
 		return math.Inf(-1)
 	}
-	top := math.Inf(-1)
-	terms := make([]float64, 0, 32)
+	// ln of the mean of the terms, summed relative to the largest so far
+	// (a running log-sum-exp), so that no term underflows.
+	top, sum := math.Inf(-1), 0.0
 	for _, m := range minima {
 		t := logMESTerm((mean - m) / sd)
-		terms = append(terms, t)
-		top = math.Max(top, t)
+		switch {
+		case math.IsInf(t, -1): // a NaN draw: it adds nothing
+		case t > top:
+			sum = sum*math.Exp(top-t) + 1
+			top = t
+		default:
+			sum += math.Exp(t - top)
+		}
 	}
-	if math.IsInf(top, -1) || math.IsNaN(top) {
-		return math.Inf(-1)
+	if math.IsInf(top, -1) {
+		return top
 	}
-	var s float64
-	for _, t := range terms {
-		s += math.Exp(t - top)
-	}
-	return top + math.Log(s/float64(len(minima)))
+	return top + math.Log(sum/float64(len(minima)))
 }
 
 // logMESTerm is ln h(γ), h(γ) = γφ(γ)/(2Φ(γ)) − ln Φ(γ) ≥ 0, the entropy a
