@@ -34,8 +34,9 @@ func (entropy) choose(ctx context.Context, s *situation) (choice, error) {
 	if err != nil {
 		return choice{}, fmt.Errorf("planner: draws of the minimum: %w", err)
 	}
-	// A draw's minimum over a finite set lies above the path's own; none
-	// is allowed above the best run's mean, which the minimum cannot be.
+	// A draw's minimum over a finite set lies above the path's own, so
+	// each is capped at the best run's mean, which the minimum cannot
+	// exceed.
 	minima := make([]float64, entropyDraws)
 	for k := range minima {
 		minima[k] = s.best
