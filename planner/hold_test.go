@@ -81,7 +81,11 @@ func TestHoldFitBetweenRefits(t *testing.T) {
 	}
 
 	// Another kernel in the configuration: the previous model is not used.
-	q := New(cc, func() Config { c := cfg; c.Kernel = "matern52"; return c }())
+	other := "matern52"
+	if cfg.Kernel == other {
+		other = "matern32"
+	}
+	q := New(cc, func() Config { c := cfg; c.Kernel = other; return c }())
 	ft, err := q.fit(trials[:41], nil, surrogate(first), rand.New(rand.NewPCG(1, 1)))
 	if err != nil {
 		t.Fatal(err)

@@ -114,6 +114,7 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 		asides = nil
 		cfg := Default()
 		cfg.SetAside = setAside
+		cfg.Kernel = "matern32" // the kernel seed 7 was chosen with (below)
 		p := New(cc, cfg)
 		var trials []campaign.Trial
 		var warm *gp.Params
