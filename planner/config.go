@@ -142,9 +142,6 @@ func (c Config) Validate() campaign.Problems {
 	default:
 		ps.Add("front.acquisition", "must be %s or %s, got %q", FrontHypervolume, FrontScalarised, c.Front.Acquisition)
 	}
-	if _, err := gp.ParseKernel(c.Front.Kernel); err != nil {
-		ps.Add("front.kernel", "must be matern32, matern52 or squared_exponential, got %q", c.Front.Kernel)
-	}
 	if c.ThompsonEvery < 0 {
 		ps.Add("thompson_every", "must be 0 (never) or a whole number of runs, got %d", c.ThompsonEvery)
 	}
@@ -169,8 +166,10 @@ func (c Config) Validate() campaign.Problems {
 	if c.FitStarts < 0 {
 		ps.Add("fit_starts", "must not be negative, got %d", c.FitStarts)
 	}
-	if _, err := gp.ParseKernel(c.Kernel); err != nil {
-		ps.Add("kernel", "must be matern32, matern52 or squared_exponential, got %q", c.Kernel)
+	for _, k := range []struct{ key, name string }{{"kernel", c.Kernel}, {"front.kernel", c.Front.Kernel}} {
+		if _, err := gp.ParseKernel(k.name); err != nil {
+			ps.Add(k.key, "must be matern32, matern52 or squared_exponential, got %q", k.name)
+		}
 	}
 	if c.NoiseSD < 0 || math.IsNaN(c.NoiseSD) || math.IsInf(c.NoiseSD, 0) {
 		ps.Add("noise_sd", "must be 0 (learn the noise) or a positive number, got %v", c.NoiseSD)

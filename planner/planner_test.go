@@ -216,6 +216,7 @@ func TestLogTransform(t *testing.T) {
 func TestConfigValidate(t *testing.T) {
 	c := Default()
 	c.Kernel = "cubic"
+	c.Front.Kernel = "cubic"
 	c.NoiseSD = -1
 	c.Candidates = 5
 	c.Shortlist = 1.5
@@ -223,7 +224,7 @@ func TestConfigValidate(t *testing.T) {
 	for _, p := range c.Validate() {
 		keys[p.Key] = true
 	}
-	for _, k := range []string{"kernel", "noise_sd", "candidates", "shortlist"} {
+	for _, k := range []string{"kernel", "front.kernel", "noise_sd", "candidates", "shortlist"} {
 		if !keys[k] {
 			t.Errorf("no problem for %s", k)
 		}
