@@ -26,11 +26,7 @@ type entropy struct{}
 
 func (entropy) choose(ctx context.Context, s *situation) (choice, error) {
 	cands := s.p.jointCandidates(s.around, s.around, s.rng)
-	xs := make([][]float64, len(cands))
-	for i, u := range cands {
-		xs[i] = s.p.encode(u)
-	}
-	draws, _, err := s.model.Sample(xs, entropyDraws, s.rng)
+	draws, _, err := s.model.Sample(encodeAll(s.p, cands), entropyDraws, s.rng)
 	if err != nil {
 		return choice{}, fmt.Errorf("planner: draws of the minimum: %w", err)
 	}

@@ -116,10 +116,7 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 		around = append(around, p.space.ToUnit(nil, req.Trials[i].Point))
 	}
 	score := scorer{exact: func(us [][]float64, out []float64) {
-		enc := make([][]float64, len(us))
-		for j, u := range us {
-			enc[j] = p.encode(u)
-		}
+		enc := encodeAll(p, us)
 		mu := make([][]float64, k)
 		sd := make([][]float64, k)
 		for i, m := range models {

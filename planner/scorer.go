@@ -94,16 +94,9 @@ func (s scorer) one(u []float64) float64 {
 // confidence bound), the scorer has a bound: f at the mean and an upper
 // bound of the standard deviation (gp.Model.MeanBound), O(N) a point.
 func (p *Planner) byModel(m *gp.Model, rising bool, f func(u []float64, mu, sd float64) float64) scorer {
-	encode := func(us [][]float64) [][]float64 {
-		enc := make([][]float64, len(us))
-		for i, u := range us {
-			enc[i] = p.encode(u)
-		}
-		return enc
-	}
 	s := scorer{exact: func(us [][]float64, out []float64) {
 		mu, v := make([]float64, len(us)), make([]float64, len(us))
-		m.PredictMany(encode(us), mu, v)
+		m.PredictMany(encodeAll(p, us), mu, v)
 		for i, u := range us {
 			out[i] = f(u, mu[i], math.Sqrt(v[i]))
 		}
@@ -111,7 +104,7 @@ func (p *Planner) byModel(m *gp.Model, rising bool, f func(u []float64, mu, sd f
 	if rising {
 		s.bound = func(us [][]float64, out []float64) {
 			mu, up := make([]float64, len(us)), make([]float64, len(us))
-			m.MeanBound(encode(us), mu, up)
+			m.MeanBound(encodeAll(p, us), mu, up)
 			for i, u := range us {
 				out[i] = f(u, mu[i], up[i])
 			}

@@ -16,6 +16,16 @@ import (
 // with k categories becomes k one-hot inputs, so that no order is imposed on
 // its categories; every other factor is its unit coordinate.
 
+// encodeAll maps unit-box points to the surrogate's inputs (encode, one
+// by one).
+func encodeAll[P ~[]float64](p *Planner, us []P) [][]float64 {
+	enc := make([][]float64, len(us))
+	for i, u := range us {
+		enc[i] = p.encode(u)
+	}
+	return enc
+}
+
 // encode maps a unit-box point to the surrogate's inputs.
 func (p *Planner) encode(u []float64) []float64 {
 	if !p.hasCategorical {

@@ -124,11 +124,7 @@ func (p *Planner) stopping(ctx context.Context, f *Fitted, ei float64, rng *rand
 // factor units, from samples joint posterior draws at jointCandidates.
 func (p *Planner) locationBox(f *Fitted, samples int, rng *rand.Rand) ([][2]float64, error) {
 	cands := p.jointCandidates(f.x, byValue(f.x, f.y), rng)
-	xs := make([][]float64, len(cands))
-	for i, u := range cands {
-		xs[i] = p.encode(u)
-	}
-	draws, _, err := f.Model.Sample(xs, samples, rng)
+	draws, _, err := f.Model.Sample(encodeAll(p, cands), samples, rng)
 	if err != nil {
 		return nil, err
 	}

@@ -12,7 +12,7 @@ import "math"
 //	α = (1/K) Σ_k [ γ_k φ(γ_k) / (2 Φ(γ_k)) − ln Φ(γ_k) ],  γ_k = (mean − y*_k)/sd.
 //
 // Each term is computed in a form that neither underflows nor cancels
-// (mesTerm), so points far above every y* still rank. It returns −Inf when
+// (logMESTerm), so points far above every y* still rank. It returns −Inf when
 // sd is not positive or a value is NaN.
 func LogMaxValueEntropy(mean, sd float64, minima []float64) float64 {
 	if !(sd > 0) || math.IsNaN(mean) || len(minima) == 0 {
