@@ -179,7 +179,8 @@ type objective struct {
 	iso        bool    // one length-scale for every input
 	// profile: the constant mean is not searched for but set, at each θ,
 	// to its best value given the rest (profileMean), and θ's last entry is
-	// ignored.
+	// ignored. Fit always sets it; the joint form (false) is what the
+	// tests hold the profile to.
 	profile bool
 	sq      [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≥ i
 
