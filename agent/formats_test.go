@@ -78,3 +78,31 @@ func TestResultMatchedToOldestHandoff(t *testing.T) {
 		t.Errorf("results went to %s and %s, want %s then %s", in1.Run, in2.Run, h1.Run, h2.Run)
 	}
 }
+
+// A failed run once the model's hyperparameters are held: the next
+// proposal has the same completed runs as the last one, so the held model
+// is conditioned on no new run. That panicked in the planner (gp.Condition
+// sliced an empty block) and took the daemon down; the campaign must go
+// on to the next handoff.
+func TestFailedRunWhileTheModelIsHeld(t *testing.T) {
+	tc := newTestCampaign(t, "9", defaultLimits)
+	tc.cfg.Planner.HoldFitFrom = 4
+	events, stop := tc.start(t)
+	defer stop()
+	purities := []string{"81,5", "84,25", "79,0", "88,75", "90,5"}
+	for i := range purities {
+		h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+		tc.writeResult(t, "res_"+h.Run+".csv", resultFile(purities[i]))
+		waitFor(t, events, "an ingest", kind(record.KindIngest))
+	}
+	// Five runs: the last proposal was made on a held model.
+	h := waitFor(t, events, "a handoff", kind(record.KindHandoffOK))
+	tc.writeResult(t, "res_"+h.Run+".csv", resultFile("OVER"))
+	if in := waitFor(t, events, "an ingest", kind(record.KindIngest)); in.Failed == "" {
+		t.Fatalf("ingest %+v, want a failed run", in)
+	}
+	next := waitFor(t, events, "the handoff after the failed run", kind(record.KindHandoffOK))
+	if next.Run == h.Run {
+		t.Fatalf("handoff %+v repeats the failed run", next)
+	}
+}

@@ -71,6 +71,13 @@ func TestHoldFitBetweenRefits(t *testing.T) {
 		t.Errorf("held model's log marginal likelihood %v, conditioned from scratch %v", a, b)
 	}
 
+	// A second proposal before a new result arrives (a run still
+	// pending): the same runs again, still held (this panicked in
+	// gp.Condition, which had no new rows to add).
+	if again := fitAt(41, surrogate(next)); again.fittedAt != 40 || !equalParams(again.Model.Params(), first.Model.Params()) {
+		t.Errorf("the same 41 runs again: fitted at %d, want 40 with the same hyperparameters", again.fittedAt)
+	}
+
 	// Growth: at 44 runs (10% more than 40) they are fitted again.
 	held := next
 	for n := 42; n <= 44; n++ {

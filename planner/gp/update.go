@@ -31,7 +31,7 @@ func Condition(prev *Model, x [][]float64, y []float64) (*Model, error) {
 		panic(fmt.Sprintf("gp: condition %d inputs on a model of %d", d, prev.Dim()))
 	}
 	n0 := len(prev.x)
-	if n0 > len(x) || !samePrefix(prev.x, x) {
+	if n0 >= len(x) || !samePrefix(prev.x, x) {
 		return New(x, y, prev.p)
 	}
 	m := &Model{x: x, p: prev.p.Clone(), invLen: prev.invLen, jitter: prev.jitter}

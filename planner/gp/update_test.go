@@ -19,8 +19,10 @@ func closeTo(t *testing.T, what string, got, want, tol float64) {
 // Conditioning a model on more runs by extending its factor must give the
 // model a full factorisation gives: the same predictions and log marginal
 // likelihood, to 1e-9 relative. Cases: runs added at the end (the factor
-// is extended), a run inserted before the end (rebuilt), and duplicate
-// inputs with no noise (the new block needs jitter).
+// is extended), none added (it panicked, slicing an empty block, until
+// the new search's model came to condition on runs that may all lie in
+// regions set aside), a run inserted before the end (rebuilt), and
+// duplicate inputs with no noise (the new block needs jitter).
 func TestConditionMatchesNew(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
 	x, y := randomData(rng, 60, 3, wave, 0.05)
@@ -40,6 +42,7 @@ func TestConditionMatchesNew(t *testing.T) {
 		{"one more run", 1e-2, 59, x, y},
 		{"twenty more runs", 1e-2, 40, x, y},
 		{"from one run", 1e-2, 1, x, y},
+		{"no new run", 1e-2, 60, x, y},
 		{"a run inserted", 1e-2, 40, inserted, insertedY},
 		{"repeated inputs, no noise", 0, 40, dup, dupY},
 	} {
