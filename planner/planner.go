@@ -233,9 +233,12 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 
 // searchOutside proposes in the new search that started at run epoch,
 // outside the regions set aside: a design of its own, then a model of its
-// own runs only (with every run outside the regions kept, the set-aside
+// own runs only. (With every run outside the regions kept, the set-aside
 // basin's runs lent the new search their length scales, and 1 of 10 stuck
-// Hartmann campaigns got out instead of 9).
+// Hartmann campaigns got out instead of 9. With its hyperparameters fitted
+// to its own runs but the earlier runs outside the regions conditioned on,
+// it polished the best basin outside instead of looking further: both
+// sets of the suite lost campaigns, docs/planner-figures.md.)
 func (p *Planner) searchOutside(ctx context.Context, req Request, ft *Fitted, a *aside, epoch int, near [][]float64, rng *rand.Rand) (Result, error) {
 	if n := len(req.Trials) - epoch; n < p.nInit {
 		u := p.restartPoint(epoch, n, a, rng, near)
