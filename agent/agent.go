@@ -104,6 +104,7 @@ type Agent struct {
 	refusals   int       // consecutive gate refusals
 	planAfter  time.Time // earliest next planning attempt after an error
 	planErrs   int
+	planSince  time.Time // the first of the current run of failed proposals
 	writeAfter time.Time // earliest next handoff attempt after an error
 	writeErrs  int
 	budgetSaid bool
@@ -182,6 +183,10 @@ func (a *Agent) Run(ctx context.Context) error {
 	defer a.closeStores()
 	if err := makeReserve(a.cfg.Campaign.StateDir); err != nil {
 		a.log.Warn().Err(err).Msg("cannot set aside room for the journal")
+	}
+	// A trouble file left by an earlier agent says nothing about this one.
+	if err := clearPlanTrouble(a.cfg.Campaign.StateDir); err != nil {
+		a.log.Warn().Err(err).Msg("cannot remove the planning trouble file")
 	}
 
 	ctx, cancel := context.WithCancel(ctx)
@@ -891,10 +896,14 @@ func (a *Agent) plan(ctx context.Context) error {
 		if ctx.Err() != nil {
 			return nil
 		}
-		a.planErrs++
-		a.planAfter = a.opt.Now().Add(backoff(a.planErrs))
+		a.planFailed(err.Error())
 		a.log.Error().Err(err).Stringer("retry_in", backoff(a.planErrs)).Msg("planning failed; no setpoint written")
 		return nil
+	}
+	if a.planErrs > 0 {
+		if err := clearPlanTrouble(a.cfg.Campaign.StateDir); err != nil {
+			a.log.Warn().Err(err).Msg("cannot remove the planning trouble file")
+		}
 	}
 	a.planErrs = 0
 	if res.Fit != nil {
@@ -928,8 +937,7 @@ func (a *Agent) plan(ctx context.Context) error {
 	prop.Point = roundPoint(a.cfg.Campaign.Factors, prop.Point)
 	if v := a.planner.Violated(prop.Point); v != "" {
 		a.log.Error().Str("run", id).Str("constraint", v).Msg("planner proposed a setpoint that breaks a constraint; not recorded, no setpoint written")
-		a.planErrs++
-		a.planAfter = a.opt.Now().Add(backoff(a.planErrs))
+		a.planFailed("the planner proposed a setpoint that breaks constraint " + v)
 		return nil
 	}
 	d := a.gate.Check(prop.Setpoint, a.previous())
@@ -1056,6 +1064,23 @@ func readValues(rec parsers.Record) map[string]record.Reading {
 }
 
 // backoff is 2^(n-1) seconds, capped at five minutes.
+// planFailed counts a failed proposal, sets the time of the next attempt,
+// and writes the trouble where status and the console read it (Notices):
+// otherwise a campaign whose planner fails stops proposing with a word
+// only in the log.
+func (a *Agent) planFailed(problem string) {
+	now := a.opt.Now()
+	if a.planErrs == 0 {
+		a.planSince = now
+	}
+	a.planErrs++
+	a.planAfter = now.Add(backoff(a.planErrs))
+	pt := PlanTrouble{Problem: problem, Since: a.planSince.UTC(), Attempts: a.planErrs, Next: a.planAfter.UTC()}
+	if err := writePlanTrouble(a.cfg.Campaign.StateDir, pt); err != nil {
+		a.log.Warn().Err(err).Msg("cannot write the planning trouble file")
+	}
+}
+
 func backoff(n int) time.Duration {
 	d := time.Second << min(n-1, 9)
 	return min(d, 5*time.Minute)

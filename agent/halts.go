@@ -89,14 +89,53 @@ func ReadWatchStatus(cfg Config) ([]WatchStatus, error) {
 	return list, json.Unmarshal(b, &list)
 }
 
-// Notices says what is wrong without halting handoffs: an export folder
-// lost, file events off (only the scan finds files).
+// PlanTrouble is the planner's failure as the running agent last saw it:
+// state/planning.json exists only while proposals fail, and the agent
+// removes it when one succeeds or when it starts.
+type PlanTrouble struct {
+	Problem  string    `json:"problem"`
+	Since    time.Time `json:"since"`
+	Attempts int       `json:"attempts"`
+	Next     time.Time `json:"next"`
+}
+
+func planTroublePath(stateDir string) string { return filepath.Join(stateDir, "planning.json") }
+
+func writePlanTrouble(stateDir string, pt PlanTrouble) error {
+	b, err := json.MarshalIndent(pt, "", "  ")
+	if err != nil {
+		return err
+	}
+	return record.WriteFileAtomic(stateDir, "planning.json", b, 0o644)
+}
+
+func clearPlanTrouble(stateDir string) error {
+	if err := os.Remove(planTroublePath(stateDir)); err != nil && !errors.Is(err, os.ErrNotExist) {
+		return err
+	}
+	return nil
+}
+
+// Notices says what is wrong without halting handoffs: proposals failing
+// (no setpoint is written meanwhile), an export folder lost, file events
+// off (only the scan finds files).
 func Notices(cfg Config) []string {
+	var out []string
+	if b, err := os.ReadFile(planTroublePath(cfg.Campaign.StateDir)); err == nil {
+		var pt PlanTrouble
+		if json.Unmarshal(b, &pt) == nil {
+			tries := "1 attempt"
+			if pt.Attempts != 1 {
+				tries = fmt.Sprintf("%d attempts", pt.Attempts)
+			}
+			out = append(out, fmt.Sprintf("PROPOSALS FAILING since %s (%s): %s; no setpoint is written until the planner succeeds (next attempt %s)",
+				pt.Since.Format(time.RFC3339), tries, pt.Problem, pt.Next.Format(time.RFC3339)))
+		}
+	}
 	list, err := ReadWatchStatus(cfg)
 	if err != nil {
-		return nil
+		return out
 	}
-	var out []string
 	for _, ws := range list {
 		if !ws.OK {
 			out = append(out, fmt.Sprintf("export folder %s lost since %s: %s (looking again with back-off); handoffs to %s are held until it can be read", ws.Dir, ws.Since.Format(time.RFC3339), ws.Problem, instrumentLabel(ws.Instrument)))
