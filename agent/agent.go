@@ -1063,7 +1063,6 @@ func readValues(rec parsers.Record) map[string]record.Reading {
 	return out
 }
 
-// backoff is 2^(n-1) seconds, capped at five minutes.
 // planFailed counts a failed proposal, sets the time of the next attempt,
 // and writes the trouble where status and the console read it (Notices):
 // otherwise a campaign whose planner fails stops proposing with a word
@@ -1081,6 +1080,7 @@ func (a *Agent) planFailed(problem string) {
 	}
 }
 
+// backoff is 2^(n-1) seconds, capped at five minutes.
 func backoff(n int) time.Duration {
 	d := time.Second << min(n-1, 9)
 	return min(d, 5*time.Minute)

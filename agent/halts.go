@@ -99,14 +99,16 @@ type PlanTrouble struct {
 	Next     time.Time `json:"next"`
 }
 
-func planTroublePath(stateDir string) string { return filepath.Join(stateDir, "planning.json") }
+const planTroubleFile = "planning.json"
+
+func planTroublePath(stateDir string) string { return filepath.Join(stateDir, planTroubleFile) }
 
 func writePlanTrouble(stateDir string, pt PlanTrouble) error {
 	b, err := json.MarshalIndent(pt, "", "  ")
 	if err != nil {
 		return err
 	}
-	return record.WriteFileAtomic(stateDir, "planning.json", b, 0o644)
+	return record.WriteFileAtomic(stateDir, planTroubleFile, b, 0o644)
 }
 
 func clearPlanTrouble(stateDir string) error {
