@@ -1,6 +1,7 @@
 package planner
 
 import (
+	"fmt"
 	"math/rand/v2"
 
 	"gonum.org/v1/gonum/mat"
@@ -25,4 +26,45 @@ func LatinHypercube(n, d int, rng rand.Source) []campaign.Point {
 		out[i] = campaign.Point(mat.Row(nil, i, batch))
 	}
 	return out
+}
+
+// designPoint returns design point i, or a uniform random point once the
+// design is used up (while too few runs have completed to fit a model) or
+// where the design point breaks a constraint, skipping points to avoid.
+func (p *Planner) designPoint(i int, rng *rand.Rand, avoid [][]float64) (campaign.Point, error) {
+	if i < len(p.design) && p.feasibleUnit(p.design[i]) {
+		return p.design[i].Clone(), nil
+	}
+	const tries = 100000
+	var fallback campaign.Point
+	u := p.randomUnit(rng, tries, func(u campaign.Point) bool {
+		if !p.feasibleUnit(u) {
+			return false
+		}
+		fallback = u
+		return nearest(u, avoid) > minSpacing*minSpacing
+	})
+	switch {
+	case u != nil:
+		return u, nil
+	case fallback != nil:
+		return fallback, nil // a small discrete space: every point was tried
+	}
+	return nil, fmt.Errorf("planner: no setpoint satisfying the constraints found in %d random tries", tries)
+}
+
+// randomUnit returns the first of up to tries uniform random points of
+// the unit box, snapped to valid values, that ok accepts; nil when none
+// is.
+func (p *Planner) randomUnit(rng *rand.Rand, tries int, ok func(campaign.Point) bool) campaign.Point {
+	for t := 0; t < tries; t++ {
+		u := make(campaign.Point, p.space.Dim())
+		for k := range u {
+			u[k] = rng.Float64()
+		}
+		if u = p.snapUnit(u); ok(u) {
+			return u
+		}
+	}
+	return nil
 }
