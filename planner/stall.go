@@ -161,6 +161,13 @@ func (p *Planner) asidesOf(given []Aside) (*aside, int, error) {
 // good, a region can hold the optimum itself, set aside while progress
 // along a narrow valley was slow: on the suite's Beale, 8 campaigns of 30
 // more missed the optimum. The release is the restart's way back.)
+//
+// The search's best, for that choice, is its lowest run, gains too small
+// to count as progress included: a search that holds the best run of all
+// and polishes it has its own basin set aside, not released. (Measured
+// against the value of its last progress instead, such a search was
+// released with the reason "found nothing better than the best run", which
+// it had found, and then polished its basin again for a whole window.)
 func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
 	if !p.cfg.SetAside || len(f.x) == 0 {
 		return nil
@@ -171,9 +178,16 @@ func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
 		lo, hi = math.Min(lo, v), math.Max(hi, v)
 	}
 	best, bestAt, last := math.Inf(1), -1, 0
+	// lowest is the search's best run, counting gains too small to be
+	// progress: it decides between a release and a new region.
+	lowest := math.Inf(1)
 	for i := from; i < len(f.y); i++ {
 		lo, hi = math.Min(lo, f.y[i]), math.Max(hi, f.y[i])
-		if a.outside(p.encode(f.x[i])) && f.y[i] < best-stallGain*(hi-lo) {
+		if !a.outside(p.encode(f.x[i])) {
+			continue
+		}
+		lowest = math.Min(lowest, f.y[i])
+		if f.y[i] < best-stallGain*(hi-lo) {
 			best, bestAt, last = f.y[i], i, i
 		}
 	}
@@ -186,7 +200,7 @@ func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
 		for _, v := range f.y {
 			overall = math.Min(overall, v)
 		}
-		if best > overall {
+		if lowest > overall {
 			return &Aside{Release: true, From: n,
 				Reason: fmt.Sprintf("the search outside %d region(s) found nothing better than the best run in %d runs; released, the search goes on over the whole box", len(a.centres), n-from)}
 		}

@@ -13,8 +13,9 @@ import (
 )
 
 // stalledAfter fits a planner on the unit square to runs at g with
-// losses y and returns the region it would set aside now (nil: none).
-func stalledAfter(t *testing.T, g [][]float64, y []float64) *Aside {
+// losses y and returns the region it would set aside now, or the release
+// (nil: none), given the regions set aside before.
+func stalledAfter(t *testing.T, g [][]float64, y []float64, given ...Aside) *Aside {
 	t.Helper()
 	cc := campaign.Config{Name: "s", StateDir: "x", Seed: 1, MaxRuns: 100,
 		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
@@ -28,7 +29,73 @@ func stalledAfter(t *testing.T, g [][]float64, y []float64) *Aside {
 	if err != nil {
 		t.Fatal(err)
 	}
-	return p.stalled(ft, nil, 0)
+	a, from, err := p.asidesOf(given)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return p.stalled(ft, a, from)
+}
+
+// After a region is set aside, the new search's stall ends in a release
+// when it found nothing better than the best run of all, and in a region
+// of its own when it holds that run, even if its last gains there were
+// too small to count as progress.
+func TestReleaseOrNewRegion(t *testing.T) {
+	window := stallRuns(2)
+	// The first search: a basin at (0.3, 0.5) with best 7, set aside
+	// after run 4 + window.
+	var g [][]float64
+	var y []float64
+	for i := 0; i < 4; i++ {
+		g = append(g, []float64{0.1 * float64(i), 0.5})
+		y = append(y, 10-float64(i))
+	}
+	for i := 0; i < window; i++ {
+		g = append(g, []float64{0.3, 0.5 + 0.001*float64(i+1)})
+		y = append(y, 7)
+	}
+	first := stalledAfter(t, g, y)
+	if first == nil || first.Release {
+		t.Fatalf("the first search's stall gave %+v, want a region", first)
+	}
+	// The new search, far from the region, with a run of value v at
+	// (0.8, 0.2), then window runs beside it, each gain tiny.
+	search := func(v float64) ([][]float64, []float64) {
+		g2 := append([][]float64(nil), g...)
+		y2 := append([]float64(nil), y...)
+		g2 = append(g2, []float64{0.8, 0.2})
+		y2 = append(y2, v)
+		for i := 0; i < window; i++ {
+			g2 = append(g2, []float64{0.8 + 0.001*float64(i+1), 0.2})
+			y2 = append(y2, v-1e-6*float64(i+1))
+		}
+		return g2, y2
+	}
+	for _, c := range []struct {
+		name    string
+		v       float64
+		release bool
+	}{
+		{"worse than the best run", 8, true},
+		{"better than the best run", 5, false},
+		// Its first run only ties the best run (7); the tiny gains after
+		// it make it the best of all, though none counts as progress.
+		{"the best run by tiny gains", 7, false},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			g2, y2 := search(c.v)
+			got := stalledAfter(t, g2, y2, *first)
+			if got == nil {
+				t.Fatal("the new search's stall gave nothing")
+			}
+			if got.Release != c.release {
+				t.Errorf("release = %v (%s), want %v", got.Release, got.Reason, c.release)
+			}
+			if !c.release && (math.Abs(got.Centre[0]-0.8) > 0.01 || got.Centre[1] != 0.2) {
+				t.Errorf("new region centred at %v, want the new search's basin at (0.8, 0.2)", got.Centre)
+			}
+		})
+	}
 }
 
 func TestSetAsideAfterStall(t *testing.T) {
