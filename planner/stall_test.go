@@ -36,6 +36,16 @@ func stalledAfter(t *testing.T, g [][]float64, y []float64, given ...Aside) *Asi
 	return p.stalled(ft, a, from)
 }
 
+// descent returns four runs on the unit square, each better than the
+// last, ending at 7 at (0.3, 0.5).
+func descent() (g [][]float64, y []float64) {
+	for i := 0; i < 4; i++ {
+		g = append(g, []float64{0.1 * float64(i), 0.5})
+		y = append(y, 10-float64(i))
+	}
+	return g, y
+}
+
 // After a region is set aside, the new search's stall ends in a release
 // when it found nothing better than the best run of all, and in a region
 // of its own when it holds that run, even if its last gains there were
@@ -44,12 +54,7 @@ func TestReleaseOrNewRegion(t *testing.T) {
 	window := stallRuns(2)
 	// The first search: a basin at (0.3, 0.5) with best 7, set aside
 	// after run 4 + window.
-	var g [][]float64
-	var y []float64
-	for i := 0; i < 4; i++ {
-		g = append(g, []float64{0.1 * float64(i), 0.5})
-		y = append(y, 10-float64(i))
-	}
+	g, y := descent()
 	for i := 0; i < window; i++ {
 		g = append(g, []float64{0.3, 0.5 + 0.001*float64(i+1)})
 		y = append(y, 7)
@@ -102,12 +107,7 @@ func TestSetAsideAfterStall(t *testing.T) {
 	window := stallRuns(2)
 	// Four runs that improve, then runs that do not: the basin is set
 	// aside once window runs have passed without progress.
-	var g [][]float64
-	var y []float64
-	for i := 0; i < 4; i++ {
-		g = append(g, []float64{0.1 * float64(i), 0.5})
-		y = append(y, 10-float64(i))
-	}
+	g, y := descent()
 	for i := 0; i < window-1; i++ {
 		g = append(g, []float64{0.3, 0.5 + 0.01*float64(i+1)})
 		y = append(y, 7+1e-6) // no better than the best, 7 at (0.3, 0.5)
