@@ -44,17 +44,7 @@ func (p *Planner) maximise(ctx context.Context, score scorer, around [][]float64
 	score = score.where(p.feasibleUnit).mapped(func(u []float64) []float64 { return p.snapUnit(u) })
 	// Points near the best runs, where the optimum is likely, at two
 	// scales.
-	for _, sigma := range []float64{0.02, 0.08} {
-		for _, a := range around[:min(5, len(around))] {
-			for j := 0; j < 20; j++ {
-				c := make(campaign.Point, d)
-				for k := range c {
-					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
-				}
-				cands = append(cands, c)
-			}
-		}
-	}
+	cands = append(cands, scatter(around[:min(5, len(around))], 20, []float64{0.02, 0.08}, rng)...)
 	type scored struct {
 		u campaign.Point
 		s float64
@@ -99,6 +89,25 @@ func (p *Planner) maximise(ctx context.Context, score scorer, around [][]float64
 		}
 	}
 	return p.snapUnit(best.u), best.s, nil
+}
+
+// scatter returns per points around each centre at each scale sigma (a
+// normal step of that standard deviation in every coordinate, clamped to
+// the unit box), scale by scale, centre by centre.
+func scatter(centres [][]float64, per int, sigmas []float64, rng *rand.Rand) []campaign.Point {
+	var out []campaign.Point
+	for _, sigma := range sigmas {
+		for _, a := range centres {
+			for j := 0; j < per; j++ {
+				c := make(campaign.Point, len(a))
+				for k := range c {
+					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
+				}
+				out = append(out, c)
+			}
+		}
+	}
+	return out
 }
 
 func clampUnit(u []float64) []float64 {

@@ -3,7 +3,6 @@ package planner
 import (
 	"context"
 	"fmt"
-	"math"
 	"math/rand/v2"
 	"strings"
 
@@ -161,16 +160,8 @@ func (p *Planner) jointCandidates(runs, best [][]float64, rng *rand.Rand) []camp
 	for _, u := range runs {
 		add(u)
 	}
-	for _, sigma := range []float64{0.02, 0.06} {
-		for _, a := range best[:min(3, len(best))] {
-			for j := 0; j < 10; j++ {
-				c := make(campaign.Point, d)
-				for k := range c {
-					c[k] = math.Min(1, math.Max(0, a[k]+sigma*rng.NormFloat64()))
-				}
-				add(c)
-			}
-		}
+	for _, c := range scatter(best[:min(3, len(best))], 10, []float64{0.02, 0.06}, rng) {
+		add(c)
 	}
 	return cands
 }
