@@ -13,8 +13,10 @@ import (
 	"benchtender/planner/pareto"
 )
 
-// hviDraws is the number of joint draws of the responses behind the
-// expected hypervolume improvement at a point.
+// hviDraws is the number of draws behind the expected hypervolume
+// improvement: of the runs' true values (with noisy on), and of a point's
+// responses where there is no closed form (three or four responses, or an
+// output warp).
 const hviDraws = 32
 
 // hypervolume proposes where the expected hypervolume improvement over
@@ -83,21 +85,18 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 	// optimization of multiple noisy objectives with expected hypervolume
 	// improvement", NeurIPS; here the candidate's draw is taken
 	// independent of the runs' draw, which their joint form does not).
-	improvement := make([]func([]float64) float64, hviDraws)
+	fronts := [][][]float64{front}
 	if fp.noisy {
 		drawn, err := fp.runDraws(losses, req, fits, p, rng)
 		if err != nil {
 			return Result{}, err
 		}
-		for d := range improvement {
-			improvement[d] = fp.improvement(append(drawn[d], front[len(losses):]...), ref)
-		}
-	} else {
-		plain := fp.improvement(front, ref)
-		for d := range improvement {
-			improvement[d] = plain
+		fronts = fronts[:0]
+		for d := range drawn {
+			fronts = append(fronts, append(drawn[d], front[len(losses):]...))
 		}
 	}
+	ex := fp.expectation(fits, fronts, ref, z)
 	feasible, err := p.feasibility(fp.single(req, make([]float64, len(req.Trials))).Trials, req.Failed, rng)
 	if err != nil {
 		return Result{}, err
@@ -126,30 +125,16 @@ func (fp *FrontPlanner) hypervolume(ctx context.Context, req Request, losses [][
 				sd[i][j] = math.Sqrt(sd[i][j])
 			}
 		}
-		y := make([]float64, k)
+		m, sdj, y := make([]float64, k), make([]float64, k), make([]float64, k)
 		for j, u := range us {
 			if !farFrom(u, avoid) || (feasible != nil && feasible(u) < 0.5) {
 				out[j] = negInf
 				continue
 			}
-			// Mean improvement over the draws; where no draw improves,
-			// minus the mean distance of the draws from the region that
-			// would, so that the search still knows which way to go.
-			gain, gap := 0.0, 0.0
-			for d, zd := range z {
-				for i := range y {
-					y[i] = fits[i].loss(mu[i][j] + sd[i][j]*zd[i])
-				}
-				gain += improvement[d](y)
-				for i := range y {
-					gap += math.Max(0, y[i]-ref[i])
-				}
+			for i := range m {
+				m[i], sdj[i] = mu[i][j], sd[i][j]
 			}
-			if gain > 0 {
-				out[j] = gain / hviDraws
-			} else {
-				out[j] = -gap / hviDraws
-			}
+			out[j] = ex.at(m, sdj, y)
 		}
 	}}
 	u, s, err := p.maximise(ctx, score, around, rng)
@@ -225,6 +210,75 @@ func drawInto(draws [][][]float64, i int, ft *Fitted, xs [][]float64, rng *rand.
 		}
 	}
 	return nil
+}
+
+// expectation scores a point by its expected hypervolume improvement,
+// the mean over fronts (the runs as measured, or drawn) of the
+// improvement's expectation under the models' predictions there.
+type expectation struct {
+	fits []*Fitted
+	ref  []float64
+	// stairs, for two responses each modelled on its own scale (no output
+	// warp), gives the expectation for each front in closed form
+	// (pareto.Staircase.ExpectedImprovement).
+	stairs []*pareto.Staircase
+	// Otherwise improvement is the improvement over front d, averaged
+	// over the draws z[d] of the point's responses.
+	improvement []func([]float64) float64
+	z           [][]float64
+}
+
+// expectation prepares the scoring against fronts: one front, or one per
+// draw in z.
+func (fp *FrontPlanner) expectation(fits []*Fitted, fronts [][][]float64, ref []float64, z [][]float64) *expectation {
+	e := &expectation{fits: fits, ref: ref, z: z}
+	closed := len(fits) == 2
+	for _, ft := range fits {
+		closed = closed && !ft.w.on
+	}
+	for _, f := range fronts {
+		if closed {
+			e.stairs = append(e.stairs, pareto.NewStaircase(f, [2]float64{ref[0], ref[1]}))
+		} else {
+			e.improvement = append(e.improvement, fp.improvement(f, ref))
+		}
+	}
+	return e
+}
+
+// at is the score at a point whose responses the models predict with
+// means mu and standard deviations sd (on the modelled scale): the
+// expected improvement where it is positive; where it is not, minus the
+// mean distance of the responses from the region that would improve, so
+// that the search still knows which way to go. y is scratch of one value
+// per response.
+func (e *expectation) at(mu, sd, y []float64) float64 {
+	gain, gap := 0.0, 0.0
+	if e.stairs != nil {
+		for _, st := range e.stairs {
+			gain += st.ExpectedImprovement([2]float64{mu[0], mu[1]}, [2]float64{sd[0], sd[1]})
+		}
+		for i := range mu {
+			gap += math.Max(0, mu[i]-e.ref[i])
+		}
+		if gain > 0 {
+			return gain / float64(len(e.stairs))
+		}
+		return -gap
+	}
+	for d, zd := range e.z {
+		for i := range y {
+			y[i] = e.fits[i].loss(mu[i] + sd[i]*zd[i])
+		}
+		gain += e.improvement[d%len(e.improvement)](y)
+		for i := range y {
+			gap += math.Max(0, y[i]-e.ref[i])
+		}
+	}
+	if gain > 0 {
+		return gain / float64(len(e.z))
+	}
+	return -gap / float64(len(e.z))
 }
 
 // improvement returns the hypervolume a point of losses adds to front: a

@@ -347,3 +347,46 @@ func TestFrontHoldsEachModel(t *testing.T) {
 		t.Errorf("at 22 runs the length-scales stayed %v; want a fresh fit", params[2])
 	}
 }
+
+// TestExpectationClosedFormAgreesWithDraws checks the two scorings of a
+// point against each other: in closed form (two responses, no warp) and
+// by draws of the point's responses, with many draws.
+func TestExpectationClosedFormAgreesWithDraws(t *testing.T) {
+	fits := []*Fitted{{}, {}} // no warp: losses are the modelled values
+	fronts := [][][]float64{
+		{{0.1, 0.8}, {0.4, 0.4}, {0.7, 0.2}},
+		{{0.2, 0.7}, {0.5, 0.3}},
+	}
+	ref := []float64{1, 1}
+	rng := rand.New(rand.NewPCG(3, 4))
+	const n = 200000
+	z := make([][]float64, n)
+	for d := range z {
+		z[d] = []float64{rng.NormFloat64(), rng.NormFloat64()}
+	}
+	fp := &FrontPlanner{}
+	closed := fp.expectation(fits, fronts, ref, z)
+	drawn := &expectation{fits: fits, ref: ref, z: z}
+	for _, f := range fronts {
+		drawn.improvement = append(drawn.improvement, fp.improvement(f, ref))
+	}
+	if closed.stairs == nil || drawn.stairs != nil {
+		t.Fatal("two responses without warp should be scored in closed form")
+	}
+	y := make([]float64, 2)
+	for _, c := range []struct{ mu, sd []float64 }{
+		{[]float64{0.3, 0.5}, []float64{0.1, 0.2}},
+		{[]float64{0.6, 0.6}, []float64{0.3, 0.3}},
+		{[]float64{0.05, 0.95}, []float64{0.02, 0.05}},
+	} {
+		got, want := closed.at(c.mu, c.sd, y), drawn.at(c.mu, c.sd, y)
+		if math.Abs(got-want) > 0.01*want {
+			t.Errorf("at %v ± %v: closed form %.5f, draws %.5f", c.mu, c.sd, got, want)
+		}
+	}
+	// Far beyond the reference point both say how far: the closed form
+	// from the means, the draws from each draw.
+	if got := closed.at([]float64{3, 1.5}, []float64{0.01, 0.01}, y); math.Abs(got+2.5) > 1e-9 {
+		t.Errorf("beyond the reference: %v, want -2.5", got)
+	}
+}

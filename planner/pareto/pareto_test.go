@@ -169,3 +169,50 @@ func TestSortAndFront(t *testing.T) {
 		t.Error("Dominates is wrong on equal, better and crossing points")
 	}
 }
+
+// TestExpectedImprovementAgainstDraws checks the closed form against the
+// mean of Improvement over many draws of the point, and its limits: with
+// no spread it is Improvement at the mean; with no steps it is the
+// product of two one-response expected improvements.
+func TestExpectedImprovementAgainstDraws(t *testing.T) {
+	front := [][]float64{{0.1, 0.9}, {0.3, 0.5}, {0.35, 0.6}, {0.6, 0.2}, {0.9, 0.05}, {1.2, 0.01}}
+	s := NewStaircase(front, [2]float64{1, 1})
+	rng := rand.New(rand.NewPCG(1, 2))
+	cases := []struct{ mean, sd [2]float64 }{
+		{[2]float64{0.4, 0.4}, [2]float64{0.1, 0.2}},
+		{[2]float64{0.2, 0.3}, [2]float64{0.05, 0.05}},
+		{[2]float64{0.8, 0.9}, [2]float64{0.3, 0.1}},
+		{[2]float64{1.3, 0.5}, [2]float64{0.2, 0.4}}, // mean beyond the reference
+		{[2]float64{0.5, 0.5}, [2]float64{1, 1}},
+	}
+	const n = 400000
+	for _, c := range cases {
+		var sum, sum2 float64
+		for range n {
+			v := s.Improvement(c.mean[0]+c.sd[0]*rng.NormFloat64(), c.mean[1]+c.sd[1]*rng.NormFloat64())
+			sum, sum2 = sum+v, sum2+v*v
+		}
+		m := sum / n
+		se := math.Sqrt((sum2/n - m*m) / n)
+		got := s.ExpectedImprovement(c.mean, c.sd)
+		if math.Abs(got-m) > 4*se+1e-12 {
+			t.Errorf("mean %v sd %v: closed form %.6f, draws %.6f ± %.6f", c.mean, c.sd, got, m, se)
+		}
+	}
+	for _, m := range [][2]float64{{0.4, 0.4}, {0.2, 0.95}, {0.7, 0.1}, {1.1, 0.1}} {
+		if got, want := s.ExpectedImprovement(m, [2]float64{}), s.Improvement(m[0], m[1]); math.Abs(got-want) > 1e-12 {
+			t.Errorf("no spread at %v: %v, want Improvement %v", m, got, want)
+		}
+	}
+	empty := NewStaircase(nil, [2]float64{2, 3})
+	got := empty.ExpectedImprovement([2]float64{1, 2}, [2]float64{0.5, 0.7})
+	// E[(2 − a)⁺]·E[(3 − b)⁺] with z = 2 and 1/0.7, from the closed form
+	// of one response's expected improvement.
+	ei := func(m, sd, c float64) float64 {
+		z := (c - m) / sd
+		return sd * (z*0.5*math.Erfc(-z/math.Sqrt2) + math.Exp(-z*z/2)/math.Sqrt(2*math.Pi))
+	}
+	if want := ei(1, 0.5, 2) * ei(2, 0.7, 3); math.Abs(got-want) > 1e-12 {
+		t.Errorf("no steps: %v, want %v", got, want)
+	}
+}
