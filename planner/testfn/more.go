@@ -241,3 +241,31 @@ func Trid(d int) Function {
 		ArgMin: arg,
 	}
 }
+
+// Powell is Powell's singular function on [−4, 5]ᵈ, d a multiple of 4
+// (page powell): for each block of four factors
+//
+//	(x₁ + 10x₂)² + 5(x₃ − x₄)² + (x₂ − 2x₃)⁴ + 10(x₁ − x₄)⁴,
+//
+// a convex bowl whose Hessian is doubly singular at the minimum (Steihaug
+// and Suleiman, "Global convergence and the Powell singular function",
+// J. Global Optim.), its values spanning five orders of magnitude over the
+// box; minimum 0 at the origin. The page's domain and minimum are as we
+// recall them; the benchmarkfcns documentation (powellsingular) gives the
+// same.
+func Powell(d int) Function {
+	return Function{
+		Name:  fmt.Sprintf("powell %d", d),
+		Space: cube(d, -4, 5),
+		F: func(x []float64) float64 {
+			var s float64
+			for i := 0; i+3 < len(x); i += 4 {
+				a, b, c, e := x[i]+10*x[i+1], x[i+2]-x[i+3], x[i+1]-2*x[i+2], x[i]-x[i+3]
+				s += a*a + 5*b*b + c*c*c*c + 10*e*e*e*e
+			}
+			return s
+		},
+		Min:    0,
+		ArgMin: repeat(d, 0),
+	}
+}

@@ -159,6 +159,7 @@ func Suite() []Problem {
 		problem(StyblinskiTangMixed(), Tuning, "8 wells, one factor whole numbers"),
 		problem(Hartmann6(), Tuning, "smooth, several wells"),
 		noisy(problem(Branin(), Tuning, "smooth, three global minima")),
+		problem(Powell(8), Tuning, "singular convex bowl in 8 factors, values over five orders of magnitude"),
 
 		problem(GramacyLee(), Validation, "many wiggles, rising trend"),
 		problem(McCormick(), Validation, "smooth"),

@@ -110,7 +110,26 @@ func TestSuiteSplit(t *testing.T) {
 	for _, p := range Suite() {
 		n[p.Set]++
 	}
-	if n[Tuning] != 10 || n[Validation] != 10 || len(Suite()) != 20 {
+	if n[Tuning] != 11 || n[Validation] != 10 || len(Suite()) != 21 {
 		t.Errorf("suite split %v", n)
+	}
+}
+
+// Powell's singular function by hand: at the centre of its box, 0.5 in
+// every factor, each block of four is (0.5 + 5)² + 0 + (0.5 − 1)⁴ + 0 =
+// 30.3125; at (1, 0, 0, 1, …) each is 1 + 5 + 0 + 0.
+func TestPowellByHand(t *testing.T) {
+	f := Powell(8)
+	for _, c := range []struct {
+		x    []float64
+		want float64
+	}{
+		{repeat(8, 0.5), 2 * 30.3125},
+		{[]float64{1, 0, 0, 1, 1, 0, 0, 1}, 12},
+		{repeat(8, 0), 0},
+	} {
+		if got := f.F(c.x); math.Abs(got-c.want) > 1e-12 {
+			t.Errorf("powell 8 at %v: %v, want %v", c.x, got, c.want)
+		}
 	}
 }
