@@ -69,7 +69,8 @@ type Config struct {
 	// Warp turns on the output warping (see warp.go); default on.
 	Warp bool `toml:"warp"`
 	// SetAside moves proposals out of a basin where stallRuns runs in a
-	// row brought no progress (stall.go); default on.
+	// row brought no progress, twice as many after each release
+	// (stall.go); default on.
 	SetAside bool `toml:"set_aside"`
 	// Batch is how many runs may be in flight at once (instruments with
 	// several positions); pending runs are taken into account.

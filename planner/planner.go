@@ -195,12 +195,12 @@ func (p *Planner) Propose(ctx context.Context, req Request) (Result, error) {
 	// starts outside it (stall.go). When nothing outside the regions can
 	// be proposed (a small region to search, tight constraints), the
 	// search goes on as before and no new region is set aside.
-	a, epoch, err := p.asidesOf(req.Aside)
+	a, epoch, released, err := p.asidesOf(req.Aside)
 	if err != nil {
 		return Result{}, err
 	}
 	if req.Region == nil {
-		if na := p.stalled(ft, a, epoch); na != nil && na.Release {
+		if na := p.stalled(ft, a, epoch, stallWindow(p.encDim, released)); na != nil && na.Release {
 			res, err := p.search(ctx, req, ft, ft, nil, near, rng)
 			res.NewAside = na
 			return res, err

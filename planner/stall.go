@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 
 	"benchtender/campaign"
 )
@@ -40,6 +41,15 @@ import (
 // request, as before, regions came and went: issue 18). The planner keeps
 // no state. Progress is measured on the modelled loss before the output
 // warp, against the range of every run so far.
+//
+// That measure misfires on a bowl whose values span orders of magnitude
+// (0.1% of the range is more than a steady descent gains near the
+// bottom), so the bowl holding the optimum is set aside while it is still
+// being descended. The new search then runs down into the region's edge
+// and is released (stalled), and after each release the window doubles
+// (stallWindow): on powell 8 the campaigns that reach the optimum went
+// from 27 to 30 of 30 and their mean from 212 to 136 runs
+// (docs/planner-figures.md).
 const (
 	stallGain = 1e-3
 	// asideRadius is in length scales: a Matérn 3/2 (or 5/2) correlation
@@ -54,6 +64,22 @@ const (
 // dimensional functions reach their optimum before 15 runs pass without
 // progress.
 func stallRuns(d int) int { return max(15, 3*d) }
+
+// stallWindow is the stall window of a search that follows released
+// releases: stallRuns, doubled for each (at most 16 times). A release
+// says the basin left behind was the best the campaign knows, so the
+// next stall must last longer before it is set aside again (restart
+// schedules with budgets that grow are common practice). On a bowl the
+// stall test misfires (a steady descent gains less than stallGain of the
+// range once values span orders of magnitude), and without the doubling
+// the bowl was set aside again about 30 runs after each release (trid
+// 10 and powell 8, docs/planner-figures.md).
+func stallWindow(d, released int) int { return stallRuns(d) << min(released, 4) }
+
+// edgeShell is how far beyond a region's edge, as a share of its radius,
+// a run still counts as at the edge: a new search whose lowest run lies
+// there ran down into the basin set aside, and is released (stalled).
+const edgeShell = 1.1
 
 // Aside is a region set aside after progress stalled in it. The planner
 // decides it once (Result.NewAside); the caller records it and passes it
@@ -86,20 +112,24 @@ type aside struct {
 }
 
 // outside reports whether the surrogate input g lies outside every region.
-func (a *aside) outside(g []float64) bool {
+func (a *aside) outside(g []float64) bool { return !a.within(g, asideRadius) }
+
+// within reports whether the surrogate input g lies within radius length
+// scales of a region's centre.
+func (a *aside) within(g []float64, radius float64) bool {
 	if a == nil {
-		return true
+		return false
 	}
 	for r, c := range a.centres {
 		var s float64
 		for k := range g {
 			s += (g[k] - c[k]) * (g[k] - c[k]) * a.invLen2[r][k]
 		}
-		if s < asideRadius*asideRadius {
-			return false
+		if s < radius*radius {
+			return true
 		}
 	}
-	return true
+	return false
 }
 
 // add appends a region.
@@ -123,44 +153,46 @@ func (a *aside) with(p *Planner, r Aside) *aside {
 	return b
 }
 
-// asidesOf returns the regions given, and the first trial of the current
-// search (0 while none is set aside); nil when none is, or when the
-// config turns setting aside off. Regions that do not fit the campaign
-// (another number of inputs) are an error: they were not recorded for it.
-func (p *Planner) asidesOf(given []Aside) (*aside, int, error) {
+// asidesOf returns the regions given, the first trial of the current
+// search (0 while none is set aside) and the number of releases before
+// it; nil regions when none is set aside, or when the config turns
+// setting aside off. Regions that do not fit the campaign (another number
+// of inputs) are an error: they were not recorded for it.
+func (p *Planner) asidesOf(given []Aside) (a *aside, from, released int, err error) {
 	if !p.cfg.SetAside || len(given) == 0 {
-		return nil, 0, nil
+		return nil, 0, 0, nil
 	}
-	a := &aside{}
-	from := 0
+	a = &aside{}
 	for i, r := range given {
 		if r.Release {
 			a, from = &aside{}, max(from, r.From)
+			released++
 			continue
 		}
 		if len(r.Centre) != p.space.Dim() || len(r.Scales) != p.encDim || !r.Centre.Finite() {
-			return nil, 0, fmt.Errorf("planner: region set aside %d does not fit the campaign (%d values, %d scales)", i, len(r.Centre), len(r.Scales))
+			return nil, 0, 0, fmt.Errorf("planner: region set aside %d does not fit the campaign (%d values, %d scales)", i, len(r.Centre), len(r.Scales))
 		}
 		a.add(p, r)
 		from = max(from, r.From)
 	}
 	if len(a.centres) == 0 {
-		return nil, from, nil
+		return nil, from, released, nil
 	}
-	return a, from, nil
+	return a, from, released, nil
 }
 
 // stalled returns a new region to set aside when, among the runs of the
-// current search (from on) that lie outside every region, stallRuns runs
-// have passed since the best of them last improved by more than
-// stallGain of the losses' range; nil otherwise. When that search runs
-// outside regions already set aside and its best is still worse than the
-// best run of all, it returns a release instead: the search outside found
-// nothing better in a whole stall window, so the regions are released and
-// the campaign goes back to the whole box, best basin included. (Kept for
-// good, a region can hold the optimum itself, set aside while progress
-// along a narrow valley was slow: on the suite's Beale, 8 campaigns of 30
-// more missed the optimum. The release is the restart's way back.)
+// current search (from on) that lie outside every region, window runs
+// (stallWindow) have passed since the best of them last improved by more
+// than stallGain of the losses' range; nil otherwise. When that search
+// runs outside regions already set aside and its best is still worse than
+// the best run of all, it returns a release instead: the search outside
+// found nothing better in a whole stall window, so the regions are
+// released and the campaign goes back to the whole box, best basin
+// included. (Kept for good, a region can hold the optimum itself, set
+// aside while progress along a narrow valley was slow: on the suite's
+// Beale, 8 campaigns of 30 more missed the optimum. The release is the
+// restart's way back.)
 //
 // The search's best, for that choice, is its lowest run, gains too small
 // to count as progress included: a search that holds the best run of all
@@ -168,11 +200,17 @@ func (p *Planner) asidesOf(given []Aside) (*aside, int, error) {
 // against the value of its last progress instead, such a search was
 // released with the reason "found nothing better than the best run", which
 // it had found, and then polished its basin again for a whole window.)
-func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
+//
+// A search outside is also released, without waiting for it to stall,
+// when its lowest run, made after its design and still worse than the
+// best of all, lies at the edge of a region (within edgeShell of its
+// radius): it ran downhill into the basin set aside, which therefore
+// reaches beyond its region (on trid 10 such a search slid along the
+// edge for 40 runs before it stalled).
+func (p *Planner) stalled(f *Fitted, a *aside, from, window int) *Aside {
 	if !p.cfg.SetAside || len(f.x) == 0 {
 		return nil
 	}
-	window := stallRuns(p.encDim)
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, v := range f.y[:min(from, len(f.y))] {
 		lo, hi = math.Min(lo, v), math.Max(hi, v)
@@ -180,30 +218,32 @@ func (p *Planner) stalled(f *Fitted, a *aside, from int) *Aside {
 	best, bestAt, last := math.Inf(1), -1, 0
 	// lowest is the search's best run, counting gains too small to be
 	// progress: it decides between a release and a new region.
-	lowest := math.Inf(1)
+	lowest, lowestAt := math.Inf(1), -1
 	for i := from; i < len(f.y); i++ {
 		lo, hi = math.Min(lo, f.y[i]), math.Max(hi, f.y[i])
 		if !a.outside(p.encode(f.x[i])) {
 			continue
 		}
-		lowest = math.Min(lowest, f.y[i])
+		if f.y[i] <= lowest {
+			lowest, lowestAt = f.y[i], i
+		}
 		if f.y[i] < best-stallGain*(hi-lo) {
 			best, bestAt, last = f.y[i], i, i
 		}
 	}
 	n := len(f.y)
+	searching := a != nil && len(a.centres) > 0
+	overall := slices.Min(f.y)
+	if searching && lowest > overall && lowestAt >= from+p.nInit && a.within(p.encode(f.x[lowestAt]), edgeShell*asideRadius) {
+		return &Aside{Release: true, From: n,
+			Reason: fmt.Sprintf("the search outside %d region(s) ran down to the edge of one at run %d (%.4g, worse than the best run, %.4g): the basin set aside reaches beyond it; released, the search goes on over the whole box", len(a.centres), lowestAt+1, lowest, overall)}
+	}
 	if bestAt < 0 || n-1-last < window {
 		return nil
 	}
-	if a != nil && len(a.centres) > 0 {
-		overall := math.Inf(1)
-		for _, v := range f.y {
-			overall = math.Min(overall, v)
-		}
-		if lowest > overall {
-			return &Aside{Release: true, From: n,
-				Reason: fmt.Sprintf("the search outside %d region(s) found nothing better than the best run in %d runs; released, the search goes on over the whole box", len(a.centres), n-from)}
-		}
+	if searching && lowest > overall {
+		return &Aside{Release: true, From: n,
+			Reason: fmt.Sprintf("the search outside %d region(s) found nothing better than the best run in %d runs; released, the search goes on over the whole box", len(a.centres), n-from)}
 	}
 	return &Aside{
 		Run:    bestAt,

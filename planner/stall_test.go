@@ -29,11 +29,11 @@ func stalledAfter(t *testing.T, g [][]float64, y []float64, given ...Aside) *Asi
 	if err != nil {
 		t.Fatal(err)
 	}
-	a, from, err := p.asidesOf(given)
+	a, from, released, err := p.asidesOf(given)
 	if err != nil {
 		t.Fatal(err)
 	}
-	return p.stalled(ft, a, from)
+	return p.stalled(ft, a, from, stallWindow(p.encDim, released))
 }
 
 // descent returns four runs on the unit square, each better than the
@@ -100,6 +100,72 @@ func TestReleaseOrNewRegion(t *testing.T) {
 				t.Errorf("new region centred at %v, want the new search's basin at (0.8, 0.2)", got.Centre)
 			}
 		})
+	}
+}
+
+// A new search that runs downhill into the edge of a region set aside,
+// still worse than the best run of all, is released at once: the basin
+// set aside reaches beyond its region. One that stops short of the edge
+// goes on.
+func TestReleaseAtRegionEdge(t *testing.T) {
+	// The best run, 7 at (0.3, 0.5), and a region around it of radius
+	// asideRadius × 0.05 = 0.1 in a.
+	g, y := descent()
+	region := Aside{Centre: campaign.Point{0.3, 0.5}, Scales: []float64{0.05, 0.05}, From: len(g)}
+	// The new search: 12 runs from a = 0.6 towards the region, each
+	// better than the last, to a = 0.3 + k × 0.1, all worse than 7.
+	approach := func(k float64) ([][]float64, []float64) {
+		g2 := append([][]float64(nil), g...)
+		y2 := append([]float64(nil), y...)
+		const n = 12
+		for i := 0; i < n; i++ {
+			t := float64(i) / (n - 1)
+			g2 = append(g2, []float64{0.6 + t*(0.3+k*0.1-0.6), 0.5})
+			y2 = append(y2, 15-7*t)
+		}
+		return g2, y2
+	}
+	g2, y2 := approach(1.05)
+	got := stalledAfter(t, g2, y2, region)
+	if got == nil || !got.Release || !strings.Contains(got.Reason, "edge") {
+		t.Fatalf("a search at the region's edge gave %+v, want a release at the edge", got)
+	}
+	g2, y2 = approach(1.5)
+	if got := stalledAfter(t, g2, y2, region); got != nil {
+		t.Errorf("a search still descending half a radius from the edge gave %+v, want nothing", got)
+	}
+}
+
+// After a release, the basin must stall twice as long before it is set
+// aside again.
+func TestStallWindowDoublesAfterRelease(t *testing.T) {
+	window := stallRuns(2)
+	if stallWindow(2, 0) != window || stallWindow(2, 1) != 2*window || stallWindow(2, 9) != 16*window {
+		t.Fatalf("windows %d, %d, %d", stallWindow(2, 0), stallWindow(2, 1), stallWindow(2, 9))
+	}
+	g, y := descent()
+	given := []Aside{
+		{Centre: campaign.Point{0.3, 0.5}, Scales: []float64{0.05, 0.05}, From: len(g)},
+		{Release: true, From: len(g)},
+	}
+	// After the release: the best run's basin again, k runs without
+	// progress after the first.
+	polish := func(k int) ([][]float64, []float64) {
+		g2 := append([][]float64(nil), g...)
+		y2 := append([]float64(nil), y...)
+		for i := 0; i <= k; i++ {
+			g2 = append(g2, []float64{0.3, 0.55 + 0.001*float64(i)})
+			y2 = append(y2, 7.5)
+		}
+		return g2, y2
+	}
+	g2, y2 := polish(window)
+	if got := stalledAfter(t, g2, y2, given...); got != nil {
+		t.Errorf("%d runs without progress after a release gave %+v, want nothing yet", window, got)
+	}
+	g2, y2 = polish(2 * window)
+	if got := stalledAfter(t, g2, y2, given...); got == nil || got.Release {
+		t.Errorf("%d runs without progress after a release gave %+v, want a region", 2*window, got)
 	}
 }
 
@@ -198,7 +264,7 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 			// Every proposal keeps out of every region recorded so far,
 			// with the length scales it was recorded with, whatever the
 			// model's scales are now: a region never vanishes.
-			reg, _, err := p.asidesOf(asides)
+			reg, _, _, err := p.asidesOf(asides)
 			if err != nil {
 				t.Fatal(err)
 			}
