@@ -65,15 +65,13 @@ const (
 // progress.
 func stallRuns(d int) int { return max(15, 3*d) }
 
-// stallWindow is the stall window of a search that follows released
-// releases: stallRuns, doubled for each (at most 16 times). A release
-// says the basin left behind was the best the campaign knows, so the
-// next stall must last longer before it is set aside again (restart
-// schedules with budgets that grow are common practice). On a bowl the
-// stall test misfires (a steady descent gains less than stallGain of the
-// range once values span orders of magnitude), and without the doubling
-// the bowl was set aside again about 30 runs after each release (trid
-// 10 and powell 8, docs/planner-figures.md).
+// stallWindow is the stall window after the given number of releases:
+// stallRuns, doubled for each (at most 16 times). A release says the
+// basin left behind was the best the campaign knows, so the next stall
+// must last longer before it is set aside again (restart schedules with
+// budgets that grow are common practice). Without the doubling, a bowl
+// set aside by a misfire (above) was set aside again about 30 runs after
+// each release (trid 10, docs/planner-figures.md).
 func stallWindow(d, released int) int { return stallRuns(d) << min(released, 4) }
 
 // edgeShell is how far beyond a region's edge, as a share of its radius,
