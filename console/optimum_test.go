@@ -64,3 +64,25 @@ func TestRunRowCarriesEveryValue(t *testing.T) {
 		t.Errorf("other values %q", got)
 	}
 }
+
+// The stopping rule's description names the search elsewhere exactly
+// when the rule waits for one: a tolerance given, search_elsewhere and
+// set_aside on.
+func TestStopRuleNamesTheSearchElsewhere(t *testing.T) {
+	const search = "a search outside the best run's basin found nothing better"
+	for _, c := range []struct {
+		tolerance, elsewhere, aside, want bool
+	}{{true, true, true, true}, {true, false, true, false}, {true, true, false, false}, {false, true, true, false}} {
+		cfg := agent.DefaultConfig()
+		cfg.Campaign.MaxRuns = 40
+		cfg.Campaign.Factors = campaign.Space{{Name: "temp", Unit: "degC", Min: 20, Max: 80}}
+		if c.tolerance {
+			cfg.Planner.Stop.Tolerance = map[string]float64{"temp": 2}
+		}
+		cfg.Planner.Stop.SearchElsewhere, cfg.Planner.SetAside = c.elsewhere, c.aside
+		_, rule := stopping(cfg, &record.State{})
+		if strings.Contains(rule, search) != c.want {
+			t.Errorf("tolerance %v, search_elsewhere %v, set_aside %v: rule %q", c.tolerance, c.elsewhere, c.aside, rule)
+		}
+	}
+}

@@ -409,6 +409,9 @@ func stopping(cfg agent.Config, st *record.State) (string, string) {
 	if s.EIBelow > 0 {
 		rule = append(rule, fmt.Sprintf("expected improvement below %g %s", s.EIBelow, cfg.Campaign.Response.Unit))
 	}
+	if len(s.Tolerance) > 0 && s.SearchElsewhere && cfg.Planner.SetAside {
+		rule = append(rule, "a search outside the best run's basin found nothing better")
+	}
 	if s.ValueTolerance > 0 {
 		rule = append(rule, fmt.Sprintf("best run within %g %s of the optimum with high probability", s.ValueTolerance, cfg.Campaign.Response.Unit))
 	}

@@ -103,8 +103,10 @@ type FrontConfig struct {
 
 // StopConfig is the [planner.stop] section: proposals stop when the 90%
 // credible box of the optimum's location fits inside Tolerance for every
-// factor and the best expected improvement is below EIBelow. With no
-// tolerance the rule is off and only the budget stops a campaign.
+// factor, the best expected improvement is below EIBelow and (with
+// SearchElsewhere) a search outside the best run's basin found nothing
+// better. With no tolerance the rule is off and only the budget stops a
+// campaign.
 type StopConfig struct {
 	// Tolerance maps a factor name to the width, in its unit, within
 	// which its optimal setting need be known.
@@ -116,6 +118,12 @@ type StopConfig struct {
 	// the optimum" means for the reported probability that the best run
 	// so far is that close.
 	ValueTolerance float64 `toml:"value_tolerance"`
+	// SearchElsewhere (default on, with SetAside) also asks, before
+	// stopping, that a search outside the best run's basin came back
+	// without beating it (stop.go): the model's certainty about one
+	// basin is no evidence about the rest of the box. Off, the rule
+	// stops as soon as the model is sure, often in a local well.
+	SearchElsewhere bool `toml:"search_elsewhere"`
 	// HypervolumeBelow, for campaigns with several responses, stops
 	// proposals when the largest expected hypervolume improvement is at
 	// most this share of the front's hypervolume (0.005: half a percent);
@@ -126,7 +134,7 @@ type StopConfig struct {
 // Default returns the defaults.
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1, HoldFitFrom: 100,
-		Kernel: "matern52", Warp: true, SetAside: true, Batch: 1, Samples: 64,
+		Kernel: "matern52", Warp: true, SetAside: true, Batch: 1, Samples: 64, Stop: StopConfig{SearchElsewhere: true},
 		Front: FrontConfig{Acquisition: FrontHypervolume, Kernel: "matern32", Noisy: true}}
 }
 

@@ -2,6 +2,7 @@ package planner
 
 import (
 	"context"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"sort"
@@ -140,60 +141,125 @@ func TestCredibleBoxHoldsTheMass(t *testing.T) {
 }
 
 // The stopping rule fires once the optimum is located within the
-// tolerance and little improvement is left, and not before: on a smooth
-// bowl (minimum at 0.3, 0.6) it fires within 25 runs, with a credible box
-// that holds the true minimiser.
+// tolerance, little improvement is left and a search outside the best
+// run's basin came back without beating it, and not before: on a smooth
+// bowl (minimum at 0.3, 0.6) it waits for that search (the basin set
+// aside after a stall, then released) and fires within 70 runs, with a
+// credible box that holds the true minimiser. With search_elsewhere off
+// it fires without that search, within 25 runs.
 func TestStoppingRule(t *testing.T) {
-	cc := campaign.Config{Name: "s", StateDir: "x", Seed: 2, MaxRuns: 40,
-		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
-		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
-	cfg := Default()
-	cfg.Stop = StopConfig{Tolerance: map[string]float64{"a": 0.1, "b": 0.1}, EIBelow: 1e-3, ValueTolerance: 0.01}
-	p := New(cc, cfg)
-	f := func(x campaign.Point) float64 { return (x[0]-0.3)*(x[0]-0.3) + (x[1]-0.6)*(x[1]-0.6) }
-	var trials []campaign.Trial
-	for i := 0; i < 25; i++ {
-		res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials})
-		if err != nil {
-			t.Fatal(err)
-		}
-		if i >= 4 {
-			checkStopTests(t, res.Stopping, res.Stop != "")
-		}
-		if res.Stop != "" {
-			if i < 8 {
-				t.Fatalf("stopped after %d runs: %s", i, res.Stop)
+	for _, elsewhere := range []bool{true, false} {
+		t.Run(fmt.Sprintf("search_elsewhere=%v", elsewhere), func(t *testing.T) {
+			cc := campaign.Config{Name: "s", StateDir: "x", Seed: 2, MaxRuns: 80,
+				Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+				Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+			cfg := Default()
+			cfg.Stop = StopConfig{Tolerance: map[string]float64{"a": 0.1, "b": 0.1}, EIBelow: 1e-3, ValueTolerance: 0.01, SearchElsewhere: elsewhere}
+			p := New(cc, cfg)
+			f := func(x campaign.Point) float64 { return (x[0]-0.3)*(x[0]-0.3) + (x[1]-0.6)*(x[1]-0.6) }
+			limit := 25
+			if elsewhere {
+				limit = 70
 			}
-			o := res.Optimum
-			if o == nil || o.Box[0][0] > 0.3 || o.Box[0][1] < 0.3 || o.Box[1][0] > 0.6 || o.Box[1][1] < 0.6 {
-				t.Errorf("credible box %v misses the minimiser (0.3, 0.6)", o.Box)
+			var trials []campaign.Trial
+			var asides []Aside
+			released := false
+			for i := 0; i < limit; i++ {
+				res, err := p.Propose(context.Background(), Request{RunID: "R", Index: i, Trials: trials, Aside: asides})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if i >= 4 {
+					checkStopTests(t, res.Stopping, res.Stop != "", elsewhere)
+					if want := map[bool]float64{false: 0, true: 1}[released]; elsewhere && res.Stopping.Tests[3].Value != want {
+						t.Fatalf("run %d: %v searches elsewhere counted, want %v", i, res.Stopping.Tests[3].Value, want)
+					}
+				}
+				if res.Stop != "" {
+					if elsewhere && !released {
+						t.Fatalf("stopped after %d runs before any search elsewhere: %s", i, res.Stop)
+					}
+					if i < 8 {
+						t.Fatalf("stopped after %d runs: %s", i, res.Stop)
+					}
+					o := res.Optimum
+					if o == nil || o.Box[0][0] > 0.3 || o.Box[0][1] < 0.3 || o.Box[1][0] > 0.6 || o.Box[1][1] < 0.6 {
+						t.Errorf("credible box %v misses the minimiser (0.3, 0.6)", o.Box)
+					}
+					if o.BestWithin < 0.5 {
+						t.Errorf("probability the best run is within 0.01: %.2f", o.BestWithin)
+					}
+					t.Logf("stopped after %d runs: %s", i, res.Stop)
+					return
+				}
+				if na := res.NewAside; na != nil {
+					asides = append(asides, *na)
+					released = released || na.Release
+				}
+				trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: f(res.Proposal.Point)})
 			}
-			if o.BestWithin < 0.5 {
-				t.Errorf("probability the best run is within 0.01: %.2f", o.BestWithin)
-			}
-			t.Logf("stopped after %d runs: %s", i, res.Stop)
-			return
-		}
-		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: f(res.Proposal.Point)})
+			t.Fatalf("the stopping rule never fired in %d runs", limit)
+		})
 	}
-	t.Fatal("the stopping rule never fired in 25 runs")
 }
 
-// checkStopTests checks that a verdict names the improvement test and one
-// location test per factor (a and b), each with its threshold, and that
-// it says stop exactly when every test was worked out and passed.
-func checkStopTests(t *testing.T, s *Stopping, stop bool) {
+// Only a release whose regions held the best run counts as a search
+// elsewhere; a region still in force, or a release of regions elsewhere,
+// does not.
+func TestSearchedElsewhere(t *testing.T) {
+	cc := campaign.Config{Name: "s", StateDir: "x", Seed: 1, MaxRuns: 80,
+		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+	p := New(cc, Default())
+	f := &Fitted{x: [][]float64{{0.2, 0.2}, {0.7, 0.7}, {0.9, 0.1}}, y: []float64{3, 1, 2}}
+	at := func(a, b float64) Aside {
+		return Aside{Centre: campaign.Point{a, b}, Scales: []float64{0.05, 0.05}}
+	}
+	release := Aside{Release: true}
+	for _, c := range []struct {
+		name  string
+		given []Aside
+		want  int
+	}{
+		{"none", nil, 0},
+		{"the best run's basin still set aside", []Aside{at(0.7, 0.7)}, 0},
+		{"released", []Aside{at(0.7, 0.7), release}, 1},
+		{"released among others", []Aside{at(0.2, 0.2), at(0.72, 0.7), release}, 1},
+		{"another basin released", []Aside{at(0.2, 0.2), release}, 0},
+		{"the edge of the region", []Aside{at(0.79, 0.7), release}, 1},
+		{"beyond the edge", []Aside{at(0.81, 0.7), release}, 0},
+		{"twice", []Aside{at(0.7, 0.7), release, at(0.2, 0.2), release, at(0.7, 0.71), release}, 2},
+	} {
+		if got := p.searchedElsewhere(f, c.given); got != c.want {
+			t.Errorf("%s: %d searches elsewhere, want %d", c.name, got, c.want)
+		}
+	}
+}
+
+// checkStopTests checks that a verdict names the improvement test, one
+// location test per factor (a and b) and, with elsewhere, the search
+// elsewhere, each with its threshold, and that it says stop exactly when
+// every test was worked out and passed.
+func checkStopTests(t *testing.T, s *Stopping, stop, elsewhere bool) {
 	t.Helper()
-	if s == nil || len(s.Tests) != 3 {
-		t.Fatalf("stopping verdict %+v: want the improvement test and two location tests", s)
+	names := []string{"expected improvement", "optimum's location along a", "optimum's location along b"}
+	if elsewhere {
+		names = append(names, "searches outside the best run's basin that found nothing better")
+	}
+	if s == nil || len(s.Tests) != len(names) {
+		t.Fatalf("stopping verdict %+v: want the tests %q", s, names)
 	}
 	all := true
-	for i, want := range []string{"expected improvement", "optimum's location along a", "optimum's location along b"} {
+	for i, want := range names {
 		tt := s.Tests[i]
 		if tt.Name != want || tt.Threshold <= 0 {
 			t.Errorf("test %d is %+v, want %q with its threshold", i, tt, want)
 		}
-		if tt.Done && tt.Passed != (tt.Value <= tt.Threshold) {
+		pass := tt.Value <= tt.Threshold
+		if tt.AtLeast {
+			pass = tt.Value >= tt.Threshold
+		}
+		if tt.Done && tt.Passed != pass {
 			t.Errorf("test %+v: passed does not follow value and threshold", tt)
 		}
 		all = all && tt.Done && tt.Passed

@@ -313,7 +313,7 @@ func (p *Planner) summary(ctx context.Context, req Request, ft *Fitted, near [][
 	// the warping's slope at the incumbent.
 	res.EI *= ft.w.slope(best)
 	res.Best = ft.w.from(best)
-	stop, opt, err := p.stopping(ctx, ft, res.EI, rng)
+	stop, opt, err := p.stopping(ctx, ft, res.EI, req.Aside, rng)
 	if err != nil {
 		return Result{}, err
 	}

@@ -82,6 +82,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 	refit := fs.Int("refit-every", def.RefitEvery, "fit the hyperparameters from every start every this many runs, from the previous fit between")
 	candidates := fs.Int("candidates", def.Candidates, "space-filling candidates at which the acquisition is scored")
 	refine := fs.Int("refine", def.Refine, "best candidates refined by local search")
+	elsewhere := fs.Bool("search-elsewhere", def.Stop.SearchElsewhere, "with -stop, the rule waits for a search outside the best run's basin")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
@@ -89,6 +90,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 	cfg.Acquisition, cfg.Warp, cfg.Kernel, cfg.Beta, cfg.ThompsonEvery = *strategy, *warp, *kernel, *beta, *every
 	cfg.Shortlist, cfg.SetAside, cfg.RefitEvery = *shortlist, *aside, *refit
 	cfg.Candidates, cfg.Refine = *candidates, *refine
+	cfg.Stop.SearchElsewhere = *elsewhere
 	if err := cfg.Validate().Err(); err != nil {
 		return err
 	}

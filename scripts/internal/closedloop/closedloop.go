@@ -39,13 +39,14 @@ type Outcome struct {
 // Run runs the campaign of prob with seed under cfg until a run's true
 // value reaches the optimum or the budget is spent; with stop, the
 // stopping rule is on (each factor's location within 5% of its range,
-// ei_below a tenth of the problem's tolerance) and the campaign goes on
+// ei_below a tenth of the problem's tolerance, search_elsewhere as cfg
+// has it) and the campaign goes on
 // after the optimum until the rule fires. each, when not nil, is called
 // after every run.
 func Run(ctx context.Context, prob testfn.Problem, seed uint64, cfg planner.Config, stop bool, each func(Step)) (Outcome, error) {
 	f := prob.Instance(seed)
 	if stop {
-		cfg.Stop = planner.StopConfig{Tolerance: map[string]float64{}, EIBelow: prob.Tol / 10}
+		cfg.Stop = planner.StopConfig{Tolerance: map[string]float64{}, EIBelow: prob.Tol / 10, SearchElsewhere: cfg.Stop.SearchElsewhere}
 		for _, fa := range f.Space {
 			cfg.Stop.Tolerance[fa.Name] = 0.05 * (fa.Max - fa.Min)
 		}
