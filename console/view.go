@@ -169,6 +169,10 @@ type Model struct {
 	LogLikelihood     float64
 	Scales            []string
 	SignalSD, NoiseSD float64
+	// Additive is planner.Diagnostics.Additive; AdditiveOn says whether the
+	// fit had it (additive on).
+	Additive          float64
+	AdditiveOn        bool
 	LOORMSE, Outside2 float64
 	Worst             []string
 	SetAside          string // agent.SetAsideNote
@@ -490,7 +494,7 @@ func (v *View) model(ctx context.Context, cfg agent.Config, st *record.State, op
 		return fmt.Errorf("no model yet: %v", err)
 	}
 	m := &Model{Kernel: d.Kernel, Units: d.Units, Runs: d.Runs, LogLikelihood: d.LogLikelihood,
-		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, LOORMSE: d.LOORMSE, Outside2: d.Outside2, SetAside: agent.SetAsideNote(st)}
+		SignalSD: d.SignalSD, NoiseSD: d.NoiseSD, Additive: d.Additive, AdditiveOn: cfg.Planner.Additive, LOORMSE: d.LOORMSE, Outside2: d.Outside2, SetAside: agent.SetAsideNote(st)}
 	for _, s := range d.LengthScales {
 		m.Scales = append(m.Scales, strings.TrimSpace(fmt.Sprintf("%s %.3g %s", s.Factor, s.Value, s.Unit)))
 	}

@@ -62,6 +62,10 @@ type Config struct {
 	// (docs/planner-figures.md, "Matérn 5/2 as the default"); Matérn 3/2
 	// had been chosen on Branin and the six-hump camel alone.
 	Kernel string `toml:"kernel"`
+	// Additive gives a share of the kernel's variance, fitted with the
+	// other hyperparameters, to one-factor additive terms (gp/additive.go);
+	// default on. Off, the kernel is the plain one.
+	Additive bool `toml:"additive"`
 	// NoiseSD, when positive, is the instrument's known repeatability (one
 	// standard deviation, in the response's unit, or of its logarithm
 	// with transform = "log"); the noise is then not fitted.
@@ -95,6 +99,9 @@ type FrontConfig struct {
 	// default (Matérn 5/2 was measured for fronts and not adopted,
 	// docs/planner-figures.md).
 	Kernel string `toml:"kernel"`
+	// Additive is Config.Additive for each response's model; default off
+	// (not measured on fronts yet).
+	Additive bool `toml:"additive"`
 	// Noisy, on by default, measures the expected hypervolume improvement
 	// against the runs' true values as the models draw them, not against
 	// their measured values (see FrontPlanner.hypervolume).
@@ -134,7 +141,7 @@ type StopConfig struct {
 // Default returns the defaults.
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1, HoldFitFrom: 100,
-		Kernel: "matern52", Warp: true, SetAside: true, Batch: 1, Samples: 64, Stop: StopConfig{SearchElsewhere: true},
+		Kernel: "matern52", Additive: true, Warp: true, SetAside: true, Batch: 1, Samples: 64, Stop: StopConfig{SearchElsewhere: true},
 		Front: FrontConfig{Acquisition: FrontHypervolume, Kernel: "matern32", Noisy: true}}
 }
 
@@ -256,6 +263,7 @@ func (p *Planner) fitOptions(warm *gp.Params, rng *rand.Rand, runs, width int) g
 	k, _ := gp.ParseKernel(p.cfg.Kernel) // validated
 	return gp.FitOptions{Kernel: k, Starts: p.cfg.FitStarts, Warm: warm, Rand: rng, FixedNoise: p.cfg.NoiseSD * p.cfg.NoiseSD, NoiseFloor: 1e-8,
 		Isotropic: sharedLength(runs, width),
+		Additive:  p.cfg.Additive,
 		// A switch from one shared length-scale to one per input is a
 		// new model: every start then.
 		WarmOnly: runs%p.cfg.RefitEvery != 0 && sharedLength(runs, width) == sharedLength(runs-1, width)}

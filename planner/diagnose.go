@@ -42,6 +42,10 @@ type Diagnostics struct {
 	LengthScales []Scale
 	// SignalSD and NoiseSD are in the model's units.
 	SignalSD, NoiseSD float64
+	// Additive is the share of the signal's variance the fit gave to
+	// one-factor effects (the additive terms, gp/additive.go); the rest
+	// is in effects of the factors together. 0 with additive off.
+	Additive float64
 	// Units names the model's units: the response's unit, "natural-log
 	// units" with transform = "log", or "warped units" when the output
 	// warping is on.
@@ -79,7 +83,7 @@ func (p *Planner) Diagnose(ctx context.Context, trials []campaign.Trial) (Diagno
 	_, scale := m.Standardisation()
 	d := Diagnostics{
 		Runs: len(trials), Kernel: par.Kernel.String(),
-		SignalSD: math.Sqrt(par.SignalVar) * scale, NoiseSD: math.Sqrt(par.NoiseVar) * scale,
+		SignalSD: math.Sqrt(par.SignalVar) * scale, NoiseSD: math.Sqrt(par.NoiseVar) * scale, Additive: par.Additive,
 		LogLikelihood: m.LogMarginalLikelihood(), Units: units,
 	}
 	off := 0

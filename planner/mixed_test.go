@@ -117,31 +117,42 @@ func trialPoints(ts []campaign.Trial) []campaign.Point {
 // results just below that edge, the next proposals stay out of the failed
 // region.
 func TestFailedRunsSteerProposalsAway(t *testing.T) {
-	cc := campaign.Config{Name: "f", StateDir: "x", Seed: 3, MaxRuns: 40, InitialRuns: 3,
-		Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
-		Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
-	p := New(cc, Default())
-	// The function decreases towards a = 1, so without the failures the
-	// planner would go there.
-	f := func(pt campaign.Point) float64 { return -2*pt[0] + 0.3*math.Sin(6*pt[1]) }
-	var trials []campaign.Trial
-	var failed []campaign.Point
-	for _, u := range LatinHypercube(24, 2, rand.NewPCG(7, 7)) {
-		pt := campaign.Point(u)
-		if pt[0] > 0.7 {
-			failed = append(failed, pt)
-		} else {
-			trials = append(trials, campaign.Trial{Point: pt, Value: f(pt)})
-		}
-	}
-	for q := 0; q < 4; q++ {
-		res, err := p.Propose(context.Background(), Request{RunID: "R", Index: 10 + q, Trials: trials, Failed: failed})
-		if err != nil {
-			t.Fatal(err)
-		}
-		if a := res.Proposal.Point[0]; a > 0.78 {
-			t.Errorf("proposal %d at a = %.3f, inside the failed region", q, a)
-		}
-		trials = append(trials, campaign.Trial{Point: res.Proposal.Point, Value: f(res.Proposal.Point)})
+	for _, additive := range []bool{true, false} {
+		t.Run(fmt.Sprintf("additive=%v", additive), func(t *testing.T) {
+			cc := campaign.Config{Name: "f", StateDir: "x", Seed: 3, MaxRuns: 40, InitialRuns: 3,
+				Factors:  campaign.Space{{Name: "a", Min: 0, Max: 1}, {Name: "b", Min: 0, Max: 1}},
+				Response: campaign.Response{Name: "y", Goal: campaign.Minimise}}
+			cfg := Default()
+			cfg.Additive = additive
+			p := New(cc, cfg)
+			// The function decreases towards a = 1, so without the
+			// failures the planner would go there.
+			f := func(pt campaign.Point) float64 { return -2*pt[0] + 0.3*math.Sin(6*pt[1]) }
+			var trials []campaign.Trial
+			var failed []campaign.Point
+			for _, u := range LatinHypercube(24, 2, rand.NewPCG(7, 7)) {
+				pt := campaign.Point(u)
+				if pt[0] > 0.7 {
+					failed = append(failed, pt)
+				} else {
+					trials = append(trials, campaign.Trial{Point: pt, Value: f(pt)})
+				}
+			}
+			for q := 0; q < 4; q++ {
+				res, err := p.Propose(context.Background(), Request{RunID: "R", Index: 10 + q, Trials: trials, Failed: failed})
+				if err != nil {
+					t.Fatal(err)
+				}
+				if a := res.Proposal.Point[0]; a > 0.78 {
+					t.Errorf("proposal %d at a = %.3f, inside the failed region", q, a)
+				}
+				// As the instrument would: a run beyond the edge fails too.
+				if pt := res.Proposal.Point; pt[0] > 0.7 {
+					failed = append(failed, pt)
+				} else {
+					trials = append(trials, campaign.Trial{Point: pt, Value: f(pt)})
+				}
+			}
+		})
 	}
 }

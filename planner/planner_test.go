@@ -181,9 +181,17 @@ func TestDiagnose(t *testing.T) {
 		pt := cc.Factors.FromUnit(nil, u)
 		trials = append(trials, campaign.Trial{Point: pt, Value: 10 * math.Sin(pt[0]/20)})
 	}
-	d, _, err := p.Diagnose(context.Background(), trials)
+	d, fitted, err := p.Diagnose(context.Background(), trials)
 	if err != nil {
 		t.Fatal(err)
+	}
+	if w := fitted.Model.Params().Additive; d.Additive != w || !(w > 0) {
+		t.Errorf("additive share reported %v, the model's %v (additive on by default)", d.Additive, w)
+	}
+	cfg := Default()
+	cfg.Additive = false
+	if off, _, err := New(cc, cfg).Diagnose(context.Background(), trials); err != nil || off.Additive != 0 {
+		t.Errorf("additive off: share %v, %v", off.Additive, err)
 	}
 	if d.LengthScales[0].Unit != "degC" || d.LengthScales[0].Value > 60 || d.LengthScales[1].Value < 1 {
 		t.Errorf("length-scales %+v: a (varies over ~20 degC) should be short, b (no effect) longer than its range", d.LengthScales)

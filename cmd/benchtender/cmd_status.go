@@ -123,6 +123,9 @@ func printModel(ctx context.Context, stdout io.Writer, cfg agent.Config, st *rec
 	}
 	fmt.Fprintf(stdout, "  length-scales: %s\n", strings.Join(scales, ", "))
 	fmt.Fprintf(stdout, "  signal sd %.3g %s, noise sd %.3g %s\n", d.SignalSD, unit, d.NoiseSD, unit)
+	if cfg.Planner.Additive {
+		fmt.Fprintf(stdout, "  %.0f%% of the signal's variance in effects of one factor at a time, the rest in effects of factors together\n", 100*d.Additive)
+	}
 	fmt.Fprintf(stdout, "  leave-one-out: RMSE %.3g %s; %.0f%% of runs beyond ±2 sd (about 5%% expected when the model fits)\n", d.LOORMSE, cfg.Campaign.Response.Unit, 100*d.Outside2)
 	worst := append([]planner.CheckPoint(nil), d.Checks...)
 	sort.Slice(worst, func(i, j int) bool { return math.Abs(worst[i].Standardised) > math.Abs(worst[j].Standardised) })

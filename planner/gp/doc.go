@@ -2,7 +2,9 @@
 // 3/2 or squared-exponential kernel with one length-scale per input (or
 // one shared by all, FitOptions.Isotropic), a signal variance and Gaussian
 // noise, fitted by maximising the log marginal likelihood (plus weak
-// priors) with analytic gradients and L-BFGS from several starts.
+// priors) with analytic gradients and L-BFGS from several starts. A share
+// of the signal variance can go to one-factor additive terms
+// (FitOptions.Additive, additive.go), fitted with the rest.
 //
 // A fitted model can be conditioned on more runs with its hyperparameters
 // held (Condition) at O(N²) a run, by extending its Cholesky factor

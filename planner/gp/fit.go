@@ -40,6 +40,9 @@ type FitOptions struct {
 	// scales apart. The returned Params still hold one length-scale per
 	// input, all equal.
 	Isotropic bool
+	// Additive fits the additive share of the kernel (additive.go) with
+	// the other hyperparameters; without it the share is 0.
+	Additive bool
 }
 
 // Weak priors on the hyperparameters, in unit-box inputs and standardised
@@ -86,6 +89,7 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 	}
 	obj := newObjective(x, z, opt.Kernel, opt.NoiseFloor)
 	obj.iso = opt.Isotropic
+	obj.additive = opt.Additive
 	obj.profile = true
 	if opt.FixedNoise > 0 {
 		obj.fixedNoise = math.Max(opt.FixedNoise/(scale*scale), opt.NoiseFloor)
@@ -103,12 +107,16 @@ func Fit(x [][]float64, y []float64, opt FitOptions) (*Model, error) {
 		if opt.Rand == nil {
 			panic("gp: FitOptions.Rand is nil but Starts > 0")
 		}
-		t := make([]float64, d+3)
+		t := obj.theta(defaultParams(opt.Kernel, d))
 		for k := 0; k < d; k++ {
 			t[k] = math.Log(0.05 + 0.95*opt.Rand.Float64())
 		}
 		t[d] = math.Log(0.5 + 1.5*opt.Rand.Float64())
 		t[d+1] = math.Log(1e-4 + 0.1*opt.Rand.Float64())
+		t[d+2] = 0
+		if obj.additive {
+			t[d+3] = -4 + 5*opt.Rand.Float64()
+		}
 		starts = append(starts, t)
 	}
 
@@ -168,8 +176,9 @@ func defaultParams(k Kernel, d int) Params {
 }
 
 // objective is the negative log posterior over θ = (ln l_1..ln l_d, ln s²,
-// ln(σ² − floor), m). The data (sq, z) are shared between clones; the
-// scratch matrices are not.
+// ln(σ² − floor), m), and with additive the logit of the additive share
+// last. The data (sq, z) are shared between clones; the scratch matrices
+// are not.
 type objective struct {
 	n, d       int
 	kern       Kernel
@@ -177,6 +186,7 @@ type objective struct {
 	floor      float64
 	fixedNoise float64 // > 0: noise is not fitted
 	iso        bool    // one length-scale for every input
+	additive   bool    // the additive share is fitted (θ's last entry)
 	// profile: the constant mean is not searched for but set, at each θ,
 	// to its best value given the rest (profileMean), and θ's last entry is
 	// ignored. Fit always sets it; the joint form (false) is what the
@@ -185,7 +195,11 @@ type objective struct {
 	sq      [][]float64 // sq[k][i*n+j] = (x_ik − x_jk)², j ≥ i
 
 	// Scratch, all n×n row major (upper triangles) or n.
-	kc, gc []float64 // k(r) and g(r) per pair, without s²
+	kc, gc []float64 // k(r) and g(r) per pair, without s² (with additive, kc is the mixture's correlation)
+	// With additive: the plain kernel's correlation per pair, and each
+	// input's own correlation and slope (k and g of |Δ_k|/l_k) per pair.
+	kf     []float64
+	ak, ag [][]float64
 	k      []float64 // s²·k(r), the matrix to factorise
 	kinv   []float64
 	c      spd
@@ -230,7 +244,7 @@ func (o *objective) lengthPriors() int {
 
 // clone returns an objective sharing o's data with scratch of its own.
 func (o *objective) clone() *objective {
-	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, iso: o.iso, profile: o.profile, sq: o.sq}
+	return &objective{n: o.n, d: o.d, kern: o.kern, z: o.z, floor: o.floor, fixedNoise: o.fixedNoise, iso: o.iso, additive: o.additive, profile: o.profile, sq: o.sq}
 }
 
 func (o *objective) scratch() {
@@ -241,16 +255,32 @@ func (o *objective) scratch() {
 	o.kc, o.gc, o.k, o.kinv = make([]float64, nn), make([]float64, nn), make([]float64, nn), make([]float64, nn)
 	o.alpha, o.resid, o.ones = make([]float64, o.n), make([]float64, o.n), make([]float64, o.n)
 	o.w, o.cw = make([]float64, o.n), make([]float64, o.n)
+	if o.additive {
+		o.kf = make([]float64, nn)
+		o.ak, o.ag = make([][]float64, o.d), make([][]float64, o.d)
+		for k := range o.ak {
+			o.ak[k], o.ag[k] = make([]float64, nn), make([]float64, nn)
+		}
+	}
 }
 
 func (o *objective) theta(p Params) []float64 {
-	t := make([]float64, o.d+3)
+	t := make([]float64, o.d+3, o.d+4)
 	for k, l := range p.LengthScales {
 		t[k] = math.Log(l)
 	}
 	t[o.d] = math.Log(p.SignalVar)
 	t[o.d+1] = math.Log(math.Max(p.NoiseVar-o.floor, 1e-12))
 	t[o.d+2] = p.Mean
+	if o.additive {
+		// A share of 0 (a fit without it) starts at the prior's centre; a
+		// tiny one no lower than logit −8, where its gradient still moves.
+		u := priorLogitAddMean
+		if w := p.Additive; w > 0 {
+			u = math.Max(-8, math.Log(w/(1-w)))
+		}
+		t = append(t, u)
+	}
 	return t
 }
 
@@ -266,7 +296,11 @@ func (o *objective) params(t []float64) Params {
 	for k := range ls {
 		ls[k] = math.Exp(t[k])
 	}
-	return Params{Kernel: o.kern, LengthScales: ls, SignalVar: math.Exp(t[o.d]), NoiseVar: o.noise(t), Mean: t[o.d+2]}
+	p := Params{Kernel: o.kern, LengthScales: ls, SignalVar: math.Exp(t[o.d]), NoiseVar: o.noise(t), Mean: t[o.d+2]}
+	if o.additive {
+		p.Additive = logistic(t[o.d+3])
+	}
+	return p
 }
 
 // inRange keeps the search where the kernel is numerically sane:
@@ -334,6 +368,9 @@ func (o *objective) compute(t []float64) float64 {
 		row := i * n
 		kc := o.kc[row+i : row+n]
 		o.kern.corrSlopeRow(kc, kc, o.gc[row+i:row+n], o.w)
+		if o.additive {
+			o.mixAdditive(i, iv, logistic(t[d+3]))
+		}
 		k := o.k[row+i : row+n]
 		for j, v := range kc {
 			k[j] = s2 * v
@@ -364,11 +401,37 @@ func (o *objective) compute(t []float64) float64 {
 	for k := 0; k < o.lengthPriors(); k++ {
 		lp += logNormal(t[k], priorLogLenMean, priorLogLenSD)
 	}
+	if o.additive {
+		lp += logNormal(t[d+3], priorLogitAddMean, priorLogitAddSD)
+	}
 	f := -(lml + lp)
 	if math.IsNaN(f) {
 		return math.Inf(1)
 	}
 	return f
+}
+
+// mixAdditive turns row i of kc (upper triangle) from the plain kernel's
+// correlations into the mixture's with additive share w, keeping the plain
+// ones in kf and each input's correlation and slope in ak and ag; iv holds
+// 1/l_k².
+func (o *objective) mixAdditive(i int, iv []float64, w float64) {
+	n := o.n
+	lo, hi := i*n+i, i*n+n
+	kc := o.kc[lo:hi]
+	copy(o.kf[lo:hi], kc)
+	for j := range kc {
+		kc[j] *= 1 - w
+	}
+	share := w / float64(o.d)
+	for k := 0; k < o.d; k++ {
+		a, g := o.ak[k][lo:hi], o.ag[k][lo:hi]
+		for j, v := range o.sq[k][lo:hi] {
+			a[j] = iv[k] * v
+		}
+		o.kern.corrSlopeRow(a, a, g, o.w)
+		axpy(share, a, kc)
+	}
 }
 
 // profileMean returns the constant mean that maximises the log posterior
@@ -416,7 +479,12 @@ func (o *objective) eval(t, grad []float64) float64 {
 	// Row by row of the upper triangle: the weights w_ij of the trace
 	// (twice off the diagonal, as the sum over the full matrix counts
 	// (i,j) and (j,i)), then one dot product per hyperparameter.
-	var gs, gn, gm float64
+	var gs, gn, gm, gu float64
+	full, share := 1.0, 0.0 // the plain kernel's share, and each input's additive one
+	if o.additive {
+		wa := logistic(t[d+3])
+		full, share = 1-wa, wa/float64(d)
+	}
 	for i := 0; i < n; i++ {
 		gm += a[i]
 		row := i * n
@@ -427,12 +495,26 @@ func (o *objective) eval(t, grad []float64) float64 {
 				v *= 2
 			}
 			w[j] = v
-			c[j] = v * o.gc[row+i+j]
+			c[j] = full * v * o.gc[row+i+j]
 		}
 		gn += w[0]
 		gs += blasDot(w, o.kc[row+i:row+n])
 		for k := 0; k < d; k++ {
 			grad[k] += blasDot(c, o.sq[k][row+i:row+n])
+		}
+		if o.additive {
+			// dc/du = (1 − w)(c − k(r)), u = logit w; and each input's
+			// additive term adds its own slope to its length scale's.
+			for j, v := range w {
+				gu += v * (o.kc[row+i+j] - o.kf[row+i+j])
+			}
+			for k := 0; k < d; k++ {
+				g := o.ag[k][row+i : row+n]
+				for j, v := range w {
+					c[j] = share * v * g[j]
+				}
+				grad[k] += blasDot(c, o.sq[k][row+i:row+n])
+			}
 		}
 	}
 	for k := 0; k < d; k++ {
@@ -447,6 +529,9 @@ func (o *objective) eval(t, grad []float64) float64 {
 		grad[d+1] = -(0.5*gn*math.Exp(t[d+1]) + dLogNormal(t[d+1], priorLogNoiseMean, priorLogNoiseSD))
 	}
 	grad[d+2] = -(gm + dLogNormal(o.mean, 0, priorMeanSD))
+	if o.additive {
+		grad[d+3] = -(0.5*gu*s2*(1-logistic(t[d+3])) + dLogNormal(t[d+3], priorLogitAddMean, priorLogitAddSD))
+	}
 	return f
 }
 
@@ -493,36 +578,44 @@ func (o *objective) minimise(t0 []float64) ([]float64, float64, error) {
 }
 
 // reduce returns the vector the optimiser works on, starting from θ = t0:
-// θ itself, or with tied length-scales (ln l, ln s², ln σ², m) with ln l
-// the mean of t0's; with profile, without the mean (expand sets it to 0,
-// and compute works it out). expand maps it back to θ, and fold turns a
-// gradient over θ into one over it (the tied length-scale's is the sum of
-// the per-input ones).
+// θ itself, or with tied length-scales (ln l, ln s², ln σ², m, …) with
+// ln l the mean of t0's; with profile, without the mean (expand sets it
+// to 0, and compute works it out). expand maps it back to θ, and fold
+// turns a gradient over θ into one over it (the tied length-scale's is
+// the sum of the per-input ones).
 func (o *objective) reduce(t0 []float64) (r0 []float64, expand func([]float64) []float64, fold func(g, full []float64)) {
 	d := o.d
 	lens := d
 	if o.iso {
 		lens = 1
 	}
-	last := len(t0)
-	if o.profile {
-		last--
+	// θ after the length-scales, without the mean when it is profiled.
+	rest := func(t []float64) []float64 {
+		if o.profile {
+			return append(slices.Clone(t[d:d+2]), t[d+3:]...)
+		}
+		return slices.Clone(t[d:])
 	}
 	if lens == 1 {
 		var l0 float64
 		for k := 0; k < d; k++ {
 			l0 += t0[k] / float64(d)
 		}
-		r0 = append([]float64{l0}, t0[d:last]...)
+		r0 = append([]float64{l0}, rest(t0)...)
 	} else {
-		r0 = slices.Clone(t0[:last])
+		r0 = append(slices.Clone(t0[:d]), rest(t0)...)
 	}
 	t := make([]float64, len(t0))
 	expand = func(r []float64) []float64 {
 		for k := 0; k < d; k++ {
 			t[k] = r[min(k, lens-1)]
 		}
-		copy(t[d:], r[lens:])
+		if o.profile {
+			copy(t[d:d+2], r[lens:lens+2])
+			copy(t[d+3:], r[lens+2:])
+		} else {
+			copy(t[d:], r[lens:])
+		}
 		return t
 	}
 	fold = func(g, full []float64) {
@@ -534,7 +627,7 @@ func (o *objective) reduce(t0 []float64) (r0 []float64, expand func([]float64) [
 		} else {
 			copy(g, full[:d])
 		}
-		copy(g[lens:], full[d:d+len(g)-lens])
+		copy(g[lens:], rest(full))
 	}
 	return r0, expand, fold
 }

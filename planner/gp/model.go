@@ -28,6 +28,10 @@ type Params struct {
 	NoiseVar float64
 	// Mean is the constant prior mean of the standardised response.
 	Mean float64
+	// Additive is the share w of the signal variance in first-order
+	// additive terms (additive.go): the correlation is
+	// (1 − w)·k(r) + w·(1/d)Σ_k k(r_k). 0 is the plain kernel.
+	Additive float64
 }
 
 // Clone returns a deep copy.
@@ -57,6 +61,9 @@ func (p Params) valid(d int) error {
 	if math.IsNaN(p.Mean) || math.IsInf(p.Mean, 0) {
 		return fmt.Errorf("gp: mean %v is not finite", p.Mean)
 	}
+	if !(p.Additive >= 0 && p.Additive < 1) {
+		return fmt.Errorf("gp: additive share %v is not in [0, 1)", p.Additive)
+	}
 	return nil
 }
 
@@ -72,6 +79,7 @@ type Model struct {
 	alpha  []float64 // (K + σ²I)⁻¹ (z − m)
 	jitter float64
 	lml    float64
+	add    *expTable // the additive terms' exponentials at the runs (additive.go)
 }
 
 // New conditions a Gaussian process with fixed parameters on inputs x (in
@@ -153,10 +161,11 @@ func (m *Model) factor() error {
 	for k, l := range m.p.LengthScales {
 		m.invLen[k] = 1 / l
 	}
+	m.prepareAdditive()
 	a := make([]float64, n*n)
 	for i := 0; i < n; i++ {
 		for j := i; j < n; j++ {
-			a[i*n+j] = m.p.SignalVar * m.p.Kernel.corr(scaledDist(m.x[i], m.x[j], m.invLen))
+			a[i*n+j] = m.p.SignalVar * m.corr(m.x[i], m.x[j])
 		}
 	}
 	jitter, err := m.c.factor(a, n, m.p.NoiseVar, m.p.SignalVar, nil)
@@ -300,12 +309,20 @@ func (m *Model) crossCov(dst []float64, x []float64) {
 		}
 		dst[i] = r2
 	}
-	// Then the kernel, a chunk at a time (corrRow's scratch on the stack).
-	s2 := m.p.SignalVar
-	var arg [64]float64
+	// Then the kernel, a chunk at a time (corrRow's scratch on the stack),
+	// with the additive terms (additive.go) mixed in the same way.
+	s2, w := m.p.SignalVar, m.p.Additive
+	share := w / float64(len(x))
+	var arg, one, sum [64]float64 // scratch for the kernel, an input's terms, their sum
 	for lo := 0; lo < len(dst); lo += len(arg) {
 		ch := dst[lo:min(lo+len(arg), len(dst))]
 		m.p.Kernel.corrRow(ch, ch, arg[:])
+		if w > 0 {
+			m.additiveRow(sum[:len(ch)], one[:len(ch)], arg[:], lo, x)
+			for j := range ch {
+				ch[j] = (1-w)*ch[j] + share*sum[j]
+			}
+		}
 		for i, v := range ch {
 			ch[i] = s2 * v
 		}
@@ -336,7 +353,7 @@ func (m *Model) PredictJoint(xs [][]float64) ([]float64, *mat.SymDense) {
 	s2 := m.yScale * m.yScale
 	for i := 0; i < q; i++ {
 		for j := i; j < q; j++ {
-			c := m.p.SignalVar*m.p.Kernel.corr(scaledDist(xs[i], xs[j], m.invLen)) - vtv.Data[i*q+j]
+			c := m.p.SignalVar*m.corr(xs[i], xs[j]) - vtv.Data[i*q+j]
 			cov.SetSym(i, j, c*s2)
 		}
 	}
@@ -352,14 +369,18 @@ func (m *Model) Covariance(a, b []float64) float64 {
 
 // LogPosterior is the objective Fit maximises, evaluated at the model's
 // hyperparameters: the log marginal likelihood plus the weak log priors
-// (fit.go), with a prior on every length-scale and the noise measured
-// above Fit's default floor. It lets two sets of hyperparameters (ours,
-// or another library's) be compared on the same objective.
+// (fit.go), with a prior on every length-scale, the noise measured above
+// Fit's default floor, and the additive share's prior when it is not 0.
+// It lets two sets of hyperparameters (ours, or another library's) be
+// compared on the same objective.
 func (m *Model) LogPosterior() float64 {
 	lp := m.lml + logNormal(math.Log(m.p.SignalVar), priorLogSigMean, priorLogSigSD) + logNormal(m.p.Mean, 0, priorMeanSD) +
 		logNormal(math.Log(math.Max(m.p.NoiseVar-1e-6, 1e-12)), priorLogNoiseMean, priorLogNoiseSD)
 	for _, l := range m.p.LengthScales {
 		lp += logNormal(math.Log(l), priorLogLenMean, priorLogLenSD)
+	}
+	if w := m.p.Additive; w > 0 {
+		lp += logNormal(math.Log(w/(1-w)), priorLogitAddMean, priorLogitAddSD)
 	}
 	return lp
 }

@@ -53,8 +53,14 @@ func (m *Model) Paths(count, features int, rng *rand.Rand) ([]*Path, error) {
 				scale = math.Sqrt(3 / chiSquare(rng, 3))
 			}
 			om := make([]float64, d)
-			for k := range om {
+			if w := m.p.Additive; w > 0 && rng.Float64() < w {
+				// A feature of one input's additive term (additive.go).
+				k := rng.IntN(d)
 				om[k] = rng.NormFloat64() * scale * m.invLen[k]
+			} else {
+				for k := range om {
+					om[k] = rng.NormFloat64() * scale * m.invLen[k]
+				}
 			}
 			p.omega[j] = om
 			p.b[j] = 2 * math.Pi * rng.Float64()
@@ -99,7 +105,7 @@ func (p *Path) At(x []float64) float64 {
 	m := p.m
 	f := p.prior(x)
 	for i, xi := range m.x {
-		f += m.p.SignalVar * m.p.Kernel.corr(scaledDist(xi, x, m.invLen)) * p.v[i]
+		f += m.p.SignalVar * m.corr(xi, x) * p.v[i]
 	}
 	return m.yMean + m.yScale*(m.p.Mean+f)
 }
@@ -124,6 +130,7 @@ func (m *Model) WithFantasies(xs [][]float64) (*Model, error) {
 		}
 		f.z = append(f.z, (m.Mean(x)-m.yMean)/m.yScale)
 	}
+	f.prepareAdditive()
 	// The factor grows by the fantasies' rows (update.go); only when
 	// they need jitter of their own is it rebuilt.
 	if !f.c.extend(&m.c, len(f.x), f.covBlock(len(m.x)), m.p.NoiseVar+m.jitter, m.p.SignalVar) {

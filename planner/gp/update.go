@@ -35,6 +35,7 @@ func Condition(prev *Model, x [][]float64, y []float64) (*Model, error) {
 		return New(x, y, prev.p)
 	}
 	m := &Model{x: x, p: prev.p.Clone(), invLen: prev.invLen, jitter: prev.jitter}
+	m.prepareAdditive()
 	m.yMean, m.yScale = standardise(y)
 	m.z = make([]float64, len(y))
 	for i, v := range y {

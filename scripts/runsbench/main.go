@@ -75,6 +75,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 	strategy := fs.String("acquisition", def.Acquisition, "proposal strategy")
 	warp := fs.Bool("warp", def.Warp, "the planner's output warping")
 	kernel := fs.String("kernel", def.Kernel, "kernel of the Gaussian process")
+	additive := fs.Bool("additive", def.Additive, "fit a share of one-factor additive terms in the kernel")
 	beta := fs.Float64("beta", def.Beta, "exploration weight of the confidence bound")
 	every := fs.Int("thompson-every", def.ThompsonEvery, "with the portfolio, one run in this many is a Thompson draw")
 	shortlist := fs.Float64("shortlist", def.Shortlist, "expected improvement's shortlist share (0: plain)")
@@ -90,7 +91,7 @@ func run(args []string, stdout, stderr io.Writer) error {
 	cfg.Acquisition, cfg.Warp, cfg.Kernel, cfg.Beta, cfg.ThompsonEvery = *strategy, *warp, *kernel, *beta, *every
 	cfg.Shortlist, cfg.SetAside, cfg.RefitEvery = *shortlist, *aside, *refit
 	cfg.Candidates, cfg.Refine = *candidates, *refine
-	cfg.Stop.SearchElsewhere = *elsewhere
+	cfg.Stop.SearchElsewhere, cfg.Additive = *elsewhere, *additive
 	if err := cfg.Validate().Err(); err != nil {
 		return err
 	}
@@ -128,8 +129,8 @@ func run(args []string, stdout, stderr io.Writer) error {
 			return err
 		}
 	}
-	fmt.Fprintf(stdout, "Runs to reach the optimum (within the tolerance), seeds %d-%d; acquisition %s (Thompson every %d), shortlist %g, set aside %v, warp %v, kernel %s, refit every %d; %s.\n\n",
-		*first, *first+uint64(*seeds)-1, cfg.Acquisition, cfg.ThompsonEvery, cfg.Shortlist, cfg.SetAside, cfg.Warp, cfg.Kernel, cfg.RefitEvery, time.Since(start).Round(time.Second))
+	fmt.Fprintf(stdout, "Runs to reach the optimum (within the tolerance), seeds %d-%d; acquisition %s (Thompson every %d), shortlist %g, set aside %v, warp %v, kernel %s, additive %v, refit every %d; %s.\n\n",
+		*first, *first+uint64(*seeds)-1, cfg.Acquisition, cfg.ThompsonEvery, cfg.Shortlist, cfg.SetAside, cfg.Warp, cfg.Kernel, cfg.Additive, cfg.RefitEvery, time.Since(start).Round(time.Second))
 	fmt.Fprintln(stdout, "| set | problem | factors | budget | mean | median | p90 | reached | random search: mean, reached | Latin hypercube: mean, reached | s per campaign |")
 	fmt.Fprintln(stdout, "| --- | --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |")
 	for _, p := range probs {

@@ -1,6 +1,7 @@
 // Command runtrace prints one closed-loop campaign of runsbench run by run:
 // each run's true value (noise, where the problem has it, goes to the
-// planner only), the best so far, how it was chosen and where,
+// planner only), the best so far, the model's additive share (gp/additive.go),
+// how it was chosen and where,
 // and every region set aside or released, with its reason. It is for
 // seeing why a campaign misses the optimum, not for counting.
 //
@@ -46,7 +47,11 @@ func main() {
 			fmt.Printf("    region: release %v, centre %.2v, length scales %.2v: %s\n", na.Release, na.Centre, na.Scales, na.Reason)
 		}
 		best = math.Min(best, st.Truth)
-		fmt.Printf("%3d %9.3f best %9.3f %-30s %.2v\n", st.Index+1, st.Truth, best, st.Result.Proposal.Method, st.Result.Proposal.Point)
+		share := "    "
+		if f := st.Result.Fit; f != nil {
+			share = fmt.Sprintf("%4.2f", f.Additive)
+		}
+		fmt.Printf("%3d %9.3f best %9.3f additive %s %-30s %.2v\n", st.Index+1, st.Truth, best, share, st.Result.Proposal.Method, st.Result.Proposal.Point)
 	})
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "runtrace:", err)
