@@ -64,7 +64,9 @@ type Config struct {
 	Kernel string `toml:"kernel"`
 	// Additive gives a share of the kernel's variance, fitted with the
 	// other hyperparameters, to one-factor additive terms (gp/additive.go);
-	// default on. Off, the kernel is the plain one.
+	// default on, for every response's model of a front too (measured on
+	// both sets of the suite and of the fronts, docs/planner-figures.md).
+	// Off, the kernel is the plain one.
 	Additive bool `toml:"additive"`
 	// NoiseSD, when positive, is the instrument's known repeatability (one
 	// standard deviation, in the response's unit, or of its logarithm
@@ -99,9 +101,6 @@ type FrontConfig struct {
 	// default (Matérn 5/2 was measured for fronts and not adopted,
 	// docs/planner-figures.md).
 	Kernel string `toml:"kernel"`
-	// Additive is Config.Additive for each response's model; default off
-	// (not measured on fronts yet).
-	Additive bool `toml:"additive"`
 	// Noisy, on by default, measures the expected hypervolume improvement
 	// against the runs' true values as the models draw them, not against
 	// their measured values (see FrontPlanner.hypervolume).

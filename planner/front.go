@@ -111,7 +111,7 @@ func NewFront(cc campaign.Config, cfg Config) *FrontPlanner {
 	one := cfg
 	one.SetAside = false
 	one.Stop = StopConfig{}
-	one.Warp, one.Kernel, one.Additive = cfg.Front.Warp, cfg.Front.Kernel, cfg.Front.Additive
+	one.Warp, one.Kernel = cfg.Front.Warp, cfg.Front.Kernel
 	fp := &FrontPlanner{method: cfg.Front.Acquisition, stopBelow: cfg.Stop.HypervolumeBelow, noisy: cfg.Front.Noisy, responses: responses, worst: worst}
 	for _, r := range responses {
 		c := cc

@@ -76,14 +76,14 @@ func run(args []string, stdout, stderr io.Writer) error {
 	stopBelow := fs.Float64("stop", 0, "turn the stopping rule on at this stop.hypervolume_below (e.g. 0.005) and stop each planner campaign when it fires")
 	warp := fs.Bool("warp", def.Front.Warp, "the output warping of each response's model")
 	kernel := fs.String("kernel", def.Front.Kernel, "kernel of the Gaussian processes")
-	additive := fs.Bool("additive", def.Front.Additive, "fit a share of one-factor additive terms in each response's kernel")
+	additive := fs.Bool("additive", def.Additive, "fit a share of one-factor additive terms in each response's kernel")
 	noisy := fs.Bool("noisy", def.Front.Noisy, "measure the expected hypervolume improvement against the runs' values as the models draw them")
 	noise := fs.Float64("noise", 0, "measurement noise: standard deviation as a share of each response's span from the front's best to the reference point (judged on true values)")
 	if err := fs.Parse(args); err != nil {
 		return err
 	}
 	cfg := def
-	cfg.Front.Warp, cfg.Front.Kernel, cfg.Front.Noisy, cfg.Front.Additive = *warp, *kernel, *noisy, *additive
+	cfg.Front.Warp, cfg.Front.Kernel, cfg.Front.Noisy, cfg.Additive = *warp, *kernel, *noisy, *additive
 	cfg.Stop.HypervolumeBelow = *stopBelow
 	var pairs []testfn.Pair
 	for _, p := range testfn.Pairs() {
