@@ -124,3 +124,24 @@ func BenchmarkCondition(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkPredictManyAdditive is BenchmarkPredictMany's 200 runs × 6
+// inputs with an additive share: the cost of the additive terms in the
+// candidates' cross-covariances.
+func BenchmarkPredictManyAdditive(b *testing.B) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	x, y := randomData(rng, 200, 6, wave, 0.01)
+	for _, w := range []float64{0, 0.3} {
+		m, err := New(x, y, Params{Kernel: Matern52, LengthScales: []float64{0.3, 0.4, 0.5, 0.3, 0.6, 0.2}, SignalVar: 1, NoiseVar: 1e-3, Additive: w})
+		if err != nil {
+			b.Fatal(err)
+		}
+		xs, _ := randomData(rng, 2000, 6, wave, 0)
+		mean, sd := make([]float64, len(xs)), make([]float64, len(xs))
+		b.Run(fmt.Sprintf("additive=%g", w), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				m.MeanBound(xs, mean, sd)
+			}
+		})
+	}
+}
