@@ -1,6 +1,7 @@
 package gp
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -23,19 +24,7 @@ func TestAdditiveGradientMatchesFiniteDifferences(t *testing.T) {
 				th[k] = -1.5 + rng.Float64()
 			}
 			th[c.d+3] = -3 + 4*rng.Float64()
-			g := make([]float64, len(th))
-			o.eval(th, g)
-			const h = 1e-6
-			for k := range th {
-				tp := append([]float64(nil), th...)
-				tm := append([]float64(nil), th...)
-				tp[k] += h
-				tm[k] -= h
-				fd := (o.eval(tp, nil) - o.eval(tm, nil)) / (2 * h)
-				if math.Abs(fd-g[k]) > 1e-4*math.Max(1, math.Abs(fd)) {
-					t.Errorf("%v d=%d θ[%d]: analytic %.8g, finite difference %.8g", c.kern, c.d, k, g[k], fd)
-				}
-			}
+			checkGradient(t, o, th, fmt.Sprintf("%v d=%d additive", c.kern, c.d))
 		}
 	}
 }

@@ -589,33 +589,43 @@ func (o *objective) reduce(t0 []float64) (r0 []float64, expand func([]float64) [
 	if o.iso {
 		lens = 1
 	}
-	// θ after the length-scales, without the mean when it is profiled.
-	rest := func(t []float64) []float64 {
+	// θ after the length-scales, without the mean when it is profiled:
+	// pack copies it out of θ, unpack back into θ.
+	pack := func(dst, t []float64) {
 		if o.profile {
-			return append(slices.Clone(t[d:d+2]), t[d+3:]...)
+			copy(dst, t[d:d+2])
+			copy(dst[2:], t[d+3:])
+		} else {
+			copy(dst, t[d:])
 		}
-		return slices.Clone(t[d:])
 	}
+	unpack := func(t, r []float64) {
+		if o.profile {
+			copy(t[d:d+2], r[:2])
+			copy(t[d+3:], r[2:])
+		} else {
+			copy(t[d:], r)
+		}
+	}
+	n := len(t0) - d
+	if o.profile {
+		n--
+	}
+	r0 = make([]float64, lens+n)
 	if lens == 1 {
-		var l0 float64
 		for k := 0; k < d; k++ {
-			l0 += t0[k] / float64(d)
+			r0[0] += t0[k] / float64(d)
 		}
-		r0 = append([]float64{l0}, rest(t0)...)
 	} else {
-		r0 = append(slices.Clone(t0[:d]), rest(t0)...)
+		copy(r0, t0[:d])
 	}
+	pack(r0[lens:], t0)
 	t := make([]float64, len(t0))
 	expand = func(r []float64) []float64 {
 		for k := 0; k < d; k++ {
 			t[k] = r[min(k, lens-1)]
 		}
-		if o.profile {
-			copy(t[d:d+2], r[lens:lens+2])
-			copy(t[d+3:], r[lens+2:])
-		} else {
-			copy(t[d:], r[lens:])
-		}
+		unpack(t, r[lens:])
 		return t
 	}
 	fold = func(g, full []float64) {
@@ -627,7 +637,7 @@ func (o *objective) reduce(t0 []float64) (r0 []float64, expand func([]float64) [
 		} else {
 			copy(g, full[:d])
 		}
-		copy(g[lens:], rest(full))
+		pack(g[lens:], full)
 	}
 	return r0, expand, fold
 }
