@@ -267,6 +267,9 @@ func checkStopTests(t *testing.T, s *Stopping, stop, elsewhere bool) {
 	if s.Stop != all || stop != all {
 		t.Errorf("verdict stop %v, result stop %v, every test passed %v: %s", s.Stop, stop, all, s)
 	}
+	if !all && !s.Tests[1].Done && !strings.Contains(s.String(), "optimum's location along a: not worked out (waits for the other tests to pass)") {
+		t.Errorf("a location test not worked out is not said so: %s", s)
+	}
 	if !strings.Contains(s.String(), "expected improvement") || !strings.Contains(s.String(), "of at most") {
 		t.Errorf("verdict says %q", s)
 	}

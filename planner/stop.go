@@ -59,7 +59,7 @@ type StopTest struct {
 	// count of searches that must have been made).
 	AtLeast bool
 	// Done is false when the test was not worked out (the location tests
-	// wait for the improvement test).
+	// wait for the improvement test and the search elsewhere).
 	Done, Passed bool
 }
 
@@ -67,7 +67,7 @@ type StopTest struct {
 // of at most 0.01 %: not met".
 func (t StopTest) String() string {
 	if !t.Done {
-		return fmt.Sprintf("%s: not worked out (waits for the expected improvement)", t.Name)
+		return fmt.Sprintf("%s: not worked out (waits for the other tests to pass)", t.Name)
 	}
 	verdict := "met"
 	if !t.Passed {
