@@ -463,3 +463,42 @@ func TestLimitsEditIsRecordedInWords(t *testing.T) {
 	}
 	waitAudit(t, tc, "temp: review max 75 degC → 70 degC")
 }
+
+// The all-stop file appears whole: a daemon that looks while the command
+// line or the console writes it never reads it empty (with a plain
+// create-then-write it recorded "(no reason written in the file)", seen
+// in a console test). Readers poll the file while it is written and
+// removed again and again.
+func TestWriteAllStopIsNeverSeenEmpty(t *testing.T) {
+	cfg := DefaultConfig()
+	cfg.Campaign.StateDir = t.TempDir()
+	path := allStopPath(cfg)
+	done := make(chan struct{})
+	empty := make(chan int, 1)
+	go func() {
+		seen := 0
+		for {
+			select {
+			case <-done:
+				empty <- seen
+				return
+			default:
+			}
+			if data, err := os.ReadFile(path); err == nil && len(data) == 0 {
+				seen++
+			}
+		}
+	}()
+	for i := 0; i < 300; i++ {
+		if _, err := WriteAllStop(cfg, "ada", "coolant leak", time.Now()); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.Remove(path); err != nil {
+			t.Fatal(err)
+		}
+	}
+	close(done)
+	if n := <-empty; n > 0 {
+		t.Errorf("the all-stop file was read empty %d times while it was written", n)
+	}
+}

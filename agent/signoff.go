@@ -280,7 +280,9 @@ func WriteAllStop(cfg Config, by, reason string, now time.Time) (string, error) 
 	}
 	file := allStopPath(cfg)
 	text := fmt.Sprintf("all-stop by %s at %s: %s\n", by, now.UTC().Format(time.RFC3339), reason)
-	if err := os.WriteFile(file, []byte(text), 0o644); err != nil {
+	// Whole or not at all: a daemon looking while a plain write was under
+	// way read the file empty and recorded the stop without its reason.
+	if err := record.WriteFileAtomic(filepath.Dir(file), filepath.Base(file), []byte(text), 0o644); err != nil {
 		return "", fmt.Errorf("all-stop: %w", err)
 	}
 	return file, nil
