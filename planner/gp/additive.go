@@ -75,7 +75,7 @@ const expLimit = 300
 // additive terms and a Matérn kernel.
 func (m *Model) prepareAdditive() {
 	m.add = nil
-	root := map[Kernel]float64{Matern52: sqrt5, Matern32: sqrt3}[m.p.Kernel]
+	root := m.p.Kernel.rate()
 	if m.p.Additive == 0 || root == 0 || len(m.x) == 0 {
 		return
 	}

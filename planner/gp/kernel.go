@@ -80,6 +80,19 @@ func (k Kernel) slope(r float64) float64 {
 	}
 }
 
+// rate returns √(2ν) of a Matérn kernel, the factor of r in its
+// exponential (√5 or √3); 0 for the squared exponential, whose exponent
+// is −r²/2.
+func (k Kernel) rate() float64 {
+	switch k {
+	case Matern52:
+		return sqrt5
+	case Matern32:
+		return sqrt3
+	}
+	return 0
+}
+
 // expRow writes into arg the exponent of the kernel's exponential for
 // each squared scaled distance of r2 (−r²/2, or −√5 r, −√3 r for the
 // Matérn kernels) and into e its exponential, the row's computed
@@ -90,10 +103,7 @@ func (k Kernel) expRow(r2, e, arg []float64) {
 			arg[j] = -0.5 * v
 		}
 	} else {
-		c := sqrt5
-		if k == Matern32 {
-			c = sqrt3
-		}
+		c := k.rate()
 		for j, v := range r2 {
 			arg[j] = -c * math.Sqrt(v)
 		}
