@@ -413,7 +413,7 @@ func stopping(cfg agent.Config, st *record.State) (string, string) {
 	if s.EIBelow > 0 {
 		rule = append(rule, fmt.Sprintf("expected improvement below %g %s", s.EIBelow, cfg.Campaign.Response.Unit))
 	}
-	if len(s.Tolerance) > 0 && s.SearchElsewhere && cfg.Planner.SetAside {
+	if len(s.Tolerance) > 0 && cfg.Planner.SearchesElsewhere() {
 		rule = append(rule, "a search outside the best run's basin found nothing better")
 	}
 	if s.ValueTolerance > 0 {

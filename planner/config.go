@@ -137,6 +137,11 @@ type StopConfig struct {
 	HypervolumeBelow float64 `toml:"hypervolume_below"`
 }
 
+// SearchesElsewhere reports whether the stopping rule waits for a search
+// outside the best run's basin: search_elsewhere asks for it, and only
+// setting aside makes such searches.
+func (c Config) SearchesElsewhere() bool { return c.SetAside && c.Stop.SearchElsewhere }
+
 // Default returns the defaults.
 func Default() Config {
 	return Config{Acquisition: AcqExpectedImprovement, Beta: 2, ThompsonEvery: 3, Shortlist: 0.3, Candidates: 2000, Refine: 5, FitStarts: 2, RefitEvery: 1, HoldFitFrom: 100,

@@ -113,7 +113,7 @@ func (p *Planner) stopping(ctx context.Context, f *Fitted, ei float64, given []A
 	for _, fa := range p.space {
 		s.Tests = append(s.Tests, StopTest{Name: "optimum's location along " + fa.Name, Threshold: c.Tolerance[fa.Name], Unit: fa.Unit})
 	}
-	elsewhere := p.cfg.SetAside && c.SearchElsewhere
+	elsewhere := p.cfg.SearchesElsewhere()
 	if elsewhere {
 		n := float64(p.searchedElsewhere(f, given))
 		s.Tests = append(s.Tests, StopTest{Name: "searches outside the best run's basin that found nothing better", Value: n, Threshold: 1,
