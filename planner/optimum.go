@@ -8,7 +8,6 @@ import (
 	"sort"
 	"sync"
 
-	"gonum.org/v1/gonum/optimize"
 	"gonum.org/v1/gonum/stat"
 
 	"benchtender/campaign"
@@ -185,17 +184,16 @@ func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int, e e
 	sort.Slice(vals, func(a, b int) bool { return vals[a].v < vals[b].v })
 	bu, bv := vals[0].u, vals[0].v
 	for _, st := range vals[:min(e.refine, len(vals))] {
-		res, _ := optimize.Minimize(optimize.Problem{Func: func(u []float64) float64 {
+		x := newSimplex(st.u, 0.02, e.evals*d, 1e-7, 10)
+		for u := x.ask(); u != nil; u = x.ask() {
 			v := at(u)
 			if math.IsInf(v, 1) {
-				return math.MaxFloat64
+				v = math.MaxFloat64
 			}
-			return v
-		}},
-			st.u, &optimize.Settings{FuncEvaluations: e.evals * d, Converger: &optimize.FunctionConverge{Absolute: 1e-7, Iterations: 10}},
-			&optimize.NelderMead{SimplexSize: 0.02})
-		if res != nil {
-			if u := p.snapUnit(res.X); at(u) < bv {
+			x.tell(v)
+		}
+		if r := x.result(); r != nil {
+			if u := p.snapUnit(r); at(u) < bv {
 				bu, bv = u, at(u)
 			}
 		}
