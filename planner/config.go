@@ -62,11 +62,12 @@ type Config struct {
 	// (docs/planner-figures.md, "Matérn 5/2 as the default"); Matérn 3/2
 	// had been chosen on Branin and the six-hump camel alone.
 	Kernel string `toml:"kernel"`
-	// Additive gives a share of the kernel's variance, fitted with the
-	// other hyperparameters, to one-factor additive terms (gp/additive.go);
-	// default on, for every response's model of a front too (measured on
-	// both sets of the suite and of the fronts, docs/planner-figures.md).
-	// Off, the kernel is the plain one.
+	// Additive gives a share of the kernel's variance to one-factor
+	// additive terms (gp/additive.go), fitted with the other
+	// hyperparameters and then chosen by leave-one-out prediction
+	// (share.go); default on, for every response's model of a front too
+	// (measured on both sets of the suite and of the fronts,
+	// docs/planner-figures.md). Off, the kernel is the plain one.
 	Additive bool `toml:"additive"`
 	// NoiseSD, when positive, is the instrument's known repeatability (one
 	// standard deviation, in the response's unit, or of its logarithm

@@ -42,7 +42,7 @@ type Diagnostics struct {
 	LengthScales []Scale
 	// SignalSD and NoiseSD are in the model's units.
 	SignalSD, NoiseSD float64
-	// Additive is the share of the signal's variance the fit gave to
+	// Additive is the share of the signal's variance the model gives to
 	// one-factor effects (the additive terms, gp/additive.go); the rest
 	// is in effects of the factors together. 0 with additive off.
 	Additive float64

@@ -71,9 +71,16 @@ func (p *Planner) fit(trials []campaign.Trial, warm *gp.Params, prev *Surrogate,
 // hyperparameters, one factorisation.
 const fitCap = 250
 
+// fitCapped fits the hyperparameters to at most fitCap of the runs. With
+// additive terms, the share is then chosen by leave-one-out prediction
+// (chooseShare), on the same runs as the fit.
 func fitCapped(x [][]float64, y []float64, opt gp.FitOptions) (*gp.Model, error) {
 	if len(x) <= fitCap {
-		return gp.Fit(x, y, opt)
+		m, err := gp.Fit(x, y, opt)
+		if err != nil || !opt.Additive {
+			return m, err
+		}
+		return chooseShare(x, y, m), nil
 	}
 	idx := fitSubset(y, fitCap)
 	sx, sy := make([][]float64, len(idx)), make([]float64, len(idx))
@@ -83,6 +90,9 @@ func fitCapped(x [][]float64, y []float64, opt gp.FitOptions) (*gp.Model, error)
 	sub, err := gp.Fit(sx, sy, opt)
 	if err != nil {
 		return nil, err
+	}
+	if opt.Additive {
+		sub = chooseShare(sx, sy, sub)
 	}
 	return gp.New(x, y, sub.Params())
 }

@@ -247,7 +247,10 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 		asides = nil
 		cfg := Default()
 		cfg.SetAside = setAside
-		cfg.Kernel = "matern32" // the kernel seed 7 was chosen with (below)
+		// The kernel seed 7 was chosen with (below): Matérn 3/2, no
+		// additive terms.
+		cfg.Kernel = "matern32"
+		cfg.Additive = false
 		p := New(cc, cfg)
 		var trials []campaign.Trial
 		var warm *gp.Params
@@ -288,7 +291,9 @@ func TestSetAsideFindsTheWell(t *testing.T) {
 	// Seed 7 is one where the model settles: over seeds 1-10 with 80
 	// runs, 2 found the well without setting aside, 8 with it (with
 	// Matérn 5/2, 2 and 7); seed 7 found it in 72 runs without and 39
-	// with.
+	// with. With the defaults of 2026-12-06 (Matérn 5/2, the additive
+	// share chosen by prediction) 0 and 3 of the ten found it, and with
+	// the share fitted by likelihood alone 3 and 5 (docs/planner-figures.md).
 	if n, _, _ := run(false); n <= cc.MaxRuns {
 		t.Fatalf("without setting aside the well was found in %d runs; the case no longer tests the mechanism", n)
 	}

@@ -19,10 +19,11 @@ import "math"
 // sum of one-factor effects it rises above 0.8, on a product it falls
 // below 0.2 (additive_test.go). Under the planner's output warp (a
 // logarithm, which turns a sum into something else) it mostly stays near
-// its prior's centre; measured, that modest share is what helps
-// (docs/planner-figures.md). At w = 0 the model is the plain kernel's,
-// value for value. Its spectral measure is the same mixture, which is how
-// pathwise draws sample it (pathwise.go).
+// its prior's centre, so the planner then chooses it again by
+// leave-one-out prediction among a few values, the other hyperparameters
+// held (planner/share.go; LOO.LogDensity). At w = 0 the model is the
+// plain kernel's, value for value. Its spectral measure is the same
+// mixture, which is how pathwise draws sample it (pathwise.go).
 
 // Weak prior on logit w: centred at w ≈ 0.12, wide (ours, not from a
 // source): interactions are assumed until the runs say otherwise. Centred

@@ -41,3 +41,16 @@ func (m *Model) LeaveOneOut() LOO {
 	}
 	return out
 }
+
+// LogDensity returns the leave-one-out log predictive density of the
+// runs, Σ_i log N(y_i; μ_−i, σ²_−i) (Rasmussen and Williams 2006, eq.
+// 5.11), in the response's units: how well the model predicts each run
+// from the others. It is NaN when the model could not be inverted.
+func (l LOO) LogDensity() float64 {
+	s := 0.0
+	for i, sd := range l.SD {
+		z := l.Standardised[i]
+		s += -0.5*z*z - math.Log(sd) - 0.5*math.Log(2*math.Pi)
+	}
+	return s
+}

@@ -6,7 +6,7 @@ import (
 	"testing"
 )
 
-// The closed-form leave-one-out predictions (Rasmussen and Williams 2006,
+// The closed-form leave-one-out predictions and their log density (Rasmussen and Williams 2006,
 // eqs. 5.10-5.12) equal refitting without each point, with the same
 // hyperparameters, to 1e-9 relative; the predictive variance includes the
 // noise.
@@ -20,6 +20,7 @@ func TestLeaveOneOutMatchesRefitting(t *testing.T) {
 	}
 	loo := m.LeaveOneOut()
 	mean, scale := m.Standardisation()
+	density := 0.0
 	for i := range x {
 		xs := append(append([][]float64(nil), x[:i]...), x[i+1:]...)
 		ys := append(append([]float64(nil), y[:i]...), y[i+1:]...)
@@ -43,7 +44,17 @@ func TestLeaveOneOutMatchesRefitting(t *testing.T) {
 		if rel(loo.Residual[i], y[i]-mu) > 1e-8 || rel(loo.Standardised[i], (y[i]-mu)/sd) > 1e-8 {
 			t.Errorf("point %d: residual %g, standardised %g", i, loo.Residual[i], loo.Standardised[i])
 		}
+		density += math.Log(normalDensity(y[i], mu, sd))
 	}
+	if got := loo.LogDensity(); rel(got, density) > 1e-9 {
+		t.Errorf("log predictive density %.12g, by refitting %.12g", got, density)
+	}
+}
+
+// normalDensity is the density of N(mu, sd²) at v.
+func normalDensity(v, mu, sd float64) float64 {
+	z := (v - mu) / sd
+	return math.Exp(-z*z/2) / (sd * math.Sqrt(2*math.Pi))
 }
 
 // Joint posterior samples have the posterior mean and covariance: with
