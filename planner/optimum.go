@@ -193,8 +193,9 @@ func (p *Planner) minimisePath(path *gp.Path, cands []campaign.Point, d int, e e
 			x.tell(v)
 		}
 		if r := x.result(); r != nil {
-			if u := p.snapUnit(r); at(u) < bv {
-				bu, bv = u, at(u)
+			u := p.snapUnit(r)
+			if v := at(u); v < bv {
+				bu, bv = u, v
 			}
 		}
 	}

@@ -43,9 +43,8 @@ type simplex struct {
 	reflF    float64
 
 	best      []float64 // the best vertex at the last iteration
-	bestF     float64
-	convBest  float64 // the value the improvement test measures against
-	convIter  int     // iterations since it improved
+	convBest  float64   // the value the improvement test measures against
+	convIter  int       // iterations since it improved
 	convFirst bool
 	done      bool
 }
@@ -66,7 +65,7 @@ const (
 // newSimplex starts a search at start (copied).
 func newSimplex(start []float64, size float64, evals int, tol float64, iters int) *simplex {
 	d := len(start)
-	s := &simplex{size: size, tol: tol, iters: iters, evals: evals, convFirst: true, bestF: math.Inf(1)}
+	s := &simplex{size: size, tol: tol, iters: iters, evals: evals, convFirst: true}
 	s.refl, s.exp, s.contr, s.shrink = 1, 1+2/float64(d), 0.75-1/(2*float64(d)), 1-1/float64(d)
 	if d == 1 {
 		s.exp, s.contr, s.shrink = 2, 0.5, 0.5
@@ -188,7 +187,6 @@ func (s *simplex) major() {
 // improvement of more than tol.
 func (s *simplex) iteration(x []float64, f float64) bool {
 	s.best = append(s.best[:0], x...)
-	s.bestF = f
 	switch {
 	case math.IsInf(f, -1):
 		s.done = true
